@@ -1,0 +1,112 @@
+"""Data types of the checks package: levels, per-channel verdicts, the frame the UI shows."""
+
+from __future__ import annotations
+
+import enum
+from dataclasses import dataclass, field
+
+from bedside.stream.types import StreamHealth
+
+
+class Level(enum.Enum):
+    """Three levels. Each has a machine key, a colour and a symbol: never colour alone."""
+
+    GOOD = ("good", "green", "●")
+    CHECK = ("check", "yellow", "▲")
+    BAD = ("bad", "red", "✖")
+
+    def __init__(self, key: str, colour: str, symbol: str) -> None:
+        self.key = key
+        self.colour = colour
+        self.symbol = symbol
+
+    @property
+    def rank(self) -> int:
+        return {"good": 0, "check": 1, "bad": 2}[self.key]
+
+    @classmethod
+    def from_key(cls, key: str) -> Level:
+        for level in cls:
+            if level.key == key:
+                return level
+        raise ValueError(f"unknown level {key!r}; accepted: good, check, bad")
+
+    @staticmethod
+    def worst(levels: list[Level]) -> Level:
+        return max(levels, key=lambda lv: lv.rank) if levels else Level.GOOD
+
+
+#: Shown instead of a level when there is no live data: never the last colour as if live.
+NO_DATA_SYMBOL = "?"
+NO_DATA_KEY = "no_data"
+
+
+@dataclass(frozen=True)
+class ChannelQuality:
+    """The verdict for one channel.
+
+    level: None when there is no live data (stream stale/lost, or not enough samples
+    yet). metrics: name → value, units in the name (e.g. "line_noise_db",
+    "rms_uv"). reasons: plain words with the number and the usual remedy.
+    """
+
+    name: str
+    level: Level | None
+    metrics: dict[str, float]
+    reasons: tuple[str, ...] = ()
+    is_scalp: bool = True
+
+    @property
+    def level_key(self) -> str:
+        return self.level.key if self.level is not None else NO_DATA_KEY
+
+    def as_dict(self) -> dict[str, object]:
+        return {
+            "name": self.name,
+            "level": self.level_key,
+            "reasons": list(self.reasons),
+            "metrics": dict(self.metrics),
+        }
+
+
+@dataclass(frozen=True)
+class Finding:
+    """Something that concerns more than one channel, or the setup as a whole.
+
+    kind: "bridge", "reference", "ground", "placement", "stream" …; electrodes:
+    the names involved (a bridge names both).
+    """
+
+    kind: str
+    electrodes: tuple[str, ...]
+    level: Level
+    reason: str
+
+    def as_dict(self) -> dict[str, object]:
+        return {
+            "kind": self.kind,
+            "electrodes": list(self.electrodes),
+            "level": self.level.key,
+            "reason": self.reason,
+        }
+
+
+@dataclass(frozen=True)
+class QualityFrame:
+    """One update of the engine: what the UI shows and the log records.
+
+    time: LSL time of the newest sample in the window (s); wall_time: time.time()
+    when the frame was made.
+    """
+
+    time: float
+    wall_time: float
+    channels: tuple[ChannelQuality, ...]
+    findings: tuple[Finding, ...]
+    stream_health: StreamHealth | None = None
+    window_s: float = 0.0
+    extras: dict[str, object] = field(default_factory=dict)
+
+    @property
+    def live(self) -> bool:
+        return self.stream_health is None or self.stream_health.state == "live"

@@ -1,0 +1,1 @@
+"""One module per ``bedside`` sub-command (see ``bedside.cli``)."""

@@ -1,0 +1,95 @@
+"""Data types of the stream package. Sample arrays are (n_samples, n_channels), in µV."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class StreamIdentity:
+    """Who a stream is: enough to pin it and to tell two beds apart."""
+
+    name: str
+    type: str
+    source_id: str
+    hostname: str
+    n_channels: int
+    nominal_rate_hz: float
+
+    def as_dict(self) -> dict[str, object]:
+        return {
+            "name": self.name,
+            "type": self.type,
+            "source_id": self.source_id,
+            "hostname": self.hostname,
+            "n_channels": self.n_channels,
+            "nominal_rate_hz": self.nominal_rate_hz,
+        }
+
+
+@dataclass(frozen=True)
+class ChannelInfo:
+    """One channel as the stream describes it, and as bedside understands it.
+
+    label: as sent by the stream; name: normalised 10-20/10-10 name (or the label
+    unchanged when unknown); kind: "EEG" for scalp channels, else "ECG", "EOG",
+    "EMG", "TRIG", "MISC", "REF"; unit: as sent ("" when missing); scale_to_uv:
+    the factor that turns the stream's values into µV; is_scalp: takes part in
+    scalp checks.
+    """
+
+    label: str
+    name: str
+    kind: str
+    unit: str
+    scale_to_uv: float
+    is_scalp: bool
+
+
+@dataclass(frozen=True)
+class Chunk:
+    """Samples in µV, shape (n_samples, n_channels), with LSL timestamps (s), shape (n_samples,)."""
+
+    samples_uv: np.ndarray
+    timestamps: np.ndarray
+
+
+StreamState = Literal["connecting", "live", "stale", "lost"]
+
+
+@dataclass(frozen=True)
+class StreamHealth:
+    """How the stream is doing right now.
+
+    state: "live" (data flowing), "stale" (no data for stale_after_s), "lost"
+    (the outlet is gone), "connecting". effective_rate_hz: measured from
+    timestamps over the recent past. gaps / dropped_samples: counted since the
+    session started, from timestamp jumps. seconds_since_data: wall-clock time
+    since the last sample arrived. clock_offset_s: LSL time correction.
+    """
+
+    state: StreamState
+    nominal_rate_hz: float
+    effective_rate_hz: float
+    gaps: int = 0
+    dropped_samples: int = 0
+    seconds_since_data: float = 0.0
+    clock_offset_s: float = 0.0
+    reconnects: int = 0
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+    def as_dict(self) -> dict[str, object]:
+        return {
+            "state": self.state,
+            "nominal_rate_hz": self.nominal_rate_hz,
+            "effective_rate_hz": self.effective_rate_hz,
+            "gaps": self.gaps,
+            "dropped_samples": self.dropped_samples,
+            "seconds_since_data": self.seconds_since_data,
+            "clock_offset_s": self.clock_offset_s,
+            "reconnects": self.reconnects,
+            "notes": list(self.notes),
+        }
