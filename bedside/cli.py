@@ -14,6 +14,7 @@ import importlib
 import logging
 import pkgutil
 import sys
+import types
 from collections.abc import Sequence
 from typing import NoReturn
 
@@ -39,10 +40,10 @@ class _Parser(argparse.ArgumentParser):
 
 
 
-def _command_modules() -> list[object]:
+def _command_modules() -> list[types.ModuleType]:
     import bedside.commands as pkg
 
-    mods = []
+    mods: list[types.ModuleType] = []
     for info in pkgutil.iter_modules(pkg.__path__):
         if info.name.startswith("_"):
             continue
@@ -64,7 +65,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("-v", "--verbose", action="store_true", help="log more detail to stderr")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for mod in _command_modules():
-        mod.register(sub)  # type: ignore[attr-defined]
+        mod.register(sub)
     return parser
 
 
