@@ -1,0 +1,101 @@
+"""Atomic, owner-only file writes: temp file in the same folder, fsync, rename, fsync the folder.
+
+A reader (or a crash at any instant) sees either the old file or the new one, never a
+half-written one. Files are created with mode 0600 (owner read/write only): a setup log
+is clinical documentation, even when it holds only a pseudonymous ID.
+
+OS errors are translated here, once, into :class:`~bedside.errors.LogSaveError` with a
+message that says what happened in plain words (disk full, read-only, missing folder).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import errno
+import os
+import tempfile
+from collections.abc import Callable
+from pathlib import Path
+from typing import BinaryIO
+
+from bedside.errors import LogSaveError
+
+#: Owner read/write only.
+FILE_MODE = 0o600
+
+
+def describe_os_error(exc: OSError, path: Path) -> str:
+    """Plain words for the OS errors a save meets at a bedside."""
+    code = exc.errno
+    if code == errno.ENOSPC:
+        return f"the disk holding {path.parent} is full"
+    if code == errno.EDQUOT:
+        return f"the disk quota for {path.parent} is exhausted"
+    if code == errno.EROFS:
+        return f"{path.parent} is on a read-only file system"
+    if code in (errno.EACCES, errno.EPERM):
+        return f"no permission to write in {path.parent}"
+    if code == errno.ENOENT:
+        return f"the folder {path.parent} does not exist (create it or choose another path)"
+    if code == errno.ENOTDIR:
+        return f"{path.parent} is not a folder"
+    if code == errno.EISDIR:
+        return f"{path} is a folder, not a file"
+    reason = exc.strerror or exc.__class__.__name__
+    return f"cannot write {path} ({reason})"
+
+
+def _fsync_dir(folder: Path) -> None:
+    # Makes the rename itself durable. Some file systems refuse O_RDONLY on a folder
+    # or fsync on it (EINVAL); the rename has still happened, so that is not an error.
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+def atomic_write(path: Path | str, writer: Callable[[BinaryIO], None], *, mode: int = FILE_MODE) -> Path:
+    """Write ``path`` atomically with ``writer(file)``; returns the path written.
+
+    Raises :class:`LogSaveError` (never a bare OSError) when the write fails; the old
+    file, if any, is then untouched and the temp file is removed.
+    """
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    try:
+        fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise LogSaveError(describe_os_error(exc, path)) from exc
+    tmp = Path(tmp_name)
+    try:
+        try:
+            with os.fdopen(fd, "wb") as fh:
+                os.fchmod(fh.fileno(), mode)
+                writer(fh)
+                fh.flush()
+                os.fsync(fh.fileno())
+            os.replace(tmp, path)
+        except OSError as exc:
+            raise LogSaveError(describe_os_error(exc, path)) from exc
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+    _fsync_dir(folder)
+    return path
+
+
+def atomic_write_text(path: Path | str, text: str, *, mode: int = FILE_MODE) -> Path:
+    """Write UTF-8 text atomically (see :func:`atomic_write`)."""
+    data = text.encode("utf-8")
+
+    def write(fh: BinaryIO) -> None:
+        fh.write(data)
+
+    return atomic_write(path, write, mode=mode)

@@ -1,0 +1,461 @@
+"""The setup log: what was measured, applied, checked, found wrong and when it was fixed.
+
+:class:`SetupLog` is the model; YAML is its canonical, re-loadable form
+(:func:`dump_yaml` / :func:`load_log`, ``yaml.safe_load`` semantics only). All times
+are time-zone-aware datetimes, kept to the millisecond so a save → load round trip is
+exact; in YAML they are ISO 8601 strings with the UTC offset.
+
+Level keys in the log are ``good``, ``check``, ``bad`` and ``no_data`` (no live data:
+the stream was stale or lost, or not enough samples yet); a timeline entry's
+``from_level`` is ``none`` for an electrode's first verdict.
+
+:func:`load_log` is strict: an unknown key, a missing key or a value of the wrong kind
+raises :class:`~bedside.errors.RecordError` naming the file and the key path
+(``timeline[3].to_level``) and what is accepted.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import types
+import typing
+from dataclasses import dataclass, field
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+from typing import Any, Literal
+
+import yaml
+
+from bedside import __version__
+from bedside.errors import InputError, RecordError
+from bedside.placement.types import HeadMeasurements, Mark
+from bedside.record.ids import validate_subject_id
+from bedside.stream.types import ChannelInfo, StreamIdentity
+
+#: Written as the first keys of every log, checked on load.
+FORMAT_NAME = "bedside-setup-log"
+FORMAT_VERSION = 1
+
+LevelKey = Literal["good", "check", "bad", "no_data"]
+FromLevelKey = Literal["none", "good", "check", "bad", "no_data"]
+LEVEL_KEYS: tuple[str, ...] = ("good", "check", "bad", "no_data")
+
+_SafeDumper: Any = getattr(yaml, "CSafeDumper", yaml.SafeDumper)
+_SafeLoader: Any = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+
+def local_now(clock_s: float) -> datetime:
+    """``clock_s`` (seconds since the epoch) as a local, zone-aware datetime to the millisecond."""
+    return stamp(clock_s)
+
+
+def stamp(epoch_s: float) -> datetime:
+    """Seconds since the epoch → local aware datetime, rounded to the millisecond."""
+    ms = round(float(epoch_s) * 1000.0)
+    utc = datetime(1970, 1, 1, tzinfo=UTC) + timedelta(milliseconds=ms)
+    return utc.astimezone()
+
+
+def zone_name(when: datetime) -> str:
+    """e.g. ``CET (UTC+01:00)``: the zone the log's times were written in."""
+    offset = when.utcoffset() or timedelta(0)
+    total_min = int(offset.total_seconds() // 60)
+    sign = "+" if total_min >= 0 else "-"
+    hh, mm = divmod(abs(total_min), 60)
+    name = when.tzname() or ""
+    utc = f"UTC{sign}{hh:02d}:{mm:02d}"
+    return f"{name} ({utc})" if name and name != utc else utc
+
+
+@dataclass(frozen=True)
+class LevelChange:
+    """One electrode's level changed (from_level ``none`` for its first verdict)."""
+
+    at: datetime
+    electrode: str
+    from_level: FromLevelKey
+    to_level: LevelKey
+    reasons: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class FindingChange:
+    """A finding about several electrodes or the setup (bridge, reference, ground …).
+
+    change: ``appeared``, ``changed`` (same kind and electrodes, new level) or ``cleared``.
+    """
+
+    at: datetime
+    change: Literal["appeared", "changed", "cleared"]
+    kind: str
+    electrodes: tuple[str, ...]
+    level: Literal["good", "check", "bad"]
+    reason: str = ""
+
+
+@dataclass(frozen=True)
+class Event:
+    """Something about the session or the stream: opened, resumed, closed, stream state
+    changes (live/stale/lost), gaps, reconnects, a new stream, save problems."""
+
+    at: datetime
+    kind: str
+    detail: str = ""
+
+
+@dataclass(frozen=True)
+class ChannelFinal:
+    """The last live verdict for a channel, with its metrics (units in the names)."""
+
+    at: datetime
+    level: LevelKey
+    metrics: dict[str, float | None] = field(default_factory=dict)
+    reasons: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ImpedanceEntry:
+    """An impedance the technologist entered, in kΩ."""
+
+    at: datetime
+    electrode: str
+    kohm: float
+
+
+@dataclass(frozen=True)
+class Note:
+    at: datetime
+    text: str
+
+
+@dataclass(frozen=True)
+class SignOff:
+    at: datetime
+    initials: str
+
+
+@dataclass(frozen=True)
+class PlanRecord:
+    """The head measurements and the computed marks (see ``bedside.placement``)."""
+
+    measurements: HeadMeasurements
+    system: str
+    names: str
+    marks: tuple[Mark, ...]
+    positions_mm: dict[str, tuple[float, float, float]] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class StreamRecord:
+    """The stream being checked and its channels (in stream order), and when it was set."""
+
+    at: datetime
+    identity: StreamIdentity
+    channels: tuple[ChannelInfo, ...]
+
+
+@dataclass
+class SetupLog:
+    """The whole setup log. Mutable: the :class:`~bedside.record.session.SessionRecorder`
+    owns one and changes it under its lock; everyone else reads copies or loaded files.
+
+    time_to_good_s is derived from the timeline (see :meth:`time_to_good_s`)."""
+
+    technologist: str = ""
+    subject_id: str = ""
+    started_at: datetime | None = None
+    ended_at: datetime | None = None
+    time_zone: str = ""
+    software_version: str = __version__
+    config_hash: str = ""
+    config_files: tuple[str, ...] = ()
+    reference: str = ""
+    ground: str = ""
+    power_line_hz: float | None = None
+    plan: PlanRecord | None = None
+    stream: StreamRecord | None = None
+    timeline: list[LevelChange] = field(default_factory=list)
+    findings: list[FindingChange] = field(default_factory=list)
+    events: list[Event] = field(default_factory=list)
+    final: dict[str, ChannelFinal] = field(default_factory=dict)
+    impedances: list[ImpedanceEntry] = field(default_factory=list)
+    notes: list[Note] = field(default_factory=list)
+    sign_off: SignOff | None = None
+
+    # -- derived views ------------------------------------------------------------
+
+    def time_to_good_s(self) -> dict[str, float | None]:
+        """Per electrode: seconds from its first live verdict to its first ``good``
+        (None if it has never been good). Electrodes in timeline order."""
+        first_live: dict[str, datetime] = {}
+        result: dict[str, float | None] = {}
+        for change in self.timeline:
+            name = change.electrode
+            if change.to_level != "no_data" and name not in first_live:
+                first_live[name] = change.at
+            result.setdefault(name, None)
+            if change.to_level == "good" and result[name] is None and name in first_live:
+                result[name] = round((change.at - first_live[name]).total_seconds(), 3)
+        return result
+
+    def latest_impedances_kohm(self) -> dict[str, float]:
+        """The last impedance entered per electrode (kΩ)."""
+        latest: dict[str, float] = {}
+        for entry in self.impedances:
+            latest[entry.electrode] = entry.kohm
+        return latest
+
+    def electrode_names(self) -> list[str]:
+        """Every electrode the log knows of: stream channels, then plan sites, then any
+        other name seen in the timeline, final state or impedances (no duplicates)."""
+        names: list[str] = []
+        seen: set[str] = set()
+
+        def add(name: str) -> None:
+            if name not in seen:
+                seen.add(name)
+                names.append(name)
+
+        if self.stream is not None:
+            for ch in self.stream.channels:
+                add(ch.name)
+        if self.plan is not None:
+            for name in self.plan.positions_mm:
+                add(name)
+            for mark in self.plan.marks:
+                add(mark.name)
+        for change in self.timeline:
+            add(change.electrode)
+        for name in self.final:
+            add(name)
+        for entry in self.impedances:
+            add(entry.electrode)
+        return names
+
+    # -- conversion -----------------------------------------------------------------
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain YAML/JSON-able data (times as ISO 8601 strings with their UTC offset)."""
+        out: dict[str, Any] = {"format": FORMAT_NAME, "format_version": FORMAT_VERSION}
+        for f in dataclasses.fields(self):
+            out[f.name] = _plain(getattr(self, f.name))
+        # A convenience for readers of the file; recomputed from the timeline on load.
+        out["time_to_good_s"] = self.time_to_good_s()
+        return out
+
+    @classmethod
+    def from_dict(cls, data: Any, *, source: str = "<log>") -> SetupLog:
+        """Build a log from :meth:`to_dict` output, strictly (RecordError names the key)."""
+        if not isinstance(data, dict):
+            raise RecordError(f"{source}: not a setup log (expected a mapping of keys, got {_kind(data)})")
+        if data.get("format") != FORMAT_NAME:
+            raise RecordError(
+                f"{source}: not a bedside setup log ('format' is {data.get('format')!r}, "
+                f"expected {FORMAT_NAME!r})"
+            )
+        version = data.get("format_version")
+        if version != FORMAT_VERSION:
+            raise RecordError(
+                f"{source}: log format version {version!r} is not supported; "
+                f"accepted: {FORMAT_VERSION}"
+            )
+        body = {k: v for k, v in data.items() if k not in ("format", "format_version", "time_to_good_s")}
+        log = typing.cast(SetupLog, _build_dataclass(body, cls, source, ""))
+        # The ID may become part of file names (BIDS, reports): never trust the file.
+        try:
+            validate_subject_id(log.subject_id, allow_letters_only=True)
+        except InputError as exc:
+            raise RecordError(f"{source}: 'subject_id': {exc}") from exc
+        return log
+
+
+def dump_yaml(log: SetupLog) -> str:
+    """The canonical text of a log."""
+    header = (
+        "# bedside setup log (pseudonymous). Keep it with the recording as your local\n"
+        "# policy says. Re-load with `bedside report`; times are local with UTC offset.\n"
+    )
+    body = yaml.dump(
+        log.to_dict(), Dumper=_SafeDumper, sort_keys=False, allow_unicode=True, width=100
+    )
+    return header + body
+
+
+def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:
+    """Parse a log's text (``yaml.safe_load`` semantics)."""
+    if not text.strip():
+        raise RecordError(f"{source}: the file is empty")
+    try:
+        data = yaml.load(text, Loader=_SafeLoader)  # noqa: S506 - a SafeLoader
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark
+        where = f"line {mark.line + 1}, column {mark.column + 1}" if mark else "somewhere"
+        raise RecordError(f"{source}: not valid YAML at {where}: {exc.problem}") from exc
+    except yaml.YAMLError as exc:
+        raise RecordError(f"{source}: not valid YAML: {exc}") from exc
+    return SetupLog.from_dict(data, source=source)
+
+
+def load_log(path: Path | str) -> SetupLog:
+    """Read a setup log file; RecordError names the file and what is wrong with it."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except FileNotFoundError as exc:
+        raise RecordError(f"{path}: no such log file") from exc
+    except IsADirectoryError as exc:
+        raise RecordError(f"{path}: is a folder, not a log file") from exc
+    except OSError as exc:
+        raise RecordError(f"{path}: cannot read ({exc.strerror})") from exc
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise RecordError(f"{path}: not UTF-8 text (byte {exc.start}); not a setup log") from exc
+    return parse_yaml(text, source=str(path))
+
+
+# -- plain data <-> dataclasses --------------------------------------------------------
+
+
+def _plain(value: Any) -> Any:
+    if isinstance(value, datetime):
+        return value.isoformat(timespec="milliseconds")
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: _plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [_plain(v) for v in value]
+    if isinstance(value, bool) or value is None or isinstance(value, str):
+        return value
+    if isinstance(value, int):
+        return int(value)
+    if isinstance(value, float):
+        return float(value)
+    # numpy scalars and the like: plain Python numbers, never objects in the YAML.
+    if hasattr(value, "item"):
+        return _plain(value.item())
+    raise RecordError(f"cannot store a value of type {type(value).__name__} in the log")
+
+
+def _kind(value: Any) -> str:
+    if value is None:
+        return "nothing"
+    return {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}.get(
+        type(value), f"{type(value).__name__} {value!r}"
+    )
+
+
+def _at(source: str, key: str) -> str:
+    return f"{source}: '{key}'" if key else source
+
+
+def _build(value: Any, tp: Any, source: str, key: str) -> Any:
+    if dataclasses.is_dataclass(tp) and isinstance(tp, type):
+        return _build_dataclass(value, tp, source, key)
+    origin = typing.get_origin(tp)
+    args = typing.get_args(tp)
+    if origin in (typing.Union, types.UnionType):
+        if value is None and type(None) in args:
+            return None
+        options = [a for a in args if a is not type(None)]
+        if len(options) == 1:
+            return _build(value, options[0], source, key)
+        errors = []
+        for option in options:
+            try:
+                return _build(value, option, source, key)
+            except RecordError as exc:
+                errors.append(str(exc))
+        raise RecordError(errors[0])
+    if origin is Literal:
+        if value not in args:
+            raise RecordError(
+                f"{_at(source, key)} is {value!r}; accepted: {', '.join(map(str, args))}"
+            )
+        return value
+    if origin is tuple:
+        if not isinstance(value, list):
+            raise RecordError(f"{_at(source, key)} must be a list, got {_kind(value)}")
+        if len(args) == 2 and args[1] is Ellipsis:
+            return tuple(_build(v, args[0], source, f"{key}[{i}]") for i, v in enumerate(value))
+        if len(value) != len(args):
+            raise RecordError(f"{_at(source, key)} must have {len(args)} items, got {len(value)}")
+        return tuple(_build(v, a, source, f"{key}[{i}]") for i, (v, a) in enumerate(zip(value, args, strict=True)))
+    if origin is list:
+        if not isinstance(value, list):
+            raise RecordError(f"{_at(source, key)} must be a list, got {_kind(value)}")
+        return [_build(v, args[0], source, f"{key}[{i}]") for i, v in enumerate(value)]
+    if origin is dict:
+        if not isinstance(value, dict):
+            raise RecordError(f"{_at(source, key)} must be a mapping, got {_kind(value)}")
+        k_tp, v_tp = args
+        return {
+            _build(k, k_tp, source, f"{key}.{k}"): _build(v, v_tp, source, f"{key}.{k}")
+            for k, v in value.items()
+        }
+    if tp is datetime:
+        if not isinstance(value, str):
+            raise RecordError(f"{_at(source, key)} must be an ISO 8601 time, got {_kind(value)}")
+        try:
+            when = datetime.fromisoformat(value)
+        except ValueError:
+            raise RecordError(
+                f"{_at(source, key)} is {value!r}, not an ISO 8601 time "
+                "(e.g. 2026-12-01T19:30:00.000+01:00)"
+            ) from None
+        if when.tzinfo is None:
+            raise RecordError(f"{_at(source, key)} is {value!r}: it has no UTC offset")
+        return when
+    if tp is bool:
+        if not isinstance(value, bool):
+            raise RecordError(f"{_at(source, key)} must be true or false, got {_kind(value)}")
+        return value
+    if tp is float:
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise RecordError(f"{_at(source, key)} must be a number, got {_kind(value)}")
+        return float(value)
+    if tp is int:
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise RecordError(f"{_at(source, key)} must be a whole number, got {_kind(value)}")
+        return value
+    if tp is str:
+        if not isinstance(value, str):
+            raise RecordError(f"{_at(source, key)} must be text, got {_kind(value)}")
+        return value
+    if tp is object or tp is Any:
+        return value
+    raise RecordError(f"{_at(source, key)}: cannot read a value of type {tp!r}")
+
+
+_HINTS: dict[type, dict[str, Any]] = {}
+
+
+def _build_dataclass(value: Any, tp: type, source: str, key: str) -> Any:
+    if not isinstance(value, dict):
+        raise RecordError(f"{_at(source, key)} must be a mapping, got {_kind(value)}")
+    hints = _HINTS.get(tp)
+    if hints is None:
+        hints = _HINTS[tp] = typing.get_type_hints(tp)
+    fields = {f.name: f for f in dataclasses.fields(tp) if f.init}
+    for name in value:
+        if name not in fields:
+            close = difflib.get_close_matches(str(name), list(fields), n=1)
+            hint = f"; did you mean '{close[0]}'?" if close else ""
+            full = f"{key}.{name}" if key else str(name)
+            raise RecordError(
+                f"{_at(source, full)} is not a known key{hint} (accepted here: {', '.join(fields)})"
+            )
+    kwargs: dict[str, Any] = {}
+    for name, f in fields.items():
+        full = f"{key}.{name}" if key else name
+        if name not in value:
+            if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
+                raise RecordError(f"{_at(source, full)} is missing")
+            continue
+        kwargs[name] = _build(value[name], hints[name], source, full)
+    try:
+        return tp(**kwargs)
+    except (TypeError, ValueError) as exc:
+        raise RecordError(f"{_at(source, key)}: {exc}") from exc

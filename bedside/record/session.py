@@ -1,0 +1,739 @@
+"""A running setup session: records into a :class:`~bedside.record.log.SetupLog` and
+autosaves it, so a crash loses at most the last autosave interval.
+
+::
+
+    with SessionRecorder.open("logs/W3-017.yaml", technologist="JMK", subject_id="W3-017",
+                              config_paths=[CONFIG_DIR / "quality.yaml"]) as rec:
+        rec.set_plan(plan)
+        rec.set_stream(source.identity, source.channels)
+        for frame in frames:           # from any thread
+            rec.on_frame(frame)
+        rec.sign_off("JMK")
+    # close() (here by the with-block) stamps the end time and saves a last time.
+
+Saving: a background thread writes the log at least every ``autosave_s`` seconds (2 s
+at most) whenever it changed, atomically (temp file in the same folder, fsync,
+rename, fsync the folder), owner-only (0600). If a save fails (disk full, read-only,
+folder missing) the log stays in memory, :attr:`SessionRecorder.status` says why
+(``status.error``), a warning goes to the ``bedside`` logger once per new problem, the
+outage is written into the log's events, and the save is retried on every tick until
+it works. Nothing is dropped.
+
+Resuming: opening a path that holds a valid log continues that log (the same subject
+only). A file that cannot be parsed is never overwritten: it is renamed aside to
+``<name>.corrupt-<time>`` and a new log is started; ``status.notice`` says so.
+
+One writer per file: an advisory lock (``.<name>.lock`` beside the log) refuses a
+second session on the same file.
+"""
+
+from __future__ import annotations
+
+import atexit
+import contextlib
+import copy
+import fcntl
+import logging
+import math
+import os
+import tempfile
+import threading
+import time
+import weakref
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from datetime import datetime
+from pathlib import Path
+from types import TracebackType
+from typing import Any
+
+from bedside import __version__
+from bedside.config import config_hash
+from bedside.errors import InputError, LogSaveError, RecordError
+from bedside.record.atomic import atomic_write_text, describe_os_error
+from bedside.record.ids import (
+    validate_electrode,
+    validate_impedance,
+    validate_initials,
+    validate_note,
+    validate_subject_id,
+)
+from bedside.record.log import (
+    ChannelFinal,
+    Event,
+    FindingChange,
+    ImpedanceEntry,
+    LevelChange,
+    Note,
+    PlanRecord,
+    SetupLog,
+    SignOff,
+    StreamRecord,
+    dump_yaml,
+    parse_yaml,
+    stamp,
+    zone_name,
+)
+
+log = logging.getLogger("bedside")
+
+#: The longest autosave interval allowed: a crash may lose at most this much.
+AUTOSAVE_MAX_S = 2.0
+AUTOSAVE_MIN_S = 0.05
+
+_FRAME_EXTRA_MAINS_KEYS = ("power_line_hz", "mains_hz", "line_frequency_hz")
+
+
+@dataclass(frozen=True)
+class RecorderStatus:
+    """How saving is going, for the status bar and the Log view.
+
+    last_saved: when the log last reached the disk (None: not yet). error: why the
+    last save failed, in plain words (None when the last save worked); the log is kept
+    in memory and retried. unsaved_changes: the disk copy is behind. notice: something
+    the technologist should know about the file (e.g. a corrupt log was kept aside).
+    """
+
+    path: Path
+    last_saved: datetime | None
+    error: str | None
+    unsaved_changes: bool
+    saves: int = 0
+    failed_saves: int = 0
+    notice: str | None = None
+    closed: bool = False
+
+
+class SessionRecorder:
+    """Records one setup session into a log and keeps the file up to date. Thread-safe."""
+
+    # -- opening -------------------------------------------------------------------
+
+    @classmethod
+    def open(
+        cls,
+        path: Path | str,
+        *,
+        technologist: str = "",
+        subject_id: str = "",
+        config_paths: Iterable[Path | str] = (),
+        autosave_s: float = AUTOSAVE_MAX_S,
+        clock: Callable[[], float] | None = None,
+        allow_letters_only_id: bool = False,
+    ) -> SessionRecorder:
+        """Start (or resume) the session logged at ``path`` and its autosave thread.
+
+        Raises InputError for bad initials, ID or autosave interval; RecordError when an
+        existing file cannot be read, belongs to another subject, or another session
+        writes it. A full/read-only disk or missing folder does not raise: it shows in
+        :attr:`status` and saving is retried.
+        """
+        path = Path(path)
+        if isinstance(autosave_s, bool) or not (
+            isinstance(autosave_s, int | float) and AUTOSAVE_MIN_S <= autosave_s <= AUTOSAVE_MAX_S
+        ):
+            raise InputError(
+                f"autosave interval is {autosave_s!r} s; accepted: {AUTOSAVE_MIN_S} to "
+                f"{AUTOSAVE_MAX_S} s (a crash may lose at most this much)"
+            )
+        initials = validate_initials(technologist)
+        subject = validate_subject_id(subject_id, allow_letters_only=allow_letters_only_id)
+        paths = [Path(p) for p in config_paths]
+        try:
+            digest = config_hash(*paths) if paths else ""
+        except OSError as exc:
+            raise RecordError(
+                f"config file {exc.filename or '?'} cannot be read for the log's config hash "
+                f"({exc.strerror})"
+            ) from exc
+        if path.is_dir():
+            raise RecordError(f"{path} is a folder; give a file name for the log, e.g. {path / 'W3-017.yaml'}")
+        rec = cls(path, clock or time.time, float(autosave_s), allow_letters_only_id)
+        rec._start(initials, subject, digest, tuple(p.name for p in paths))
+        return rec
+
+    def __init__(
+        self, path: Path, clock: Callable[[], float], autosave_s: float, allow_letters_only_id: bool
+    ) -> None:
+        # Use SessionRecorder.open(); the constructor only sets fields.
+        self._path = path
+        self._clock = clock
+        self._autosave_s = autosave_s
+        self._allow_letters_only_id = allow_letters_only_id
+        self._lock = threading.RLock()  # guards the log and the counters
+        self._io_lock = threading.Lock()  # one save at a time
+        self._log = SetupLog()
+        self._generation = 0
+        self._saved_generation = -1
+        self._last_saved: datetime | None = None
+        self._error: str | None = None
+        self._saves = 0
+        self._failed = 0
+        self._notice: str | None = None
+        self._aside_pending: str | None = None  # a corrupt file not yet moved aside
+        self._last_level: dict[str, str] = {}
+        self._findings: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        self._health_state: str | None = None
+        self._health_gaps = 0
+        self._health_reconnects = 0
+        self._health_jumps = 0
+        self._seen_notes: dict[str, None] = {}
+        self._seen_untrusted: set[str] = set()
+        self._lock_fd: int | None = None
+        self._closed = False
+        self._stop = threading.Event()
+        self._wake = threading.Event()
+        self._thread: threading.Thread | None = None
+
+    def _now(self) -> datetime:
+        return stamp(self._clock())
+
+    def _start(self, initials: str, subject: str, digest: str, config_files: tuple[str, ...]) -> None:
+        self._acquire_file_lock(strict=True)
+        try:
+            self._load_or_create(initials, subject, digest, config_files)
+        except BaseException:
+            self._release_file_lock()
+            raise
+        self._try_save()
+        self._thread = threading.Thread(target=self._autosave_loop, name="bedside-log-autosave", daemon=True)
+        self._thread.start()
+        _OPEN.add(self)
+
+    def _load_or_create(self, initials: str, subject: str, digest: str, config_files: tuple[str, ...]) -> None:
+        now = self._now()
+        existing = None
+        if self._path.exists():
+            try:
+                raw = self._path.read_bytes()
+            except OSError as exc:
+                raise RecordError(
+                    f"{self._path}: exists but cannot be read ({exc.strerror}); it is not "
+                    "overwritten — fix its permissions or choose another log file"
+                ) from exc
+            try:
+                existing = parse_yaml(raw.decode("utf-8"), source=str(self._path))
+            except (RecordError, UnicodeDecodeError) as exc:
+                reason = str(exc) if isinstance(exc, RecordError) else f"{self._path}: not UTF-8 text"
+                self._aside_pending = reason
+                existing = None
+        if existing is not None:
+            if subject and existing.subject_id and subject != existing.subject_id:
+                raise RecordError(
+                    f"{self._path} is the log of subject {existing.subject_id}, not {subject}; "
+                    "choose another log file"
+                )
+            self._log = existing
+            self._log.ended_at = None
+            detail = f"resumed by bedside {__version__}"
+            if initials and initials != existing.technologist:
+                detail += f"; technologist {existing.technologist or '(none)'} → {initials}"
+                self._log.technologist = initials
+            if subject and not existing.subject_id:
+                self._log.subject_id = subject
+            if digest and digest != existing.config_hash:
+                detail += f"; config changed (hash {existing.config_hash[:12] or '(none)'} → {digest[:12]})"
+                self._log.config_hash = digest
+                self._log.config_files = config_files
+            self._log.software_version = __version__
+            self._log.events.append(Event(now, "resumed", detail))
+            for change in self._log.timeline:
+                self._last_level[change.electrode] = change.to_level
+            log.info("setup log %s resumed (%d timeline entries)", self._path, len(self._log.timeline))
+        else:
+            self._log = SetupLog(
+                technologist=initials,
+                subject_id=subject,
+                started_at=now,
+                time_zone=zone_name(now),
+                software_version=__version__,
+                config_hash=digest,
+                config_files=config_files,
+            )
+            self._log.events.append(Event(now, "opened", f"bedside {__version__}"))
+        if self._aside_pending is not None:
+            self._log.events.append(
+                Event(now, "corrupt_log", f"the file at this path was unreadable: {self._aside_pending}")
+            )
+            try:
+                self._move_corrupt_aside()
+            except LogSaveError as exc:
+                # Not moved: no save may replace it; every save retries the move.
+                self._save_failed(str(exc))
+        self._touch()
+
+    def _move_corrupt_aside(self) -> None:
+        """Rename the unreadable file aside (never overwrite it). Leaves _aside_pending set
+        on failure so no save can replace it."""
+        if self._aside_pending is None:
+            return
+        stem = time.strftime("%Y%m%dT%H%M%S", time.localtime(self._clock()))
+        target = self._path.with_name(f"{self._path.name}.corrupt-{stem}")
+        n = 1
+        while target.exists():
+            n += 1
+            target = self._path.with_name(f"{self._path.name}.corrupt-{stem}-{n}")
+        try:
+            if self._path.exists():
+                os.rename(self._path, target)
+        except OSError as exc:
+            raise LogSaveError(
+                f"{self._path} is unreadable and could not be moved aside "
+                f"({describe_os_error(exc, target)}); it is not overwritten"
+            ) from exc
+        reason = self._aside_pending
+        self._aside_pending = None
+        self._notice = (
+            f"the existing log could not be read ({reason}); it was kept as {target} "
+            "and a new log was started"
+        )
+        log.warning("setup log: %s", self._notice)
+        with self._lock:
+            self._log.events.append(Event(self._now(), "corrupt_log_kept_aside", str(target)))
+            self._touch()
+
+    # -- the file lock -------------------------------------------------------------
+
+    @property
+    def _lock_path(self) -> Path:
+        return self._path.with_name(f".{self._path.name}.lock")
+
+    def _acquire_file_lock(self, *, strict: bool) -> None:
+        if self._lock_fd is not None:
+            return
+        try:
+            fd = os.open(self._lock_path, os.O_RDWR | os.O_CREAT, 0o600)
+        except OSError:
+            return  # folder missing or read-only: saving will report it; retried later
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except OSError:
+            try:
+                other = os.read(fd, 32).decode("ascii", "replace").strip()
+            except OSError:
+                other = ""
+            os.close(fd)
+            message = (
+                f"{self._path} is being written by another bedside session"
+                + (f" (process {other})" if other else "")
+                + "; close it first or choose another log file"
+            )
+            if strict:
+                raise RecordError(message) from None
+            raise LogSaveError(message) from None
+        with contextlib.suppress(OSError):
+            os.ftruncate(fd, 0)
+            os.write(fd, str(os.getpid()).encode())
+        self._lock_fd = fd
+
+    def _release_file_lock(self) -> None:
+        if self._lock_fd is None:
+            return
+        with contextlib.suppress(OSError):
+            self._lock_path.unlink()
+        with contextlib.suppress(OSError):
+            os.close(self._lock_fd)
+        self._lock_fd = None
+
+    # -- recording -----------------------------------------------------------------
+
+    def _touch(self) -> None:
+        self._generation += 1
+
+    def _check_open(self) -> None:
+        if self._closed:
+            raise RecordError(f"the session logged at {self._path} is closed; open it again to add to it")
+
+    def set_plan(self, plan: Any) -> None:
+        """Store the head measurements and marks of a PlacementPlan (re-measuring replaces them)."""
+        record = PlanRecord(
+            measurements=plan.measurements,
+            system=str(plan.system),
+            names=str(plan.names),
+            marks=tuple(plan.marks),
+            positions_mm={
+                str(k): (float(v[0]), float(v[1]), float(v[2]))
+                for k, v in dict(getattr(plan, "positions_mm", {}) or {}).items()
+            },
+        )
+        m = record.measurements
+        with self._lock:
+            self._check_open()
+            kind = "plan_replaced" if self._log.plan is not None else "plan"
+            self._log.plan = record
+            self._log.events.append(
+                Event(
+                    self._now(),
+                    kind,
+                    f"{record.system}: nasion-inion {m.nasion_inion_cm:g} cm, preauricular "
+                    f"{m.preauricular_cm:g} cm, circumference {m.circumference_cm:g} cm",
+                )
+            )
+            self._touch()
+
+    def set_stream(self, identity: Any, channels: Sequence[Any]) -> None:
+        """Store the stream being checked and its channels (a new source is an event)."""
+        with self._lock:
+            self._check_open()
+            old = self._log.stream
+            record = StreamRecord(self._now(), identity, tuple(channels))
+            if old is not None and old.identity == identity and old.channels == record.channels:
+                return
+            detail = (
+                f"{identity.name} ({identity.type}) from {identity.hostname}, source_id "
+                f"{identity.source_id!r}, {identity.n_channels} channels at {identity.nominal_rate_hz:g} Hz"
+            )
+            kind = "stream" if old is None else "stream_changed"
+            self._log.stream = record
+            self._log.events.append(Event(record.at, kind, detail))
+            self._touch()
+
+    def on_frame(self, frame: Any) -> None:
+        """Record one QualityFrame: level changes, findings, stream state (any thread)."""
+        wall = getattr(frame, "wall_time", 0.0)
+        at = stamp(wall) if wall and math.isfinite(wall) and wall > 0 else self._now()
+        with self._lock:
+            self._check_open()
+            changed = False
+            for ch in frame.channels:
+                key = ch.level_key
+                previous = self._last_level.get(ch.name)
+                if key != previous:
+                    self._log.timeline.append(
+                        LevelChange(at, ch.name, previous or "none", key, tuple(map(str, ch.reasons)))  # type: ignore[arg-type]
+                    )
+                    self._last_level[ch.name] = key
+                    changed = True
+                if ch.level is not None:
+                    self._log.final[ch.name] = ChannelFinal(
+                        at, key, _clean_metrics(ch.metrics), tuple(map(str, ch.reasons))
+                    )
+                    changed = True
+            health = getattr(frame, "stream_health", None)
+            if health is not None:
+                changed |= self._record_health(at, health)
+            if getattr(frame, "live", True):
+                changed |= self._record_findings(at, frame.findings)
+            extras = getattr(frame, "extras", None) or {}
+            for key_name in _FRAME_EXTRA_MAINS_KEYS:
+                value = extras.get(key_name)
+                if isinstance(value, int | float) and not isinstance(value, bool) and value in (50, 60):
+                    if self._log.power_line_hz != float(value):
+                        self._log.power_line_hz = float(value)
+                        changed = True
+                    break
+            if changed:
+                self._touch()
+
+    def _record_health(self, at: datetime, health: Any) -> bool:
+        changed = False
+        state = str(health.state)
+        if state != self._health_state:
+            detail = f"{self._health_state or 'start'} → {state}"
+            self._log.events.append(Event(at, "stream_state", detail))
+            self._health_state = state
+            changed = True
+        for note in map(str, getattr(health, "notes", ()) or ()):
+            if note not in self._seen_notes:
+                self._seen_notes[note] = None
+                self._log.events.append(Event(at, "stream_note", note))
+                changed = True
+        while len(self._seen_notes) > 500:
+            self._seen_notes.pop(next(iter(self._seen_notes)))
+        for source_id in map(str, getattr(health, "untrusted_sources", ()) or ()):
+            if source_id not in self._seen_untrusted:
+                self._seen_untrusted.add(source_id)
+                self._log.events.append(
+                    Event(at, "stream_untrusted", f"another stream of the same name, source_id {source_id!r}, seen and not used")
+                )
+                changed = True
+        jumps = int(getattr(health, "clock_jumps", 0) or 0)
+        if jumps > self._health_jumps:
+            self._log.events.append(Event(at, "stream_clock_jump", f"{jumps - self._health_jumps} new; {jumps} so far"))
+            changed = True
+        self._health_jumps = max(self._health_jumps, jumps)
+        gaps = int(getattr(health, "gaps", 0) or 0)
+        if gaps > self._health_gaps:
+            self._log.events.append(
+                Event(
+                    at,
+                    "stream_gap",
+                    f"{gaps - self._health_gaps} new gap(s); {gaps} so far, "
+                    f"{int(getattr(health, 'dropped_samples', 0) or 0)} samples dropped so far",
+                )
+            )
+            changed = True
+        self._health_gaps = max(self._health_gaps, gaps)
+        reconnects = int(getattr(health, "reconnects", 0) or 0)
+        if reconnects > self._health_reconnects:
+            self._log.events.append(Event(at, "stream_reconnect", f"reconnect #{reconnects}"))
+            changed = True
+        self._health_reconnects = max(self._health_reconnects, reconnects)
+        return changed
+
+    def _record_findings(self, at: datetime, findings: Iterable[Any]) -> bool:
+        current: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        for f in findings:
+            current[(str(f.kind), tuple(map(str, f.electrodes)))] = (f.level.key, str(f.reason))
+        changed = False
+        for key, (level, reason) in current.items():
+            before = self._findings.get(key)
+            if before is None or before[0] != level:
+                self._log.findings.append(
+                    FindingChange(at, "appeared" if before is None else "changed", key[0], key[1], level, reason)  # type: ignore[arg-type]
+                )
+                changed = True
+        for key, (level, reason) in self._findings.items():
+            if key not in current:
+                self._log.findings.append(FindingChange(at, "cleared", key[0], key[1], level, reason))  # type: ignore[arg-type]
+                changed = True
+        self._findings = current
+        return changed
+
+    def set_impedance(self, electrode: str, kohm: float) -> None:
+        """Record an impedance the technologist measured, in kΩ (0 to 10 000)."""
+        name = validate_electrode(electrode)
+        value = validate_impedance(name, kohm)
+        with self._lock:
+            self._check_open()
+            self._log.impedances.append(ImpedanceEntry(self._now(), name, value))
+            self._touch()
+
+    def add_note(self, text: str) -> None:
+        """Add a timestamped note (free text: never the patient's name)."""
+        text = validate_note(text)
+        with self._lock:
+            self._check_open()
+            self._log.notes.append(Note(self._now(), text))
+            self._touch()
+
+    def set_technologist(self, initials: str) -> None:
+        initials = validate_initials(initials)
+        with self._lock:
+            self._check_open()
+            if initials != self._log.technologist:
+                if self._log.technologist:
+                    self._log.events.append(
+                        Event(self._now(), "technologist", f"{self._log.technologist} → {initials}")
+                    )
+                self._log.technologist = initials
+                self._touch()
+
+    def set_subject(self, subject_id: str) -> None:
+        subject = validate_subject_id(subject_id, allow_letters_only=self._allow_letters_only_id)
+        with self._lock:
+            self._check_open()
+            if subject != self._log.subject_id:
+                if self._log.subject_id:
+                    self._log.events.append(
+                        Event(self._now(), "subject", f"{self._log.subject_id} → {subject}")
+                    )
+                self._log.subject_id = subject
+                self._touch()
+
+    def set_reference(self, reference: str = "", ground: str = "") -> None:
+        """Where the reference and ground electrodes are (for the BIDS sidecar)."""
+        ref = validate_electrode(reference) if reference else ""
+        gnd = validate_electrode(ground) if ground else ""
+        with self._lock:
+            self._check_open()
+            self._log.reference, self._log.ground = ref, gnd
+            self._touch()
+
+    def sign_off(self, initials: str) -> None:
+        """The technologist signs the setup off; saved at once (best effort)."""
+        initials = validate_initials(initials)
+        if not initials:
+            raise InputError("sign-off needs the technologist's initials, e.g. JMK")
+        with self._lock:
+            self._check_open()
+            self._log.sign_off = SignOff(self._now(), initials)
+            if not self._log.technologist:
+                self._log.technologist = initials
+            self._touch()
+        self._wake.set()
+
+    # -- reading -------------------------------------------------------------------
+
+    @property
+    def path(self) -> Path:
+        return self._path
+
+    @property
+    def status(self) -> RecorderStatus:
+        with self._lock:
+            return RecorderStatus(
+                path=self._path,
+                last_saved=self._last_saved,
+                error=self._error,
+                unsaved_changes=self._generation != self._saved_generation,
+                saves=self._saves,
+                failed_saves=self._failed,
+                notice=self._notice,
+                closed=self._closed,
+            )
+
+    def snapshot(self) -> SetupLog:
+        """A copy of the log as it is now (safe to read from another thread)."""
+        with self._lock:
+            return copy.deepcopy(self._log)
+
+    def last_levels(self) -> dict[str, str]:
+        """Each electrode's current level key (good/check/bad/no_data)."""
+        with self._lock:
+            return dict(self._last_level)
+
+    def dump_text(self) -> str:
+        """The log's YAML text now (e.g. to show it when no disk will take it)."""
+        with self._lock:
+            return dump_yaml(self._log)
+
+    # -- saving --------------------------------------------------------------------
+
+    def save_now(self) -> None:
+        """Save at once; raises LogSaveError if it fails (the log stays in memory)."""
+        self._save()
+
+    def _save(self) -> None:
+        with self._io_lock:
+            with self._lock:
+                generation = self._generation
+                text = dump_yaml(self._log)
+            try:
+                self._acquire_file_lock(strict=False)
+                if self._aside_pending is not None:
+                    self._move_corrupt_aside()
+                    with self._lock:
+                        generation = self._generation
+                        text = dump_yaml(self._log)
+                atomic_write_text(self._path, text)
+            except LogSaveError as exc:
+                self._save_failed(str(exc))
+                raise
+            with self._lock:
+                self._saved_generation = max(self._saved_generation, generation)
+                self._last_saved = self._now()
+                self._saves += 1
+                if self._error is not None:
+                    log.warning(
+                        "setup log saved again to %s after %d failed attempt(s)", self._path, self._failed
+                    )
+                    self._log.events.append(
+                        Event(self._last_saved, "save_recovered", f"after: {self._error}")
+                    )
+                    self._error = None
+                    self._touch()  # the recovery event itself goes out on the next tick
+
+    def _save_failed(self, message: str) -> None:
+        with self._lock:
+            self._failed += 1
+            if message != self._error:
+                log.warning(
+                    "setup log NOT saved to %s: %s. It is kept in memory; retrying every %g s",
+                    self._path,
+                    message,
+                    self._autosave_s,
+                )
+                self._log.events.append(Event(self._now(), "save_failed", message))
+                self._touch()
+            self._error = message
+
+    def _try_save(self) -> bool:
+        try:
+            self._save()
+        except LogSaveError:
+            return False
+        return True
+
+    def _autosave_loop(self) -> None:
+        while not self._stop.is_set():
+            self._wake.wait(self._autosave_s)
+            self._wake.clear()
+            if self._stop.is_set():
+                break
+            with self._lock:
+                dirty = self._generation != self._saved_generation
+            if dirty or self._error is not None:
+                try:
+                    self._try_save()
+                except Exception:  # a bug must not silently end autosaving: log it, go on
+                    log.exception("setup log autosave failed unexpectedly; retrying")
+
+    # -- closing -------------------------------------------------------------------
+
+    def close(self) -> None:
+        """Stamp the end time, stop autosaving and save a last time.
+
+        If that save fails, a copy is written to a rescue folder and LogSaveError
+        names both places; the log also stays readable via :meth:`dump_text`.
+        Idempotent."""
+        with self._lock:
+            if self._closed:
+                return
+            self._closed = True
+            now = self._now()
+            self._log.ended_at = now
+            self._log.events.append(Event(now, "closed", ""))
+            self._touch()
+        self._stop.set()
+        self._wake.set()
+        if self._thread is not None and self._thread is not threading.current_thread():
+            self._thread.join(timeout=10.0)
+        _OPEN.discard(self)
+        try:
+            self._save()
+        except LogSaveError as exc:
+            rescue = self._write_rescue_copy()
+            where = f"a copy was written to {rescue}" if rescue else "no rescue copy could be written either"
+            raise LogSaveError(f"the setup log could not be saved to {self._path}: {exc}; {where}") from exc
+        finally:
+            self._release_file_lock()
+
+    def _write_rescue_copy(self) -> Path | None:
+        text = self.dump_text()
+        state = os.environ.get("XDG_STATE_HOME") or str(Path.home() / ".local" / "state")
+        name = f"{self._path.stem}-{time.strftime('%Y%m%dT%H%M%S', time.localtime(self._clock()))}.yaml"
+        for folder in (Path(state) / "bedside" / "unsaved", Path(tempfile.gettempdir()) / "bedside-unsaved"):
+            try:
+                folder.mkdir(parents=True, exist_ok=True, mode=0o700)
+                target = atomic_write_text(folder / name, text)
+            except (OSError, LogSaveError):
+                continue
+            log.warning("setup log: rescue copy written to %s", target)
+            return target
+        return None
+
+    def __enter__(self) -> SessionRecorder:
+        return self
+
+    def __exit__(
+        self, exc_type: type[BaseException] | None, exc: BaseException | None, tb: TracebackType | None
+    ) -> None:
+        self.close()
+
+
+def _clean_metrics(metrics: Any) -> dict[str, float | None]:
+    """Plain floats for the YAML; NaN/±Inf (not computable) become None."""
+    out: dict[str, float | None] = {}
+    for key, value in dict(metrics or {}).items():
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            continue
+        out[str(key)] = number if math.isfinite(number) else None
+    return out
+
+
+_OPEN: weakref.WeakSet[SessionRecorder] = weakref.WeakSet()
+
+
+@atexit.register
+def _close_open_recorders() -> None:
+    # An interpreter ending without close() (an unhandled error in a script) still
+    # writes the last changes. SIGKILL skips this; the autosave covers that case.
+    for rec in list(_OPEN):
+        try:
+            rec.close()
+        except LogSaveError as exc:
+            log.error("%s", exc)
