@@ -55,6 +55,8 @@ class ChannelQuality:
     metrics: dict[str, float]
     reasons: tuple[str, ...] = ()
     is_scalp: bool = True
+    #: check name → level key of that check alone, before the hold ("line_noise": "bad" …).
+    checks: dict[str, str] = field(default_factory=dict)
 
     @property
     def level_key(self) -> str:

@@ -1,0 +1,110 @@
+"""Artifacts around the main checks: pops, clipping, muscle, excessive amplitude.
+
+* pops: a single-sample step far larger than the channel's typical step (median
+  over the window's blocks of the RMS step) and at least pop_step_min_uv — an
+  abrupt deflection isolated to one electrode (FIELD_NOTES; thresholds ours);
+* clipping: share of samples in runs at the extreme value (or at the rail);
+* muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), as in
+  PREP's noisiness ratio (Bigdely-Shamlo et al. 2015: robust z > 5), computed from
+  the shared spectrum; muscle is advisory (at most "check");
+* amplitude: RMS over the window (adult background 10–100 µV, from memory), and
+  PREP's deviation criterion (robust z of amplitude > 5), at most "check".
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from bedside.checks.base import BAD, CHECK, GOOD, CheckResult, Context, levels_from, robust_z
+from bedside.checks.line_noise import MAINS_CANDIDATES_HZ, band_power
+from bedside.checks.settings import QualitySettings
+from bedside.checks.spectrum import Spectrum
+from bedside.checks.window_stats import WindowStats
+
+
+def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
+    a = settings.artifacts
+    typical = np.median(stats.step_rms_uv, axis=0)
+    limit = np.maximum(a.pop_step_min_uv, a.pop_step_ratio * typical)
+    hits = stats.step_max_uv > limit
+    count = hits.sum(axis=0).astype(float)
+    biggest = stats.step_max_uv.max(axis=0)
+    level = levels_from(count, a.pop_check_count, a.pop_bad_count)
+    level[~ctx.scalp] = GOOD
+    window_s = stats.n_samples / ctx.rate_hz
+    reasons = {
+        int(i): (
+            f"{int(count[i])} electrode pop{'s' if count[i] > 1 else ''} in {window_s:.0f} s"
+            f" (step {biggest[i]:.0f} µV) — press the electrode gently, add gel or re-seat it"
+        )
+        for i in np.flatnonzero(level)
+    }
+    return CheckResult("pops", {"pops": count, "step_max_uv": biggest}, level, reasons)
+
+
+def clipping(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
+    a = settings.artifacts
+    frac = stats.clip_fraction
+    level = levels_from(frac, a.clip_check_fraction, a.clip_bad_fraction)
+    level[~ctx.valid] = GOOD  # a flat channel is all "extreme"; the flat check speaks for it
+    reasons = {
+        int(i): (
+            f"clipping: {frac[i]:.1%} of samples held at the extreme value"
+            " — re-seat or re-prepare the electrode; check the amplifier's input range"
+        )
+        for i in np.flatnonzero(level)
+    }
+    return CheckResult("clipping", {"clip_fraction": frac}, level, reasons)
+
+
+def muscle(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResult:
+    a = settings.artifacts
+    n = len(ctx.names)
+    nyq = float(spec.freqs_hz[-1])
+    lo, hi = a.muscle_band_hz[0], min(a.muscle_band_hz[1], 0.9 * nyq)
+    if hi <= lo:
+        nan = np.full(n, np.nan)
+        return CheckResult("muscle", {"muscle_ratio": nan}, np.zeros(n, dtype=np.int8))
+    # The band without the mains lines (both candidates, fundamental and harmonics).
+    bw = settings.line_noise.bandwidth_hz + 1.0
+    edges = sorted(
+        h * f0 for f0 in MAINS_CANDIDATES_HZ for h in range(1, 6) if lo - bw < h * f0 < hi + bw
+    )
+    bands, start = [], lo
+    for f in edges:
+        if f - bw > start:
+            bands.append((start, f - bw))
+        start = max(start, f + bw)
+    if hi > start:
+        bands.append((start, hi))
+    p_hf = band_power(spec, bands)
+    p_eeg = band_power(spec, [settings.eeg_band_hz])
+    ratio = np.sqrt(p_hf / np.maximum(p_eeg, 1e-12))
+    z = robust_z(ratio, ctx.valid)
+    flag = ((z > a.muscle_z) & (ratio >= a.muscle_z_min_ratio)) | (ratio >= a.muscle_ratio_check)
+    level = np.where(flag & ctx.valid, CHECK, GOOD).astype(np.int8)
+    reasons = {
+        int(i): (
+            f"muscle activity: high-frequency amplitude {ratio[i]:.1f}× the EEG band's"
+            " — ask the patient to relax jaw and forehead; check the electrode is not on a muscle"
+        )
+        for i in np.flatnonzero(level)
+    }
+    return CheckResult("muscle", {"muscle_ratio": ratio, "muscle_z": z}, level, reasons)
+
+
+def amplitude(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
+    a = settings.artifacts
+    rms = stats.rms_uv
+    level = levels_from(rms, a.rms_check_uv, a.rms_bad_uv)
+    z = robust_z(rms, ctx.valid)
+    deviant = (z > a.deviation_z) & (rms >= a.deviation_min_rms_uv)
+    level[deviant & (level == GOOD)] = CHECK
+    level[~ctx.scalp] = GOOD
+    reasons = {}
+    for i in np.flatnonzero(level):
+        what = "very high" if level[i] == BAD else "high"
+        reasons[int(i)] = (
+            f"{what} amplitude: {rms[i]:.0f} µV RMS — poor contact? re-seat or re-prepare the electrode"
+        )
+    return CheckResult("amplitude", {"rms_uv": rms, "amplitude_z": z}, level, reasons)

@@ -1,0 +1,55 @@
+"""Drift and offset: slow wander as a slope (µV/s) and the DC offset against the range.
+
+Slope: least-squares line through the block means over the window (the block
+means carry what changes slower than a block). Thresholds are ours: no published
+per-channel value exists (FIELD_NOTES). Offset: |mean| as a share of the
+amplifier range, only when the range is known.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from bedside.checks.base import GOOD, CheckResult, Context, levels_from
+from bedside.checks.settings import QualitySettings
+from bedside.checks.window_stats import WindowStats
+
+NAME = "drift"
+
+
+def slope_uv_per_s(times_s: np.ndarray, means_uv: np.ndarray) -> np.ndarray:
+    """Least-squares slope of means_uv (K, C) against times_s (K,), µV/s per channel."""
+    if len(times_s) < 2:
+        return np.zeros(means_uv.shape[1])
+    t = times_s - times_s.mean()
+    denom = float(t @ t)
+    if denom <= 0:
+        return np.zeros(means_uv.shape[1])
+    return np.asarray(t @ (means_uv - means_uv.mean(axis=0)) / denom)
+
+
+def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
+    ds = settings.drift
+    slope = slope_uv_per_s(stats.block_times_s, stats.block_means_uv)
+    level = levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s)
+    metrics = {"drift_uv_per_s": slope, "offset_uv": stats.mean_uv}
+    offset_level = np.zeros_like(level)
+    if ctx.amplifier_range_uv is not None:
+        frac = np.abs(stats.mean_uv) / ctx.amplifier_range_uv
+        metrics["offset_fraction"] = frac
+        offset_level = levels_from(frac, ds.offset_check_fraction, ds.offset_bad_fraction)
+    level = np.maximum(level, offset_level)
+    level[~ctx.scalp] = GOOD
+    reasons: dict[int, str] = {}
+    for i in np.flatnonzero(level):
+        parts = []
+        if abs(slope[i]) >= ds.slope_check_uv_per_s:
+            parts.append(f"drift {slope[i]:+.0f} µV/s")
+        if offset_level[i]:
+            parts.append(
+                f"DC offset {stats.mean_uv[i]:.0f} µV ({metrics['offset_fraction'][i]:.0%} of range)"
+            )
+        reasons[int(i)] = (
+            "; ".join(parts) + " — let the electrode settle; re-prepare the skin or refresh the gel if it persists"
+        )
+    return CheckResult(NAME, metrics, level, reasons)

@@ -1,0 +1,326 @@
+"""The quality engine: new samples in, one QualityFrame per update out.
+
+Sample arrays are (n_samples, n_channels) in µV. ``push`` takes only the samples
+that arrived since the last call and summarises them incrementally (per block:
+window_stats.BlockStats; per completed spectral segment: spectrum.SpectralAccumulator),
+so an update costs about what the new samples require, not a recompute of the
+window. ``evaluate`` combines the window's statistics and its one shared spectrum,
+runs every check vectorised across channels, decides reference/ground findings,
+applies the hold and returns the frame.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+import time
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from bedside.checks import (
+    artifacts,
+    bridging,
+    drift,
+    flat,
+    line_noise,
+    placement_sanity,
+    reference,
+)
+from bedside.checks.base import BAD, GOOD, CheckResult, Context
+from bedside.checks.levels import FindingHold, LevelHold, combine
+from bedside.checks.settings import QualitySettings
+from bedside.checks.spectrum import SpectralAccumulator, Spectrum
+from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
+from bedside.checks.window_stats import BlockStats, WindowStats
+from bedside.errors import InputError, StreamFormatError
+from bedside.stream.types import ChannelInfo, StreamHealth
+
+log = logging.getLogger("bedside")
+
+_LEVELS = (Level.GOOD, Level.CHECK, Level.BAD)
+
+
+@dataclass(frozen=True)
+class Geometry:
+    """Sizes in samples derived from the settings and the rate."""
+
+    block: int
+    n_blocks: int
+    segment: int
+    n_segments: int
+    refresh_blocks: int
+
+    @classmethod
+    def of(cls, settings: QualitySettings, rate_hz: float) -> Geometry:
+        block = max(1, round(rate_hz * settings.block_s))
+        per_segment = round(settings.segment_s / settings.block_s)
+        n_blocks = round(settings.window_s / settings.block_s)
+        n_segments = (n_blocks - per_segment) // (per_segment // 2) + 1
+        refresh = max(1, round(settings.refresh_s / settings.block_s))
+        return cls(block, n_blocks, block * per_segment, n_segments, refresh)
+
+
+def default_neighbours(names: Sequence[str]) -> list[tuple[str, str]]:
+    """The placement's neighbour graph for these names, or all pairs when it is not available."""
+    try:
+        from bedside.placement import neighbours_for  # type: ignore[attr-defined]
+    except ImportError:
+        neighbours_for = None
+    if neighbours_for is not None:
+        try:
+            return [tuple(p) for p in neighbours_for(list(names))]  # type: ignore[misc]
+        except Exception as exc:  # noqa: BLE001 - unknown names etc.: fall back, say so
+            log.info("neighbour graph unavailable (%s); bridging compares all pairs", exc)
+    return [(a, b) for i, a in enumerate(names) for b in names[i + 1 :]]
+
+
+class Engine:
+    """Live quality checks over a sliding window (see module docstring).
+
+    channels: in stream order; non-scalp channels (is_scalp False) are evaluated
+    lightly (finite and flat only) and take no part in cross-channel decisions.
+    neighbours: name pairs for bridging (default: the placement's graph, or all
+    pairs); amplifier_range_uv: ±range of the amplifier when known (rail, offset).
+    """
+
+    def __init__(
+        self,
+        settings: QualitySettings,
+        channels: Sequence[ChannelInfo],
+        rate_hz: float,
+        neighbours: Iterable[tuple[str, str]] | None = None,
+        amplifier_range_uv: float | None = None,
+    ) -> None:
+        if not channels:
+            raise StreamFormatError("the stream has no channels; bedside needs at least one EEG channel")
+        if not (isinstance(rate_hz, int | float) and math.isfinite(rate_hz)) or not (
+            settings.min_rate_hz <= rate_hz <= settings.max_rate_hz
+        ):
+            raise StreamFormatError(
+                f"sampling rate {rate_hz} Hz cannot be checked; accepted: "
+                f"{settings.min_rate_hz:g} to {settings.max_rate_hz:g} Hz (configs/quality.yaml)"
+            )
+        if amplifier_range_uv is not None and not (
+            math.isfinite(amplifier_range_uv) and amplifier_range_uv > 0
+        ):
+            raise InputError(f"amplifier range must be a positive number of µV, got {amplifier_range_uv}")
+        self.settings = settings
+        self.channels = tuple(channels)
+        self.names = tuple(ch.name for ch in channels)
+        self.rate_hz = float(rate_hz)
+        self.amplifier_range_uv = amplifier_range_uv
+        self.scalp = np.array([ch.is_scalp for ch in channels], dtype=bool)
+        self.geometry = g = Geometry.of(settings, self.rate_hz)
+        self.n_channels = c = len(channels)
+        rail = settings.flat.rail_fraction * amplifier_range_uv if amplifier_range_uv else None
+        self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
+        self._spec = SpectralAccumulator(
+            c, self.rate_hz, g.segment, g.n_segments, max(1, round(settings.refresh_s / (settings.segment_s / 2)))
+        )
+        self._pending = np.zeros((g.block, c))
+        self._n_pending = 0
+        self._samples = 0
+        self._last_time = float("nan")
+        self.neighbours = self._neighbour_index(neighbours)
+        self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates)
+        self._fhold = FindingHold(settings.hold.hold_s)
+        self._mains_hz: float | None = (
+            None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
+        )
+        self._cache_key = -1
+        self._cache: tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]] | None = None
+
+    # ------------------------------------------------------------------ input
+    def _neighbour_index(self, neighbours: Iterable[tuple[str, str]] | None) -> np.ndarray:
+        scalp_names = [n for n, s in zip(self.names, self.scalp, strict=True) if s]
+        pairs = list(neighbours) if neighbours is not None else default_neighbours(scalp_names)
+        index: dict[str, int] = {}
+        for i, n in enumerate(self.names):
+            if self.scalp[i]:
+                index.setdefault(n, i)
+                index.setdefault(n.lower(), i)
+        out: set[tuple[int, int]] = set()
+        for a, b in pairs:
+            ia, ib = index.get(a, index.get(str(a).lower())), index.get(b, index.get(str(b).lower()))
+            if ia is None or ib is None or ia == ib:
+                continue
+            out.add((min(ia, ib), max(ia, ib)))
+        return np.array(sorted(out), dtype=np.int64).reshape(-1, 2)
+
+    def push(self, samples_uv: np.ndarray, timestamps: np.ndarray | None = None) -> None:
+        """Take the new samples (n, n_channels) µV and their timestamps (n,) s."""
+        x = np.asarray(samples_uv, dtype=np.float64)
+        if x.ndim == 1 and self.n_channels == 1:
+            x = x[:, None]
+        if x.ndim != 2 or x.shape[1] != self.n_channels:
+            raise StreamFormatError(
+                f"samples have shape {x.shape}; expected (n_samples, {self.n_channels}) "
+                "— the stream's channel count changed from its metadata"
+            )
+        n = x.shape[0]
+        if timestamps is not None:
+            ts = np.asarray(timestamps, dtype=np.float64).reshape(-1)
+            if ts.shape[0] != n:
+                raise StreamFormatError(f"{n} samples but {ts.shape[0]} timestamps")
+            if n:
+                self._last_time = float(ts[-1])
+        pos = 0
+        b = self.geometry.block
+        while pos < n:
+            take = min(b - self._n_pending, n - pos)
+            if self._n_pending == 0 and take == b:
+                self._add_block(x[pos : pos + b])
+            else:
+                self._pending[self._n_pending : self._n_pending + take] = x[pos : pos + take]
+                self._n_pending += take
+                if self._n_pending == b:
+                    self._add_block(self._pending)
+                    self._n_pending = 0
+            pos += take
+
+    def _add_block(self, x: np.ndarray) -> None:
+        clean = self._blocks.add_block(x, self._samples)
+        self._spec.add(clean)
+        self._samples += x.shape[0]
+
+    def reset(self) -> None:
+        """Forget the window (after a gap or a reconnect: old data must not look live)."""
+        g, c = self.geometry, self.n_channels
+        rail = self.settings.flat.rail_fraction * self.amplifier_range_uv if self.amplifier_range_uv else None
+        self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
+        self._spec = SpectralAccumulator(c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments)
+        self._n_pending = 0
+        self._hold.reset()
+        self._fhold.reset()
+        self._cache_key = -1
+        self._cache = None
+
+    # ------------------------------------------------------------- state access
+    @property
+    def data_time_s(self) -> float:
+        """Seconds of data taken in (the engine's sample clock)."""
+        return self._samples / self.rate_hz
+
+    @property
+    def mains_hz(self) -> float | None:
+        return self._mains_hz
+
+    def window_stats(self) -> WindowStats | None:
+        return self._blocks.stats() if self._blocks.count else None
+
+    def spectrum(self) -> Spectrum | None:
+        return self._spec.spectrum()
+
+    # ------------------------------------------------------------------ output
+    def _no_data(self, why: str, health: StreamHealth | None) -> QualityFrame:
+        chans = tuple(
+            ChannelQuality(n, None, {}, (why,), bool(s)) for n, s in zip(self.names, self.scalp, strict=True)
+        )
+        return QualityFrame(
+            self._last_time, time.time(), chans, (), health, self.settings.window_s,
+            {"mains_hz": self._mains_hz, "data_s": self.data_time_s},
+        )
+
+    def evaluate(self, health: StreamHealth | None = None) -> QualityFrame:
+        """The verdicts for the current window (level None when there is no live data)."""
+        if health is not None and health.state != "live":
+            return self._no_data(f"no data: stream {health.state}", health)
+        have_s = self._blocks.filled * self.geometry.block / self.rate_hz
+        spec = self._spec.spectrum()
+        if have_s < self.settings.min_data_s or spec is None:
+            return self._no_data(
+                f"collecting data: {have_s:.1f} of {self.settings.min_data_s:g} s", health
+            )
+        key = self._blocks.count
+        if self._cache_key != key or self._cache is None:
+            self._cache = self._compute(self._blocks.stats(), spec)
+            self._cache_key = key
+        raw, reasons, per_check, metrics, findings = self._cache
+        now = self.data_time_s
+        shown, shown_reasons = self._hold.apply(raw, reasons, now)
+        findings = self._fhold.apply(findings, now)
+        names = list(metrics)
+        table = np.vstack([metrics[k] for k in names]).T.tolist() if names else [[]] * self.n_channels
+        check_names = list(per_check)
+        check_table = (
+            np.vstack([per_check[k] for k in check_names]).T.tolist() if check_names else [[]] * self.n_channels
+        )
+        chans = []
+        for i, name in enumerate(self.names):
+            chans.append(
+                ChannelQuality(
+                    name,
+                    _LEVELS[shown[i]],
+                    dict(zip(names, table[i], strict=True)),
+                    tuple(shown_reasons[i]),
+                    bool(self.scalp[i]),
+                    {k: _LEVELS[v].key for k, v in zip(check_names, check_table[i], strict=True)},
+                )
+            )
+        return QualityFrame(
+            self._last_time, time.time(), tuple(chans), findings, health, self.settings.window_s,
+            {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
+        )
+
+    def _compute(self, stats: WindowStats, spec: Spectrum) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]]:
+        s = self.settings
+        n = self.n_channels
+        finite = stats.nonfinite == 0
+        # Flat first, evaluated on every channel (non-scalp ones too: the light check).
+        all_ctx = Context(
+            self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.rate_hz,
+            s.window_s, self.amplifier_range_uv, self._mains_hz,
+        )
+        flat_res = flat.evaluate(stats, all_ctx, s)
+        valid = self.scalp & finite & (flat_res.level < BAD)
+        if s.line_noise.mains == "auto" and self._mains_hz is None:
+            found = line_noise.detect_mains(spec, s, valid)
+            if found is not None:
+                self._mains_hz = found
+                log.info("mains frequency detected: %g Hz", found)
+        ctx = Context(
+            self.names, self.scalp, valid, self.neighbours, self.rate_hz,
+            s.window_s, self.amplifier_range_uv, self._mains_hz,
+        )
+        results: dict[str, CheckResult] = {
+            "flat": flat_res,
+            "line_noise": line_noise.evaluate(spec, ctx, s),
+            "drift": drift.evaluate(stats, ctx, s),
+            "bridging": bridging.evaluate(stats, ctx, s),
+            "pops": artifacts.pops(stats, ctx, s),
+            "clipping": artifacts.clipping(stats, ctx, s),
+            "muscle": artifacts.muscle(spec, ctx, s),
+            "amplitude": artifacts.amplitude(stats, ctx, s),
+        }
+        results, shared = reference.evaluate(results, ctx, finite, s)
+        # Samples that are not numbers: flag the channel clearly, drop its other verdicts
+        # (they were computed on zero-filled data) and keep it out of everything shared.
+        bad_nf = ~finite
+        nf_level = np.where(bad_nf, BAD, GOOD).astype(np.int8)
+        nf_reasons = {
+            int(i): (
+                f"{int(stats.nonfinite[i])} samples are not numbers (NaN/Inf) in the last"
+                f" {s.window_s:g} s — check the amplifier channel and its cable"
+            )
+            for i in np.flatnonzero(bad_nf)
+        }
+        if bad_nf.any():
+            for name, res in list(results.items()):
+                lv = res.level.copy()
+                lv[bad_nf] = GOOD
+                rs = {i: t for i, t in res.reasons.items() if not bad_nf[i]}
+                results[name] = CheckResult(res.name, res.metrics, lv, rs, res.findings)
+        results["finite"] = CheckResult(
+            "finite", {"nonfinite_samples": stats.nonfinite.astype(float)}, nf_level, nf_reasons
+        )
+        level, reasons, per_check = combine(list(results.values()), n)
+        metrics: dict[str, np.ndarray] = {}
+        for res in results.values():
+            for k, v in res.metrics.items():
+                metrics.setdefault(k, np.asarray(v, dtype=float))
+        findings = [f for res in results.values() for f in res.findings]
+        findings.extend(shared)
+        findings.extend(placement_sanity.evaluate(spec, self.names, valid, s))
+        return level, reasons, per_check, metrics, tuple(findings)

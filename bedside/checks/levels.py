@@ -1,0 +1,86 @@
+"""Combining the checks into one verdict per channel, and keeping verdicts steady.
+
+combine: the channel's level is the worst of its checks' levels; its reasons are
+those of the non-good checks, worst first. LevelHold (hysteresis in time): a worse
+level shows only after ``confirm_updates`` consecutive updates, and once shown it
+stays for at least ``hold_s`` after its cause is gone, so a verdict does not
+flicker between updates. Times are on the engine's sample clock (s), so
+accelerated simulations behave as live ones.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from bedside.checks.base import BAD, CHECK, GOOD, CheckResult
+from bedside.checks.types import Finding
+
+
+def combine(results: list[CheckResult], n: int) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray]]:
+    """(level (n,), reasons per channel, per-check levels) from the checks' results."""
+    level = np.zeros(n, dtype=np.int8)
+    per_check: dict[str, np.ndarray] = {}
+    for res in results:
+        np.maximum(level, res.level, out=level)
+        per_check[res.name] = res.level
+    reasons: list[list[str]] = [[] for _ in range(n)]
+    for severity in (BAD, CHECK):
+        for res in results:
+            for i, text in res.reasons.items():
+                if res.level[i] == severity:
+                    reasons[i].append(text)
+    return level, reasons, per_check
+
+
+class LevelHold:
+    """Per-channel hold and confirmation of levels (see module docstring)."""
+
+    def __init__(self, n: int, hold_s: float, confirm_updates: int) -> None:
+        self.hold_s, self.confirm = hold_s, confirm_updates
+        self.streak = np.zeros((3, n), dtype=np.int64)  # consecutive updates at ≥ level
+        self.last_seen = np.full((3, n), -np.inf)  # last time a confirmed level ≥ L was seen
+        self.reasons: list[list[str]] = [[] for _ in range(n)]
+
+    def reset(self) -> None:
+        self.streak[:] = 0
+        self.last_seen[:] = -np.inf
+
+    def apply(self, raw: np.ndarray, reasons: list[list[str]], now_s: float) -> tuple[np.ndarray, list[list[str]]]:
+        shown = np.zeros_like(raw)
+        for lv in (CHECK, BAD):
+            at = raw >= lv
+            self.streak[lv] = np.where(at, self.streak[lv] + 1, 0)
+            confirmed = at & (self.streak[lv] >= self.confirm)
+            self.last_seen[lv][confirmed] = now_s
+            held = (now_s - self.last_seen[lv]) < self.hold_s
+            shown[confirmed | held] = lv
+        out_reasons: list[list[str]] = []
+        for i, lv in enumerate(shown):
+            if lv == GOOD:
+                out_reasons.append([])
+                self.reasons[i] = []
+            elif raw[i] >= lv and reasons[i]:
+                self.reasons[i] = reasons[i]
+                out_reasons.append(reasons[i])
+            else:
+                # Held: the cause just cleared; keep saying what it was.
+                out_reasons.append([*self.reasons[i], "(clearing — held briefly to avoid flicker)"]
+                                   if self.reasons[i] else reasons[i])
+        return shown, out_reasons
+
+
+class FindingHold:
+    """Keeps a finding for ``hold_s`` after it was last seen (keyed by kind and electrodes)."""
+
+    def __init__(self, hold_s: float) -> None:
+        self.hold_s = hold_s
+        self._seen: dict[tuple[str, tuple[str, ...]], tuple[float, Finding]] = {}
+
+    def reset(self) -> None:
+        self._seen.clear()
+
+    def apply(self, findings: tuple[Finding, ...], now_s: float) -> tuple[Finding, ...]:
+        for f in findings:
+            self._seen[(f.kind, f.electrodes)] = (now_s, f)
+        self._seen = {k: v for k, v in self._seen.items() if now_s - v[0] < self.hold_s or now_s == v[0]}
+        return tuple(v[1] for v in self._seen.values())

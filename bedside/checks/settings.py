@@ -1,0 +1,167 @@
+"""Settings of the quality checks, loaded strictly from ``configs/quality.yaml``.
+
+Every threshold lives in the YAML file with its source in a comment; the defaults
+here only mirror it so that a missing key takes a sensible value. Ranges in
+``metadata`` are what the loader accepts (out of range → ConfigError naming the
+file, line and key); relations between fields (check below bad …) are checked in
+``__post_init__`` and reported the same way.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Literal
+
+from bedside.config import CONFIG_DIR, load_config
+
+DEFAULT_PATH = CONFIG_DIR / "quality.yaml"
+
+
+def _rng(lo: float | None = None, hi: float | None = None) -> dict[str, float | None]:
+    return {"min": lo, "max": hi}
+
+
+def _band(name: str, band: tuple[float, float]) -> None:
+    if len(band) != 2 or not 0 <= band[0] < band[1]:
+        raise ValueError(f"'{name}' must be [low, high] with 0 <= low < high, got {list(band)}")
+
+
+def _order(section: str, low_name: str, low: float, high_name: str, high: float) -> None:
+    if not low <= high:
+        raise ValueError(
+            f"'{section}.{low_name}' ({low}) must not be above '{section}.{high_name}' ({high})"
+        )
+
+
+@dataclass(frozen=True)
+class HoldSettings:
+    hold_s: float = field(default=1.0, metadata=_rng(0.0, 30.0))
+    confirm_updates: int = field(default=1, metadata=_rng(1, 20))
+
+
+@dataclass(frozen=True)
+class LineNoiseSettings:
+    mains: Literal["auto", 50, 60] = "auto"
+    bandwidth_hz: float = field(default=1.0, metadata=_rng(0.1, 5.0))
+    harmonics: int = field(default=3, metadata=_rng(1, 10))
+    detect_prominence_db: float = field(default=4.0, metadata=_rng(0.0, 40.0))
+    check_db: float = field(default=0.0, metadata=_rng(-40.0, 40.0))
+    bad_db: float = field(default=10.0, metadata=_rng(-40.0, 60.0))
+
+    def __post_init__(self) -> None:
+        _order("line_noise", "check_db", self.check_db, "bad_db", self.bad_db)
+
+
+@dataclass(frozen=True)
+class FlatSettings:
+    ptp_bad_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
+    ptp_check_uv: float = field(default=10.0, metadata=_rng(0.0, 1000.0))
+    zero_diff_bad_fraction: float = field(default=0.95, metadata=_rng(0.0, 1.0))
+    rail_fraction: float = field(default=0.98, metadata=_rng(0.5, 1.0))
+
+    def __post_init__(self) -> None:
+        _order("flat", "ptp_bad_uv", self.ptp_bad_uv, "ptp_check_uv", self.ptp_check_uv)
+
+
+@dataclass(frozen=True)
+class DriftSettings:
+    slope_check_uv_per_s: float = field(default=50.0, metadata=_rng(0.0, 1e6))
+    slope_bad_uv_per_s: float = field(default=200.0, metadata=_rng(0.0, 1e6))
+    offset_check_fraction: float = field(default=0.5, metadata=_rng(0.0, 1.0))
+    offset_bad_fraction: float = field(default=0.9, metadata=_rng(0.0, 1.0))
+
+    def __post_init__(self) -> None:
+        _order("drift", "slope_check_uv_per_s", self.slope_check_uv_per_s,
+               "slope_bad_uv_per_s", self.slope_bad_uv_per_s)
+        _order("drift", "offset_check_fraction", self.offset_check_fraction,
+               "offset_bad_fraction", self.offset_bad_fraction)
+
+
+@dataclass(frozen=True)
+class BridgingSettings:
+    ed_max_uv2: float = field(default=16.0, metadata=_rng(0.0, 1e6))
+    corr_min: float = field(default=0.98, metadata=_rng(0.0, 1.0))
+    min_rms_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
+
+
+@dataclass(frozen=True)
+class ArtifactSettings:
+    pop_step_min_uv: float = field(default=50.0, metadata=_rng(0.0, 1e6))
+    pop_step_ratio: float = field(default=10.0, metadata=_rng(1.0, 1e6))
+    pop_check_count: int = field(default=1, metadata=_rng(1, 1000))
+    pop_bad_count: int = field(default=3, metadata=_rng(1, 1000))
+    clip_check_fraction: float = field(default=0.002, metadata=_rng(0.0, 1.0))
+    clip_bad_fraction: float = field(default=0.02, metadata=_rng(0.0, 1.0))
+    muscle_band_hz: tuple[float, float] = (50.0, 100.0)
+    muscle_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
+    muscle_z_min_ratio: float = field(default=0.3, metadata=_rng(0.0, 100.0))
+    muscle_ratio_check: float = field(default=1.0, metadata=_rng(0.0, 100.0))
+    rms_check_uv: float = field(default=100.0, metadata=_rng(0.0, 1e6))
+    rms_bad_uv: float = field(default=250.0, metadata=_rng(0.0, 1e6))
+    deviation_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
+    deviation_min_rms_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
+
+    def __post_init__(self) -> None:
+        _band("artifacts.muscle_band_hz", self.muscle_band_hz)
+        _order("artifacts", "pop_check_count", self.pop_check_count, "pop_bad_count", self.pop_bad_count)
+        _order("artifacts", "clip_check_fraction", self.clip_check_fraction,
+               "clip_bad_fraction", self.clip_bad_fraction)
+        _order("artifacts", "rms_check_uv", self.rms_check_uv, "rms_bad_uv", self.rms_bad_uv)
+
+
+@dataclass(frozen=True)
+class ReferenceSettings:
+    majority_fraction: float = field(default=0.7, metadata=_rng(0.5, 1.0))
+    min_channels: int = field(default=4, metadata=_rng(2, 1000))
+
+
+@dataclass(frozen=True)
+class PlacementSettings:
+    alpha_band_hz: tuple[float, float] = (8.0, 13.0)
+    min_evidence_ratio: float = field(default=2.0, metadata=_rng(1.0, 100.0))
+
+    def __post_init__(self) -> None:
+        _band("placement.alpha_band_hz", self.alpha_band_hz)
+
+
+@dataclass(frozen=True)
+class QualitySettings:
+    """All settings of the checks. Times in s, rates in Hz, amplitudes in µV."""
+
+    window_s: float = field(default=4.0, metadata=_rng(1.0, 60.0))
+    update_hz: float = field(default=4.0, metadata=_rng(0.2, 50.0))
+    block_s: float = field(default=0.25, metadata=_rng(0.01, 2.0))
+    segment_s: float = field(default=1.0, metadata=_rng(0.1, 10.0))
+    min_data_s: float = field(default=2.0, metadata=_rng(0.0, 60.0))
+    refresh_s: float = field(default=10.0, metadata=_rng(0.5, 3600.0))
+    min_rate_hz: float = field(default=64.0, metadata=_rng(1.0, 1e6))
+    max_rate_hz: float = field(default=20000.0, metadata=_rng(1.0, 1e6))
+    eeg_band_hz: tuple[float, float] = (1.0, 40.0)
+    hold: HoldSettings = field(default_factory=HoldSettings)
+    line_noise: LineNoiseSettings = field(default_factory=LineNoiseSettings)
+    flat: FlatSettings = field(default_factory=FlatSettings)
+    drift: DriftSettings = field(default_factory=DriftSettings)
+    bridging: BridgingSettings = field(default_factory=BridgingSettings)
+    artifacts: ArtifactSettings = field(default_factory=ArtifactSettings)
+    reference: ReferenceSettings = field(default_factory=ReferenceSettings)
+    placement: PlacementSettings = field(default_factory=PlacementSettings)
+
+    def __post_init__(self) -> None:
+        _band("eeg_band_hz", self.eeg_band_hz)
+        _order("quality", "segment_s", self.segment_s, "window_s", self.window_s)
+        _order("quality", "block_s", self.block_s, "segment_s", self.segment_s)
+        _order("quality", "min_data_s", self.min_data_s, "window_s", self.window_s)
+        _order("quality", "min_rate_hz", self.min_rate_hz, "max_rate_hz", self.max_rate_hz)
+        blocks_per_segment = self.segment_s / self.block_s
+        blocks_per_window = self.window_s / self.block_s
+        for name, value in (("segment_s", blocks_per_segment), ("window_s", blocks_per_window)):
+            if abs(value - round(value)) > 1e-6:
+                raise ValueError(f"'{name}' must be a whole number of 'block_s' ({self.block_s} s)")
+        if round(blocks_per_segment) % 2:
+            raise ValueError("'segment_s' must be an even number of 'block_s' (50 % overlap)")
+
+
+def load_quality(path: Path | str | None = None) -> QualitySettings:
+    """Load the ``quality:`` section of ``path`` (default: the shipped configs/quality.yaml)."""
+    return load_config(path if path is not None else DEFAULT_PATH, QualitySettings, section="quality")

@@ -1,0 +1,146 @@
+"""The one spectrum per update that all checks share.
+
+Welch's method (Welch 1967) as ``scipy.signal.welch`` computes it with its defaults
+(periodic Hann window, constant detrend per segment, one-sided density, mean over
+segments), made incremental: a segment of ``segment`` samples is transformed once,
+when it completes (every ``hop`` = segment/2 samples), and its periodogram is kept
+in a ring; the window's PSD is the mean of the periodograms in the ring, kept as a
+running sum with a periodic exact re-sum.
+
+Arrays: samples (n_samples, n_channels) µV; PSD (n_freqs, n_channels) µV²/Hz.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.signal import get_window
+
+
+@dataclass(frozen=True)
+class Spectrum:
+    """PSD of the window. freqs_hz (F,); psd_uv2_per_hz (F, C); n_segments averaged;
+    span: (first_sample, n_samples) of the stream the segments cover."""
+
+    freqs_hz: np.ndarray
+    psd_uv2_per_hz: np.ndarray
+    n_segments: int
+    span: tuple[int, int]
+
+    @property
+    def df_hz(self) -> float:
+        return float(self.freqs_hz[1] - self.freqs_hz[0])
+
+
+def band_matrix(freqs_hz: np.ndarray, bands: list[tuple[float, float]]) -> np.ndarray:
+    """(n_bands, F) weights so that ``M @ psd`` gives each band's power in µV² (bins × df).
+
+    A bin belongs to a band when its centre lies in [low, high]. Empty bands get a row of zeros.
+    """
+    df = float(freqs_hz[1] - freqs_hz[0])
+    m = np.zeros((len(bands), len(freqs_hz)))
+    for i, (lo, hi) in enumerate(bands):
+        m[i, (freqs_hz >= lo - 1e-9) & (freqs_hz <= hi + 1e-9)] = df
+    return m
+
+
+def periodogram_scale(window: np.ndarray, rate_hz: float) -> float:
+    """Density scaling of scipy.signal.welch: 1 / (fs · Σw²)."""
+    return 1.0 / (rate_hz * float(np.sum(window**2)))
+
+
+def welch_psd(x_uv: np.ndarray, rate_hz: float, segment: int) -> tuple[np.ndarray, np.ndarray]:
+    """Plain (non-incremental) Welch PSD of x (n_samples, C) µV, 50 % overlap.
+
+    Returns (freqs_hz (F,), psd (F, C) µV²/Hz). Same definition as the streaming
+    accumulator; used by the benchmark and to refresh from raw data.
+    """
+    hop = segment // 2
+    w = get_window("hann", segment)
+    scale = periodogram_scale(w, rate_hz)
+    n_seg = (x_uv.shape[0] - segment) // hop + 1
+    acc = np.zeros((segment // 2 + 1, x_uv.shape[1]))
+    for k in range(n_seg):
+        seg = x_uv[k * hop : k * hop + segment]
+        acc += _periodogram(seg, w, scale)
+    return np.fft.rfftfreq(segment, 1.0 / rate_hz), acc / max(n_seg, 1)
+
+
+def _periodogram(seg: np.ndarray, w: np.ndarray, scale: float) -> np.ndarray:
+    seg = seg - seg.mean(axis=0)
+    spec = np.fft.rfft(seg * w[:, None], axis=0)
+    p = (spec.real**2 + spec.imag**2) * scale
+    p[1:] *= 2.0
+    if seg.shape[0] % 2 == 0:
+        p[-1] /= 2.0
+    return p
+
+
+class SpectralAccumulator:
+    """Streaming Welch PSD over the last ``n_segments`` segments (see module docstring)."""
+
+    def __init__(self, n_channels: int, rate_hz: float, segment: int, n_segments: int,
+                 refresh_segments: int) -> None:
+        self.segment, self.hop = segment, segment // 2
+        self.rate_hz = rate_hz
+        self.n_segments = n_segments
+        self.refresh_segments = max(1, refresh_segments)
+        self.window = get_window("hann", segment)
+        self.scale = periodogram_scale(self.window, rate_hz)
+        self.freqs_hz = np.fft.rfftfreq(segment, 1.0 / rate_hz)
+        f = len(self.freqs_hz)
+        self._buf = np.zeros((segment, n_channels))  # the last `segment` samples, oldest first
+        self._have = 0
+        self._since_hop = 0
+        self._ring = np.zeros((n_segments, f, n_channels))
+        self._ring_start = np.zeros(n_segments, dtype=np.int64)
+        self._sum = np.zeros((f, n_channels))
+        self.count = 0
+        self._since_refresh = 0
+        self._sample = 0  # samples seen
+
+    def add(self, x: np.ndarray) -> bool:
+        """Take new samples (n, C) µV (finite); returns True when a segment completed."""
+        done = False
+        pos = 0
+        n = x.shape[0]
+        while pos < n:
+            take = min(self.hop - self._since_hop, n - pos)
+            part = x[pos : pos + take]
+            self._buf[:-take] = self._buf[take:]
+            self._buf[-take:] = part
+            self._have = min(self.segment, self._have + take)
+            self._since_hop += take
+            self._sample += take
+            pos += take
+            if self._since_hop == self.hop:
+                self._since_hop = 0
+                if self._have == self.segment:
+                    self._complete()
+                    done = True
+        return done
+
+    def _complete(self) -> None:
+        slot = self.count % self.n_segments
+        p = _periodogram(self._buf, self.window, self.scale)
+        if self.count >= self.n_segments:
+            self._sum -= self._ring[slot]
+        self._ring[slot] = p
+        self._ring_start[slot] = self._sample - self.segment
+        self._sum += p
+        self.count += 1
+        self._since_refresh += 1
+        if self._since_refresh >= self.refresh_segments:
+            k = min(self.count, self.n_segments)
+            self._sum = self._ring[:k].sum(axis=0) if self.count <= self.n_segments else self._ring.sum(axis=0)
+            self._since_refresh = 0
+
+    def spectrum(self) -> Spectrum | None:
+        k = min(self.count, self.n_segments)
+        if k == 0:
+            return None
+        starts = self._ring_start[:k] if self.count <= self.n_segments else self._ring_start
+        first = int(starts.min())
+        span = (first, int(starts.max()) + self.segment - first)
+        return Spectrum(self.freqs_hz, np.maximum(self._sum / k, 0.0), k, span)

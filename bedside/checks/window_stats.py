@@ -1,0 +1,180 @@
+"""Time-domain statistics of the sliding window, kept incrementally block by block.
+
+Sample arrays are (n_samples, n_channels) in µV. New samples are summarised once,
+per block of ``block`` samples, into small per-block statistics (mean, scatter
+matrix about the block mean, extremes, sample-to-sample steps …) kept in a ring of
+``n_blocks`` slots. The window's statistics are combined from the ring:
+
+* covariance by the pairwise (parallel) combination of Chan, Golub & LeVeque
+  (1979): scatter = Σ_b M2_b + n_b Σ_b (m_b − m)(m_b − m)ᵀ, with M2_b the scatter of
+  block b about its own mean — numerically safe (no large sums of squares are
+  subtracted), and Σ_b M2_b is kept as a running sum that is re-summed exactly
+  from the ring every ``refresh_blocks`` blocks;
+* extremes, counts and steps from the per-block values.
+
+Only the samples that arrived since the last update are touched.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class WindowStats:
+    """The window's time-domain statistics, per channel unless stated.
+
+    n_samples: samples in the window; block_means_uv: (n_blocks, C), oldest first;
+    block_times_s: (n_blocks,) centre time of each block on the engine's sample
+    clock; cov_uv2: (C, C) covariance (ddof=1); mean_uv, var_uv2, ptp_uv,
+    max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
+    change; clip_fraction: share of samples in runs at the block extreme (or at
+    the rail when the amplifier range is known); step_max_uv: (n_blocks, C)
+    largest single-sample step per block; step_rms_uv: (n_blocks, C) RMS of the
+    steps per block; nonfinite: (C,) NaN/±Inf samples in the window.
+    """
+
+    n_samples: int
+    block_means_uv: np.ndarray
+    block_times_s: np.ndarray
+    cov_uv2: np.ndarray
+    mean_uv: np.ndarray
+    var_uv2: np.ndarray
+    ptp_uv: np.ndarray
+    max_abs_uv: np.ndarray
+    zero_diff_fraction: np.ndarray
+    clip_fraction: np.ndarray
+    step_max_uv: np.ndarray
+    step_rms_uv: np.ndarray
+    nonfinite: np.ndarray
+
+    @property
+    def rms_uv(self) -> np.ndarray:
+        """Standard deviation over the window (AC RMS), µV."""
+        return np.sqrt(np.maximum(self.var_uv2, 0.0))
+
+
+class BlockStats:
+    """Ring of per-block statistics over the last ``n_blocks`` blocks of ``block`` samples."""
+
+    def __init__(
+        self,
+        n_channels: int,
+        block: int,
+        n_blocks: int,
+        refresh_blocks: int,
+        rate_hz: float,
+        rail_uv: float | None = None,
+    ) -> None:
+        c = n_channels
+        self.block, self.n_blocks, self.rate_hz = block, n_blocks, rate_hz
+        self.refresh_blocks = max(1, refresh_blocks)
+        self.rail_uv = rail_uv
+        self.means = np.zeros((n_blocks, c))
+        self.m2 = np.zeros((n_blocks, c, c))
+        self.maxs = np.zeros((n_blocks, c))
+        self.mins = np.zeros((n_blocks, c))
+        self.step_max = np.zeros((n_blocks, c))
+        self.step_ss = np.zeros((n_blocks, c))
+        self.zero_diffs = np.zeros((n_blocks, c))
+        self.clipped = np.zeros((n_blocks, c))
+        self.nonfinite = np.zeros((n_blocks, c))
+        self.starts = np.zeros(n_blocks, dtype=np.int64)
+        self.m2_sum = np.zeros((c, c))
+        self.count = 0  # blocks seen since start
+        self._last = np.zeros(c)  # last sample of the previous block (for steps)
+        self._have_last = False
+        self._since_refresh = 0
+
+    @property
+    def filled(self) -> int:
+        return min(self.count, self.n_blocks)
+
+    def add_block(self, x: np.ndarray, start_sample: int) -> np.ndarray:
+        """Summarise one block (block, C) µV; returns the block with NaN/Inf replaced by 0."""
+        finite = np.isfinite(x)
+        bad = ~finite
+        nonfinite = bad.sum(axis=0)
+        if nonfinite.any():
+            x = np.where(finite, x, 0.0)
+        slot = self.count % self.n_blocks
+        if self.count >= self.n_blocks:
+            self.m2_sum -= self.m2[slot]
+        mean = x.mean(axis=0)
+        xc = x - mean
+        m2 = xc.T @ xc
+        self.m2[slot] = m2
+        self.m2_sum += m2
+        mx, mn = x.max(axis=0), x.min(axis=0)
+        prev = self._last if self._have_last else x[0]
+        steps = np.empty_like(x)
+        steps[0] = x[0] - prev
+        np.subtract(x[1:], x[:-1], out=steps[1:])
+        np.abs(steps, out=steps)
+        still = steps == 0.0
+        at_edge = (x == mx) | (x == mn)
+        clipped = (still & at_edge).sum(axis=0)
+        if self.rail_uv is not None:
+            clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
+        self.means[slot] = mean
+        self.maxs[slot], self.mins[slot] = mx, mn
+        self.step_max[slot] = steps.max(axis=0)
+        self.step_ss[slot] = np.einsum("ij,ij->j", steps, steps)
+        self.zero_diffs[slot] = still.sum(axis=0)
+        self.clipped[slot] = clipped
+        self.nonfinite[slot] = nonfinite
+        self.starts[slot] = start_sample
+        self._last = x[-1].copy()
+        self._have_last = True
+        self.count += 1
+        self._since_refresh += 1
+        if self._since_refresh >= self.refresh_blocks:
+            self.refresh()
+        return x
+
+    def refresh(self) -> None:
+        """Re-sum the running scatter exactly from the ring (undoes rounding drift)."""
+        k = self.filled
+        order = self._order()[:k]
+        self.m2_sum = self.m2[order].sum(axis=0) if k else np.zeros_like(self.m2_sum)
+        self._since_refresh = 0
+
+    def _order(self) -> np.ndarray:
+        """Ring slots oldest → newest."""
+        k = self.filled
+        if self.count <= self.n_blocks:
+            return np.arange(k)
+        first = self.count % self.n_blocks
+        return (np.arange(self.n_blocks) + first) % self.n_blocks
+
+    def stats(self) -> WindowStats:
+        """Combine the ring into the window's statistics."""
+        order = self._order()
+        k = len(order)
+        b = self.block
+        n = k * b
+        means = self.means[order]
+        mean = means.mean(axis=0)
+        d = means - mean
+        scatter = self.m2_sum + b * (d.T @ d)
+        cov = scatter / max(n - 1, 1)
+        var = np.diag(cov).copy()
+        times = (self.starts[order] + b / 2.0) / self.rate_hz
+        maxs, mins = self.maxs[order].max(axis=0), self.mins[order].min(axis=0)
+        return WindowStats(
+            n_samples=n,
+            block_means_uv=means,
+            block_times_s=times,
+            cov_uv2=cov,
+            mean_uv=mean,
+            var_uv2=var,
+            ptp_uv=maxs - mins,
+            max_abs_uv=np.maximum(np.abs(maxs), np.abs(mins)),
+            zero_diff_fraction=self.zero_diffs[order].sum(axis=0) / n,
+            clip_fraction=self.clipped[order].sum(axis=0) / n,
+            step_max_uv=self.step_max[order],
+            step_rms_uv=np.sqrt(self.step_ss[order] / b),
+            nonfinite=self.nonfinite[order].sum(axis=0),
+        )
