@@ -38,7 +38,8 @@ class ChannelInfo:
     unchanged when unknown); kind: "EEG" for scalp channels, else "ECG", "EOG",
     "EMG", "TRIG", "MISC", "REF"; unit: as sent ("" when missing); scale_to_uv:
     the factor that turns the stream's values into µV; is_scalp: takes part in
-    scalp checks.
+    scalp checks; note: what bedside had to assume or change for this channel
+    (unit missing, label empty or repeated), "" when nothing.
     """
 
     label: str
@@ -47,6 +48,7 @@ class ChannelInfo:
     unit: str
     scale_to_uv: float
     is_scalp: bool
+    note: str = ""
 
 
 @dataclass(frozen=True)
@@ -69,6 +71,12 @@ class StreamHealth:
     timestamps over the recent past. gaps / dropped_samples: counted since the
     session started, from timestamp jumps. seconds_since_data: wall-clock time
     since the last sample arrived. clock_offset_s: LSL time correction.
+    reconnects: times the data came back after "lost". clock_jumps: timestamps that
+    went backwards or into the future (not counted as dropped samples). bursts: pulls
+    that brought more than a second or so of data at once. untrusted_sources:
+    source_ids of other streams with the same name, seen but not used until the
+    user chooses one (``LslSource.other_candidates()``). notes: plain-language
+    events, newest last.
     """
 
     state: StreamState
@@ -80,6 +88,9 @@ class StreamHealth:
     clock_offset_s: float = 0.0
     reconnects: int = 0
     notes: tuple[str, ...] = field(default_factory=tuple)
+    clock_jumps: int = 0
+    bursts: int = 0
+    untrusted_sources: tuple[str, ...] = field(default_factory=tuple)
 
     def as_dict(self) -> dict[str, object]:
         return {
@@ -92,4 +103,7 @@ class StreamHealth:
             "clock_offset_s": self.clock_offset_s,
             "reconnects": self.reconnects,
             "notes": list(self.notes),
+            "clock_jumps": self.clock_jumps,
+            "bursts": self.bursts,
+            "untrusted_sources": list(self.untrusted_sources),
         }

@@ -1,0 +1,140 @@
+"""Find LSL streams and choose one — never by guessing.
+
+Every command that reads a stream selects it the same way (``--stream NAME``,
+``--source-id ID``, ``--host HOST``): :func:`select_stream` keeps the candidates that
+match every given criterion; exactly one must remain. With several and nothing to tell
+them apart it raises :class:`AmbiguousStream` listing them (two beds side by side both
+publish EEG); with none, :class:`StreamNotFound` saying what was visible.
+"""
+
+from __future__ import annotations
+
+import logging
+from collections.abc import Sequence
+from typing import Any
+
+from bedside.errors import AmbiguousStream, StreamFormatError, StreamNotFound
+from bedside.stream.lsl import pylsl
+from bedside.stream.types import StreamIdentity
+
+log = logging.getLogger("bedside")
+
+
+def identity_of(info: Any) -> StreamIdentity:
+    """A pylsl StreamInfo as a StreamIdentity."""
+    return StreamIdentity(
+        name=info.name(),
+        type=info.type(),
+        source_id=info.source_id(),
+        hostname=info.hostname(),
+        n_channels=int(info.channel_count()),
+        nominal_rate_hz=float(info.nominal_srate()),
+    )
+
+
+def describe(identity: StreamIdentity) -> str:
+    """One line a person can tell streams apart by."""
+    sid = identity.source_id or "(no source_id)"
+    return (
+        f"'{identity.name}' (type {identity.type or '?'}, source_id {sid}, host "
+        f"{identity.hostname or '?'}, {identity.n_channels} ch, {identity.nominal_rate_hz:g} Hz)"
+    )
+
+
+def visible_streams(wait_s: float = 2.0) -> list[StreamIdentity]:
+    """Every stream visible within ``wait_s`` seconds, of any type, sorted by name."""
+    if not wait_s > 0:
+        raise ValueError(f"wait_s must be greater than zero, got {wait_s}")
+    infos = pylsl().resolve_streams(wait_time=float(wait_s))
+    found = sorted({identity_of(i) for i in infos}, key=lambda s: (s.name, s.hostname, s.source_id))
+    log.debug("LSL: %d streams visible", len(found))
+    return found
+
+
+def _is_type(identity: StreamIdentity, stream_type: str | None) -> bool:
+    return stream_type is None or identity.type.strip().casefold() == stream_type.casefold()
+
+
+def find_streams(wait_s: float = 2.0, stream_type: str | None = "EEG") -> list[StreamIdentity]:
+    """Streams of ``stream_type`` (compared without case; None: all) visible within ``wait_s``."""
+    return [s for s in visible_streams(wait_s) if _is_type(s, stream_type)]
+
+
+def _criteria(name: str | None, source_id: str | None, host: str | None) -> str:
+    parts = []
+    if name is not None:
+        parts.append(f"--stream {name!r}")
+    if source_id is not None:
+        parts.append(f"--source-id {source_id!r}")
+    if host is not None:
+        parts.append(f"--host {host!r}")
+    return " ".join(parts)
+
+
+def select_stream(
+    candidates: Sequence[StreamIdentity],
+    name: str | None = None,
+    source_id: str | None = None,
+    host: str | None = None,
+) -> StreamIdentity:
+    """The one candidate matching every given criterion (exact text)."""
+    matches = [
+        c
+        for c in candidates
+        if (name is None or c.name == name)
+        and (source_id is None or c.source_id == source_id)
+        and (host is None or c.hostname == host)
+    ]
+    if len(matches) == 1:
+        return matches[0]
+    asked = _criteria(name, source_id, host)
+    if not matches:
+        if not candidates:
+            raise StreamNotFound(
+                "no EEG streams visible" + (f" (looked for {asked})" if asked else "")
+                + "; is the amplifier's LSL program running on this network?"
+            )
+        listing = "\n".join("  " + describe(c) for c in candidates)
+        raise StreamNotFound(f"no EEG stream matches {asked}; visible:\n{listing}")
+    listing = "\n".join("  " + describe(c) for c in matches)
+    how = "--source-id" if len({c.source_id for c in matches}) == len(matches) else "--host"
+    raise AmbiguousStream(
+        f"{len(matches)} EEG streams match{(' ' + asked) if asked else ''}; bedside will not "
+        f"guess. Pin one with {how}:\n{listing}",
+        tuple(matches),
+    )
+
+
+def resolve_one(
+    name: str | None = None,
+    source_id: str | None = None,
+    host: str | None = None,
+    wait_s: float = 3.0,
+    stream_type: str = "EEG",
+) -> StreamIdentity:
+    """Look for ``wait_s`` seconds and return the single EEG stream that matches.
+
+    A pinned stream that is visible but of another type (e.g. a marker stream) is a
+    :class:`StreamFormatError` that says so, rather than "not found".
+    """
+    everything = visible_streams(wait_s)
+    eeg = [s for s in everything if _is_type(s, stream_type)]
+    pinned = name is not None or source_id is not None or host is not None
+    try:
+        return select_stream(eeg, name, source_id, host)
+    except StreamNotFound:
+        if pinned:
+            other = [
+                s
+                for s in everything
+                if not _is_type(s, stream_type)
+                and (name is None or s.name == name)
+                and (source_id is None or s.source_id == source_id)
+                and (host is None or s.hostname == host)
+            ]
+            if other:
+                raise StreamFormatError(
+                    f"{describe(other[0])} is a stream of type '{other[0].type}', not "
+                    f"{stream_type}; bedside reads {stream_type} streams only"
+                ) from None
+        raise
