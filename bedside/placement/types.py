@@ -32,6 +32,10 @@ class Mark:
     xyz_mm: position on the fitted head model (x right, y front, z up; origin at the
     centre of the preauricular line — the RAS convention used by BIDS 'CapTrak'-like
     frames). how: for derived sites, plain words on how to find them.
+    arc_cm: for derived sites, the model's estimate of the length of the arc the site
+    subdivides (e.g. Fz to F7 along F7–Fz–F8).
+    rule: for F3/F4/P3/P4, the published rule used for the position; rule_gap_cm: how
+    far the other published rule's point lies from it on this head (cm).
     """
 
     name: str
@@ -44,6 +48,8 @@ class Mark:
     xyz_mm: tuple[float, float, float]
     how: str = ""
     arc_cm: float | None = None
+    rule: str = ""
+    rule_gap_cm: float | None = None
 
 
 @dataclass(frozen=True)

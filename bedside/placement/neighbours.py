@@ -1,0 +1,60 @@
+"""Which sites are next to each other (for the bridging check).
+
+The rule is ours (geometry, not a published norm): two sites are neighbours when
+they are close on the scalp and no third site lies between them. "Between" means a
+third site sees the pair under an angle wider than ``_BETWEEN_ANGLE_DEG`` — a relaxed
+Gabriel graph (the plain Gabriel rule, 90°, would drop the diagonals of a square
+grid, which can bridge as easily as the sides). "Close" means a chord shorter than
+``_MAX_CHORD_FRACTION`` of the head's circumference: a little more than the widest
+step of the 10-20 system (20 % of an arc over the vertex, about 0.125 of the
+circumference), so a sparse 10-20 montage keeps its natural neighbours while sites
+on opposite sides of the head never pair.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+
+import numpy as np
+
+_BETWEEN_ANGLE_DEG = 110.0
+_MAX_CHORD_FRACTION = 0.14
+
+
+def neighbour_pairs(
+    positions_mm: Mapping[str, tuple[float, float, float]], circumference_mm: float
+) -> tuple[tuple[str, str], ...]:
+    """Adjacent pairs among ``positions_mm`` (each pair sorted, the list sorted).
+
+    positions_mm: site name -> (x, y, z) in mm on one head; circumference_mm: that
+    head's 10-20 circumference (sets the largest distance that still counts as near).
+    """
+    names = list(positions_mm)
+    n = len(names)
+    if n < 2:
+        return ()
+    p = np.asarray([positions_mm[k] for k in names], dtype=float)
+    diff = p[:, None, :] - p[None, :, :]
+    d2 = np.einsum("ijk,ijk->ij", diff, diff)
+    close = d2 <= (_MAX_CHORD_FRACTION * circumference_mm) ** 2
+    # k lies between i and j when the angle i-k-j exceeds the limit:
+    # cos(angle) = (d_ik² + d_jk² - d_ij²) / (2 d_ik d_jk) < cos(limit).
+    dik = d2[:, None, :]  # [i, ., k]
+    djk = d2[None, :, :]  # [., j, k]
+    dij = d2[:, :, None]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cos_k = (dik + djk - dij) / (2.0 * np.sqrt(dik * djk))
+    cos_limit = math.cos(math.radians(_BETWEEN_ANGLE_DEG))
+    idx = np.arange(n)
+    valid_k = (idx[None, None, :] != idx[:, None, None]) & (
+        idx[None, None, :] != idx[None, :, None]
+    )
+    blocked = np.any(valid_k & np.isfinite(cos_k) & (cos_k < cos_limit), axis=2)
+    pairs = []
+    for i in range(n):
+        for j in range(i + 1, n):
+            if close[i, j] and not blocked[i, j] and d2[i, j] > 0.0:
+                a, b = sorted((names[i], names[j]))
+                pairs.append((a, b))
+    return tuple(sorted(set(pairs)))
