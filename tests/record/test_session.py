@@ -1,0 +1,290 @@
+"""The session recorder: autosave, file mode, resume, corrupt files, disk faults, threads.
+
+Disk faults are injected at the OS boundary (os.replace / tempfile.mkstemp raising the
+errno a full or read-only disk gives), because these tests run as root, for whom a
+chmod-ed folder is still writable. errno values: POSIX (ENOSPC, EROFS, ENOENT).
+"""
+
+from __future__ import annotations
+
+import errno
+import logging
+import os
+import stat
+import threading
+import time
+from pathlib import Path
+
+import pytest
+from record_factories import FakeClock, make_channels, make_frame, make_identity, make_plan
+
+from bedside.checks.types import Level
+from bedside.errors import InputError, LogSaveError, RecordError
+from bedside.record import atomic
+from bedside.record.log import load_log
+from bedside.record.session import SessionRecorder
+
+
+def _wait_for(predicate, timeout_s: float = 5.0) -> bool:  # type: ignore[no-untyped-def]
+    deadline = time.monotonic() + timeout_s
+    while time.monotonic() < deadline:
+        if predicate():
+            return True
+        time.sleep(0.02)
+    return False
+
+
+def test_file_is_owner_only_and_saved_at_once(tmp_path: Path, clock: FakeClock) -> None:
+    path = tmp_path / "W3-017.yaml"
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        assert path.exists(), "the log is on disk as soon as the session opens"
+        assert stat.S_IMODE(path.stat().st_mode) == 0o600
+        lock = tmp_path / ".W3-017.yaml.lock"
+        assert stat.S_IMODE(lock.stat().st_mode) == 0o600
+        assert rec.status.error is None and rec.status.last_saved is not None
+    assert stat.S_IMODE(path.stat().st_mode) == 0o600
+    assert not list(tmp_path.glob(".*.tmp")), "no temp files left behind"
+
+
+def test_autosave_writes_changes_within_the_interval(tmp_path: Path) -> None:
+    path = tmp_path / "auto.yaml"
+    rec = SessionRecorder.open(path, subject_id="W3-017", autosave_s=0.2)
+    try:
+        rec.on_frame(make_frame(time.time(), {"Cz": Level.BAD}))
+        assert _wait_for(lambda: len(load_log(path).timeline) == 1, 2.0)
+        assert rec.status.unsaved_changes is False
+    finally:
+        rec.close()
+
+
+def test_autosave_interval_is_bounded() -> None:
+    for bad in (0, 5.0, -1, float("nan"), True):
+        with pytest.raises(InputError, match="autosave interval"):
+            SessionRecorder.open("/nonexistent/x.yaml", autosave_s=bad)
+
+
+def test_level_changes_only_and_final_state(tmp_path: Path, clock: FakeClock) -> None:
+    with SessionRecorder.open(tmp_path / "l.yaml", subject_id="W3-017", clock=clock) as rec:
+        t = clock.now
+        for i in range(5):  # the same levels five times: one entry per electrode
+            rec.on_frame(make_frame(t + i, {"Cz": Level.BAD, "O1": Level.GOOD}))
+        rec.on_frame(make_frame(t + 6, {"Cz": None, "O1": None}, state="lost"))
+        rec.on_frame(make_frame(t + 9, {"Cz": Level.GOOD, "O1": Level.GOOD}, reconnects=1))
+        snap = rec.snapshot()
+    assert [(c.electrode, c.to_level) for c in snap.timeline] == [
+        ("Cz", "bad"), ("O1", "good"), ("Cz", "no_data"), ("O1", "no_data"), ("Cz", "good"), ("O1", "good"),
+    ]  # fmt: skip
+    # No-data frames do not overwrite the last live verdict.
+    assert snap.final["Cz"].level == "good" and snap.final["Cz"].at == snap.timeline[-2].at
+    kinds = [(e.kind, e.detail) for e in snap.events if e.kind.startswith("stream_")]
+    assert kinds[:3] == [
+        ("stream_state", "start → live"),
+        ("stream_state", "live → lost"),
+        ("stream_state", "lost → live"),
+    ]
+    assert ("stream_reconnect", "reconnect #1") in kinds
+
+
+def test_resume_continues_the_same_log(tmp_path: Path, clock: FakeClock) -> None:
+    path = tmp_path / "r.yaml"
+    with SessionRecorder.open(path, technologist="AB", subject_id="W3-017", clock=clock) as rec:
+        rec.set_plan(make_plan())
+        rec.on_frame(make_frame(clock.now, {"Cz": Level.BAD}))
+    first = load_log(path)
+    clock.advance(60)
+    with SessionRecorder.open(path, technologist="CD", clock=clock) as rec:
+        rec.on_frame(make_frame(clock.now, {"Cz": Level.BAD}))  # unchanged: no new entry
+        rec.on_frame(make_frame(clock.now + 1, {"Cz": Level.GOOD}))
+    second = load_log(path)
+    assert second.started_at == first.started_at
+    assert [c.to_level for c in second.timeline] == ["bad", "good"]
+    assert second.technologist == "CD" and second.subject_id == "W3-017"
+    resumed = [e for e in second.events if e.kind == "resumed"]
+    assert len(resumed) == 1 and "AB → CD" in resumed[0].detail
+    assert second.ended_at is not None and second.ended_at > first.ended_at  # type: ignore[operator]
+
+
+def test_resume_refuses_another_subjects_log(tmp_path: Path, clock: FakeClock) -> None:
+    path = tmp_path / "r.yaml"
+    SessionRecorder.open(path, subject_id="W3-017", clock=clock).close()
+    with pytest.raises(RecordError, match="log of subject W3-017, not W3-099"):
+        SessionRecorder.open(path, subject_id="W3-099", clock=clock)
+    assert load_log(path).subject_id == "W3-017"
+
+
+def test_corrupt_log_on_resume_is_kept_aside_and_reported(
+    tmp_path: Path, clock: FakeClock, caplog: pytest.LogCaptureFixture
+) -> None:
+    path = tmp_path / "c.yaml"
+    garbage = b"format: bedside-setup-log\nformat_version: 1\ntimeline: [ {at: \n"
+    path.write_bytes(garbage)
+    with caplog.at_level(logging.WARNING, logger="bedside"):
+        rec = SessionRecorder.open(path, subject_id="W3-017", clock=clock)
+    try:
+        notice = rec.status.notice
+        assert notice is not None and "could not be read" in notice and "kept as" in notice
+        aside = list(tmp_path.glob("c.yaml.corrupt-*"))
+        assert len(aside) == 1 and aside[0].read_bytes() == garbage, "original bytes kept"
+        assert str(aside[0]) in notice
+        assert any("kept as" in r.getMessage() for r in caplog.records)
+    finally:
+        rec.close()
+    fresh = load_log(path)
+    assert fresh.subject_id == "W3-017"
+    assert [e.kind for e in fresh.events][:3] == ["opened", "corrupt_log", "corrupt_log_kept_aside"]
+
+
+def test_corrupt_log_that_cannot_be_moved_is_never_overwritten(
+    tmp_path: Path, clock: FakeClock, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    path = tmp_path / "c.yaml"
+    path.write_bytes(b"\x00\x01 not yaml at all")
+    real_rename = os.rename
+
+    def refuse(src: object, dst: object) -> None:
+        raise OSError(errno.EROFS, "Read-only file system")
+
+    monkeypatch.setattr(os, "rename", refuse)
+    rec = SessionRecorder.open(path, subject_id="W3-017", clock=clock, autosave_s=0.1)
+    try:
+        assert rec.status.error is not None and "not overwritten" in rec.status.error
+        time.sleep(0.3)  # several autosave ticks
+        assert path.read_bytes() == b"\x00\x01 not yaml at all"
+        monkeypatch.setattr(os, "rename", real_rename)
+        assert _wait_for(lambda: rec.status.error is None)
+    finally:
+        rec.close()
+    assert list(tmp_path.glob("c.yaml.corrupt-*"))[0].read_bytes() == b"\x00\x01 not yaml at all"
+    assert load_log(path).subject_id == "W3-017"
+
+
+@pytest.mark.parametrize(
+    ("code", "words"),
+    [(errno.ENOSPC, "is full"), (errno.EROFS, "read-only file system"), (errno.EDQUOT, "quota")],
+)
+def test_disk_full_or_read_only_is_reported_kept_and_retried(
+    tmp_path: Path, caplog: pytest.LogCaptureFixture, monkeypatch: pytest.MonkeyPatch, code: int, words: str
+) -> None:
+    path = tmp_path / "d.yaml"
+    rec = SessionRecorder.open(path, subject_id="W3-017", autosave_s=0.1)
+    real_replace = os.replace
+    failing = threading.Event()
+    failing.set()
+
+    def replace(src: str, dst: str) -> None:
+        if failing.is_set():
+            raise OSError(code, os.strerror(code))
+        real_replace(src, dst)
+
+    monkeypatch.setattr(atomic.os, "replace", replace)
+    t = time.time()
+    try:
+        with caplog.at_level(logging.WARNING, logger="bedside"):
+            for i in range(6):
+                rec.on_frame(make_frame(t + i, {"Cz": Level.BAD if i % 2 else Level.GOOD}))
+            rec.add_note("written while the disk was refusing")
+            assert _wait_for(lambda: rec.status.error is not None)
+            status = rec.status
+            assert words in status.error and status.unsaved_changes  # type: ignore[operator]
+            with pytest.raises(LogSaveError, match=words):
+                rec.save_now()
+            time.sleep(0.35)
+            assert rec.status.failed_saves >= 3, "retried on every tick"
+            warned = [r for r in caplog.records if "NOT saved" in r.getMessage()]
+            assert len(warned) == 1, "one warning per new problem, not one per retry"
+            assert len(load_log(path).timeline) == 0, "the disk copy is the old one, intact"
+            failing.clear()  # the disk has room again
+            assert _wait_for(lambda: rec.status.error is None and not rec.status.unsaved_changes)
+    finally:
+        failing.clear()
+        rec.close()
+    saved = load_log(path)
+    assert len(saved.timeline) == 6, "nothing recorded during the outage was lost"
+    assert saved.notes[0].text == "written while the disk was refusing"
+    kinds = [e.kind for e in saved.events]
+    assert "save_failed" in kinds and "save_recovered" in kinds
+    assert not list(tmp_path.glob(".*.tmp")), "failed attempts leave no temp files"
+
+
+def test_missing_folder_is_reported_then_saved_when_it_appears(tmp_path: Path) -> None:
+    folder = tmp_path / "usb-stick"
+    path = folder / "W3-017.yaml"
+    rec = SessionRecorder.open(path, subject_id="W3-017", autosave_s=0.1)
+    try:
+        assert rec.status.error is not None and "does not exist" in rec.status.error
+        rec.add_note("Cz moved 1 cm forward: skin lesion at the usual site.")
+        folder.mkdir()
+        assert _wait_for(lambda: path.exists() and rec.status.error is None)
+    finally:
+        rec.close()
+    assert load_log(path).notes[0].text.startswith("Cz moved")
+
+
+def test_close_that_cannot_save_writes_a_rescue_copy(
+    tmp_path: Path, clock: FakeClock, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
+    path = tmp_path / "gone" / "W3-017.yaml"
+    rec = SessionRecorder.open(path, subject_id="W3-017", clock=clock)
+    rec.add_note("the only copy")
+    with pytest.raises(LogSaveError, match="a copy was written to") as info:
+        rec.close()
+    rescued = list((tmp_path / "state" / "bedside" / "unsaved").glob("W3-017-*.yaml"))
+    assert len(rescued) == 1 and str(rescued[0]) in str(info.value)
+    assert load_log(rescued[0]).notes[0].text == "the only copy"
+    assert stat.S_IMODE(rescued[0].stat().st_mode) == 0o600
+
+
+def test_second_writer_on_the_same_file_is_refused(tmp_path: Path, clock: FakeClock) -> None:
+    path = tmp_path / "one.yaml"
+    with (
+        SessionRecorder.open(path, subject_id="W3-017", clock=clock),
+        pytest.raises(RecordError, match="another bedside session"),
+    ):
+        SessionRecorder.open(path, subject_id="W3-017", clock=clock)
+    SessionRecorder.open(path, subject_id="W3-017", clock=clock).close()  # free again
+
+
+def test_concurrent_frames_and_notes_lose_nothing(tmp_path: Path) -> None:
+    path = tmp_path / "t.yaml"
+    rec = SessionRecorder.open(path, subject_id="W3-017", autosave_s=0.05)
+    rec.set_stream(make_identity(), make_channels())
+    t0 = time.time()
+
+    def frames(name: str) -> None:
+        for i in range(200):
+            rec.on_frame(make_frame(t0 + i * 0.25, {name: Level.GOOD if i % 2 else Level.BAD}))
+
+    def notes(k: int) -> None:
+        for i in range(50):
+            rec.add_note(f"writer {k} note {i}")
+
+    threads = [threading.Thread(target=frames, args=(n,)) for n in ("Fp1", "Fp2")]
+    threads += [threading.Thread(target=notes, args=(k,)) for k in range(2)]
+    for th in threads:
+        th.start()
+    for th in threads:
+        th.join()
+    rec.close()
+    saved = load_log(path)
+    assert len(saved.notes) == 100
+    assert sum(1 for c in saved.timeline if c.electrode == "Fp1") == 200
+    assert sum(1 for c in saved.timeline if c.electrode == "Fp2") == 200
+
+
+def test_closed_session_refuses_more_and_bad_input_is_clear(tmp_path: Path, clock: FakeClock) -> None:
+    rec = SessionRecorder.open(tmp_path / "x.yaml", subject_id="W3-017", clock=clock)
+    with pytest.raises(InputError, match="impedance for Fp1"):
+        rec.set_impedance("Fp1", -3)
+    with pytest.raises(InputError, match="no digit"):
+        rec.set_subject("Smith")
+    with pytest.raises(InputError, match="sign-off needs"):
+        rec.sign_off("")
+    rec.close()
+    rec.close()  # idempotent
+    with pytest.raises(RecordError, match="is closed"):
+        rec.add_note("late")
+    with pytest.raises(RecordError, match="is a folder"):
+        SessionRecorder.open(tmp_path)
+    with pytest.raises(InputError, match="path separator"):
+        SessionRecorder.open(tmp_path / "y.yaml", subject_id="../../W3-017")
