@@ -168,7 +168,7 @@ class SignalGenerator:
         # ECG pickup: small on the scalp, more laterally; the ECG channel itself ~1 mV.
         self._ecg_w = bg.ecg_uv * scalp * (0.5 + 0.5 * np.abs(lr)) + bg.ecg_channel_uv * self._ecg
         # Muscle: temporal/lateral electrodes (frontalis/temporalis), per side.
-        lateral = np.clip((np.abs(lr) - 0.4) / 0.6, 0.0, 1.0) * scalp
+        lateral = np.clip((np.abs(lr) - 0.4) / 0.4, 0.0, 1.0) * scalp
         lateral = np.maximum(lateral, scalp * 0.15 * (ap > 0.5))  # a little frontally
         self._muscle_left = bg.muscle_uv * lateral * (lr <= 0)
         self._muscle_right = bg.muscle_uv * lateral * (lr >= 0)
@@ -243,7 +243,7 @@ class SignalGenerator:
         e += alpha_env[:, None] * self._alpha_w * np.sin(alpha_arg[:, None] + self._alpha_phase)
         e += np.outer(self._blinks(t), self._blink_w)
         e += np.outer(self._heart(t), self._ecg_w)
-        left, right = self._muscle_bursts(t)
+        left, right = self.muscle_envelopes(t)
         e += muscle_noise * (np.outer(left, self._muscle_left) + np.outer(right, self._muscle_right))
         e += np.outer(np.sin(2 * np.pi * self.scenario.mains_hz * t + self._mains_phase), self._mains_w)
         ref = ref_pink * bg.reference_pink_uv
@@ -397,7 +397,7 @@ class SignalGenerator:
                 out[sl] += a * _blink_shape(t[sl] - tb)
         return out
 
-    def _muscle_bursts(self, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def muscle_envelopes(self, t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Envelopes (0…~1.4) of normal muscle bursts on the left and right, over t."""
         left = np.zeros_like(t)
         right = np.zeros_like(t)

@@ -168,7 +168,7 @@ class Background:
     pink_uv: float = field(default=12.0, metadata={"min": 0, "max": 200})  # RMS per channel
     pink_exponent: float = field(default=1.0, metadata={"min": 0, "max": 3})  # PSD ~ 1/f^x
     reference_pink_uv: float = field(default=3.0, metadata={"min": 0, "max": 100})
-    alpha_uv: float = field(default=30.0, metadata={"min": 0, "max": 200})  # peak, O1/O2
+    alpha_uv: float = field(default=20.0, metadata={"min": 0, "max": 200})  # peak, O1/O2
     alpha_hz: float = field(default=10.0, metadata={"min": 8, "max": 12})
     eyes_open_s: float = field(default=20.0, metadata={"min": 1, "max": 3600})
     eyes_closed_s: float = field(default=15.0, metadata={"min": 0, "max": 3600})
@@ -177,7 +177,7 @@ class Background:
     ecg_uv: float = field(default=4.0, metadata={"min": 0, "max": 100})  # pickup on scalp
     ecg_channel_uv: float = field(default=1000.0, metadata={"min": 0, "max": 10000})
     heart_rate_bpm: float = field(default=72.0, metadata={"min": 20, "max": 250})
-    muscle_uv: float = field(default=10.0, metadata={"min": 0, "max": 200})  # RMS in bursts
+    muscle_uv: float = field(default=20.0, metadata={"min": 0, "max": 200})  # RMS in bursts
     muscle_bursts_per_min: float = field(default=2.0, metadata={"min": 0, "max": 60})
     mains_uv: float = field(default=0.3, metadata={"min": 0, "max": 100})  # residual, all
     amplifier_noise_uv: float = field(default=0.25, metadata={"min": 0, "max": 10})  # RMS
