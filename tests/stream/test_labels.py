@@ -1,0 +1,114 @@
+"""Label normalisation against outside references.
+
+* Renamed temporal sites T3 = T7, T4 = T8, T5 = P7, T6 = P8: ACNS Guideline 2 (2016),
+  American EEG Society nomenclature (1991); cross-checked against MNE-Python's
+  ``colin27_1020`` template montage, which places each classic name exactly where its
+  modern name is.
+* Every scalp name bedside knows is a position in MNE-Python's 10-05/10-20 templates
+  (Oostenveld & Praamstra 2001 naming), or the nasion (a fiducial there).
+* Label forms "EEG Fp1-REF", "EEG T3-LE": EDF exports of clinical systems (EDF+
+  signal type prefix; common practice for the suffixes).
+* Labels of pyEDFlib's shipped ``pyedflib/data/test_generator.edf`` ("squarewave",
+  "sine 8 Hz", …) are not sites and must be kept exactly as they are.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import mne
+import numpy as np
+import pyedflib
+import pytest
+
+from bedside.errors import ConfigError
+from bedside.stream.labels import KINDS, load_labels, normalise_label
+
+RULES = load_labels()
+
+
+def test_every_scalp_name_is_a_template_position() -> None:
+    """Source: MNE-Python template montages colin27_1005 and colin27_1020 (and its nasion)."""
+    known = set(mne.channels.make_standard_montage("colin27_1005").ch_names)
+    known |= set(mne.channels.make_standard_montage("colin27_1020").ch_names)
+    known.add("Nz")  # a fiducial in the templates
+    missing = [n for n in RULES.scalp_names if n not in known]
+    assert missing == []
+
+
+@pytest.mark.parametrize(("classic", "modern"), [("T3", "T7"), ("T4", "T8"), ("T5", "P7"), ("T6", "P8")])
+def test_classic_names_become_modern_at_the_same_place(classic: str, modern: str) -> None:
+    """Source: ACNS Guideline 2 (2016) renaming; MNE colin27_1020 puts both names at one point."""
+    pos = mne.channels.make_standard_montage("colin27_1020").get_positions()["ch_pos"]
+    assert np.allclose(pos[classic], pos[modern])
+    assert normalise_label(classic, RULES) == (modern, "EEG")
+    assert normalise_label(classic.lower(), RULES) == (modern, "EEG")
+
+
+@pytest.mark.parametrize(
+    ("label", "expected"),
+    [
+        ("Fp1", ("Fp1", "EEG")),
+        ("FP1", ("Fp1", "EEG")),  # case (common practice: upper-case EDF labels)
+        ("fpz", ("Fpz", "EEG")),
+        ("EEG Fp1-REF", ("Fp1", "EEG")),
+        ("EEG T3-LE", ("T7", "EEG")),
+        ("T5-A1", ("P7", "EEG")),
+        ("T6_M2", ("P8", "EEG")),
+        ("Cz AVG", ("Cz", "EEG")),
+        ("  O2  ", ("O2", "EEG")),
+        ("A1", ("A1", "EEG")),
+        ("M2-REF", ("M2", "EEG")),
+        ("ECG", ("ECG", "ECG")),
+        ("EKG2", ("EKG2", "ECG")),
+        ("EEG ECG-REF", ("EEG ECG-REF", "ECG")),
+        ("LOC", ("LOC", "EOG")),
+        ("VEOG", ("VEOG", "EOG")),
+        ("EMG chin", ("EMG chin", "EMG")),
+        ("TRIGGER", ("TRIGGER", "TRIG")),
+        ("STI 014", ("STI 014", "TRIG")),  # MNE's name for the Neuromag trigger line
+        ("Status", ("Status", "TRIG")),  # the trigger channel of BDF files (common practice)
+        ("Resp", ("Resp", "MISC")),
+        ("GND", ("GND", "REF")),
+        ("Fp1-F7", ("Fp1-F7", "EEG")),  # a bipolar derivation is not a site: kept as is
+        ("X17", ("X17", "EEG")),  # unknown: kept as is
+        ("LOCATION", ("LOCATION", "EEG")),  # starts like "LOC" but is not it
+    ],
+)
+def test_normalise(label: str, expected: tuple[str, str]) -> None:
+    """Common practice (EDF exports, BIDS channel types), except where noted."""
+    assert normalise_label(label, RULES) == expected
+
+
+def test_channel_type_from_metadata_decides_kind() -> None:
+    """BIDS channels.tsv types (EEG, EOG, ECG, EMG, MISC, TRIG, REF)."""
+    assert normalise_label("Fp1", RULES, "EOG") == ("Fp1", "EOG")
+    assert normalise_label("C3", RULES, "eeg") == ("C3", "EEG")
+    assert normalise_label("ECG", RULES, "EEG") == ("ECG", "ECG")  # label says non-scalp
+    assert normalise_label("acc-x", RULES, "ACC") == ("acc-x", "MISC")  # unknown type
+
+
+def test_labels_of_a_shipped_edf_file_are_kept_exactly() -> None:
+    """Source: pyEDFlib's test file pyedflib/data/test_generator.edf (its signal labels)."""
+    path = Path(os.path.dirname(pyedflib.__file__)) / "data" / "test_generator.edf"
+    with pyedflib.EdfReader(str(path)) as f:
+        labels = f.getSignalLabels()
+    assert "sine 8 Hz" in labels
+    for label in labels:
+        name, kind = normalise_label(label, RULES)
+        assert name == label.strip()
+        assert kind in KINDS
+
+
+def test_bad_label_file_is_a_clear_error(tmp_path: Path) -> None:
+    bad = tmp_path / "labels.yaml"
+    bad.write_text("labels:\n  scalp_names: [Cz]\n  aliasses: {T3: T7}\n", encoding="utf-8")
+    with pytest.raises(ConfigError, match=r"labels.yaml, line 3: 'labels.aliasses'.*did you mean 'aliases'"):
+        load_labels(bad)
+    bad.write_text("labels:\n  scalp_names: [Cz]\n  aliases: {T3: T7}\n", encoding="utf-8")
+    with pytest.raises(ConfigError, match="'T7' is not in scalp_names"):
+        load_labels(bad)
+    bad.write_text("labels:\n  scalp_names: [Cz]\n  type_kinds: {EEG: BRAIN}\n", encoding="utf-8")
+    with pytest.raises(ConfigError, match="accepted kinds"):
+        load_labels(bad)
