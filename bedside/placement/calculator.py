@@ -83,6 +83,11 @@ _LINE_TITLES = {
 }
 
 
+def _r1(value: object) -> float:
+    """Round to 0.1 (mm) without a negative zero."""
+    return round(float(value), 1) + 0.0  # type: ignore[arg-type]
+
+
 def line_title(line: str) -> str:
     """Plain words for a line name used in Mark.line."""
     return _LINE_TITLES.get(line, line)
@@ -121,7 +126,7 @@ class _Builder:
                 distance_cm=d,
                 step_cm=round(d - prev_cm, 1),
                 percent=round(percent, 1),
-                xyz_mm=(round(float(pos[0]), 1), round(float(pos[1]), 1), round(float(pos[2]), 1)),
+                xyz_mm=(_r1(pos[0]), _r1(pos[1]), _r1(pos[2])),
                 **extra,  # type: ignore[arg-type]
             )
         )
@@ -224,9 +229,9 @@ def plan_placement(
         )
     positions = {
         systems.display_name(k, names): (
-            round(float(v[0]), 1),
-            round(float(v[1]), 1),
-            round(float(v[2]), 1),
+            _r1(v[0]),
+            _r1(v[1]),
+            _r1(v[2]),
         )
         for k, v in b.positions.items()
     }

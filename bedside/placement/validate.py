@@ -95,7 +95,8 @@ def _in_range(value: float, unit: str, rng: _Range) -> float:
         if rng.low_cm <= as_cm <= rng.high_cm:
             msg += (
                 f"; it looks like {UNIT_WORDS[other]} ({_fmt(value)} {other} = {as_cm:.1f} cm): "
-                f"give all three in one unit and pass --unit {other}"
+                f"give all three in one unit — {as_cm / UNITS[unit]:.3g} {unit} here, or all "
+                f"three in {UNIT_WORDS[other]} with --unit {other}"
             )
             break
     raise MeasurementError(msg)

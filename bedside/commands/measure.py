@@ -1,0 +1,259 @@
+"""``bedside measure``: every 10-20 / 10-10 marking distance from three tape measurements.
+
+Output formats: ``table`` (default; grouped by measuring line in walking order),
+``json`` (one object: measurements, system, names, marks, positions_mm, neighbours,
+model) and ``csv`` (one row per mark). ``--bids-dir DIR`` also writes BIDS
+``electrodes.tsv`` and ``coordsystem.json`` into DIR. Bad input: ``error: ...``, exit 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+import sys
+import textwrap
+from pathlib import Path
+
+from bedside.cautions import CAUTIONS
+from bedside.errors import InputError
+from bedside.placement import systems
+from bedside.placement.bids import write_coordsystem_json, write_electrodes_tsv
+from bedside.placement.calculator import line_title, plan_placement
+from bedside.placement.model import HeadModel
+from bedside.placement.types import Mark, PlacementPlan
+from bedside.placement.validate import UNITS, parse_measurements
+
+NAME = "measure"
+ORDER = 10
+FORMATS = ("table", "json", "csv")
+
+_EXAMPLE = "example: bedside measure --nasion-inion 36 --preauricular 35 --circumference 56"
+_FIELDS = (
+    "name", "other_name", "line", "start", "distance_cm", "step_cm", "percent",
+    "xyz_mm", "how", "arc_cm", "rule", "rule_gap_cm",
+)  # fmt: skip
+
+
+def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    p = sub.add_parser(
+        NAME,
+        help="marking distances for every 10-20 / 10-10 site from three tape measurements",
+        description=(
+            "Turn three tape measurements into every marking distance of the 10-20 or "
+            "10-10 system, line by line in the order you walk the head, with the 3-D "
+            "position of each site on a head model fitted to the measurements. "
+            "Distances on the measured lines follow the published percentages exactly; "
+            "sites between marks (F3, P3, 10-10 rows) come with how to find them."
+        ),
+        epilog=_EXAMPLE + "\n\n" + CAUTIONS,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    req = p.add_argument_group("the three measurements (over the vertex; in --unit)")
+    req.add_argument(
+        "--nasion-inion",
+        metavar="LEN",
+        required=True,
+        help="nasion to inion, over the vertex",
+    )
+    req.add_argument(
+        "--preauricular",
+        metavar="LEN",
+        required=True,
+        help="left to right preauricular point, over the vertex",
+    )
+    req.add_argument(
+        "--circumference",
+        metavar="LEN",
+        required=True,
+        help="round the head through Fpz, T3/T7, Oz, T4/T8 (the 10 %% level)",
+    )
+    p.add_argument("--system", choices=systems.SYSTEMS, default="10-20", help="default 10-20")
+    p.add_argument(
+        "--names",
+        choices=systems.NAMINGS,
+        default="modern",
+        help="modern (T7, T8, P7, P8; default) or classic (T3, T4, T5, T6)",
+    )
+    p.add_argument(
+        "--unit", choices=tuple(UNITS), default="cm", help="unit of the measurements (default cm)"
+    )
+    p.add_argument("--format", choices=FORMATS, default="table", help="table (default), json, csv")
+    p.add_argument(
+        "--bids-dir",
+        metavar="DIR",
+        help="also write BIDS electrodes.tsv and coordsystem.json into DIR",
+    )
+    p.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    measurements = parse_measurements(
+        args.nasion_inion, args.preauricular, args.circumference, unit=args.unit
+    )
+    plan = plan_placement(measurements, system=args.system, names=args.names)
+    if args.format == "json":
+        out = json.dumps(plan_to_dict(plan, args.unit), indent=2, ensure_ascii=False)
+    elif args.format == "csv":
+        out = plan_to_csv(plan)
+    else:
+        out = plan_to_table(plan, args.unit)
+    if args.bids_dir is not None:
+        written = write_bids(plan, Path(args.bids_dir))
+        print("wrote " + " and ".join(str(p) for p in written), file=sys.stderr)
+    sys.stdout.write(out if out.endswith("\n") else out + "\n")
+    return 0
+
+
+def mark_to_dict(mark: Mark) -> dict[str, object]:
+    return {
+        "name": mark.name,
+        "other_name": mark.other_name,
+        "line": mark.line,
+        "start": mark.start,
+        "distance_cm": mark.distance_cm,
+        "step_cm": mark.step_cm,
+        "percent": mark.percent,
+        "xyz_mm": list(mark.xyz_mm),
+        "how": mark.how,
+        "arc_cm": mark.arc_cm,
+        "rule": mark.rule,
+        "rule_gap_cm": mark.rule_gap_cm,
+    }
+
+
+def plan_to_dict(plan: PlacementPlan, unit: str = "cm") -> dict[str, object]:
+    """The JSON document of ``bedside measure --format json``."""
+    m = plan.measurements
+    doc: dict[str, object] = {
+        "measurements": {
+            "nasion_inion_cm": round(m.nasion_inion_cm, 2),
+            "preauricular_cm": round(m.preauricular_cm, 2),
+            "circumference_cm": round(m.circumference_cm, 2),
+            "unit_given": unit,
+        },
+        "system": plan.system,
+        "names": plan.names,
+        "frame": "mm; origin midway between the preauricular points, +x right, +y nasion, +z up",
+        "marks": [mark_to_dict(k) for k in plan.marks],
+        "positions_mm": {k: list(v) for k, v in plan.positions_mm.items()},
+        "neighbours": [list(p) for p in plan.neighbours],
+    }
+    if isinstance(plan.model, HeadModel):
+        doc["model"] = {
+            "shape": "ellipsoid",
+            "half_axes_mm": [round(v, 1) for v in plan.model.axes_mm],
+        }
+    return doc
+
+
+def plan_to_csv(plan: PlacementPlan) -> str:
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    header = [f for f in _FIELDS if f != "xyz_mm"]
+    header[header.index("percent") + 1 : header.index("percent") + 1] = ["x_mm", "y_mm", "z_mm"]
+    writer.writerow(header)
+    for k in plan.marks:
+        d = mark_to_dict(k)
+        row: list[object] = []
+        for f in header:
+            if f in ("x_mm", "y_mm", "z_mm"):
+                row.append(k.xyz_mm["xyz".index(f[0])])
+            else:
+                v = d[f]
+                row.append("" if v is None else v)
+        writer.writerow(row)
+    return buf.getvalue()
+
+
+def _num(x: float, unit: str) -> str:
+    if unit == "mm":
+        return f"{x * 10:.0f}"
+    if unit == "in":
+        return f"{x / UNITS['in']:.2f}"
+    return f"{x:.1f}"
+
+
+def plan_to_table(plan: PlacementPlan, unit: str = "cm") -> str:
+    """Plain-text plan: one block per measuring line, in walking order."""
+    m = plan.measurements
+    naming = (
+        "modern names, classic in brackets"
+        if plan.names == "modern"
+        else ("classic names, modern in brackets")
+    )
+    lines = [
+        f"{plan.system} marks ({naming})",
+        f"head: nasion–inion {m.nasion_inion_cm:.1f} cm, preauricular {m.preauricular_cm:.1f} cm, "
+        f"circumference {m.circumference_cm:.1f} cm",
+    ]
+    lengths = {
+        "midline": f"from the nasion (Nz) over the vertex to the inion, {m.nasion_inion_cm:.1f} cm",
+        "coronal": f"from the left preauricular point (LPA) over Cz, {m.preauricular_cm:.1f} cm",
+        "circumference-left": f"from Fpz round the left side to Oz, {m.circumference_cm / 2:.1f} cm",
+        "circumference-right": f"from Fpz round the right side to Oz, {m.circumference_cm / 2:.1f} cm",
+    }
+    extra_unit = unit != "cm"
+    groups: list[tuple[str, list[Mark]]] = []
+    for mark in plan.marks:
+        if not groups or groups[-1][0] != mark.line:
+            groups.append((mark.line, []))
+        groups[-1][1].append(mark)
+    for n, (line, marks) in enumerate(groups, start=1):
+        lines.append("")
+        title = f"{n}. {line_title(line)}"
+        if line in lengths:
+            title += f" — {lengths[line]}"
+        elif line.startswith("inferior") and marks[0].arc_cm is not None:
+            title += (
+                f" — from Nz through T9/T10 level to Iz (model: {marks[0].arc_cm:.1f} cm round)"
+            )
+        lines.append(title)
+        if line == "reference":
+            for k in marks:
+                lines.append(f"   {k.name:<9} {k.how}")
+            continue
+        head = f"   {'site':<9} {'from':<5} {'at cm':>6} {'step':>6} {'%':>5}"
+        if extra_unit:
+            head += f" {'at ' + unit:>7}"
+        lines.append(head)
+        for k in marks:
+            site = k.name + (f" ({k.other_name})" if k.other_name else "")
+            row = (
+                f"   {site:<9} {k.start:<5} {k.distance_cm:>6.1f} {k.step_cm:>6.1f} {k.percent:>5g}"
+            )
+            if extra_unit:
+                row += f" {_num(k.distance_cm, unit):>7}"
+            lines.append(row)
+            if line == "derived" and k.how:
+                lines.extend(
+                    textwrap.wrap(
+                        k.how, width=92, initial_indent=" " * 13, subsequent_indent=" " * 13
+                    )
+                )
+    lines.append("")
+    lines.append(
+        "Distances on the measured lines are the published percentages of your tape "
+        "measurements; positions and the lengths of unmeasured arcs are model estimates."
+    )
+    return "\n".join(lines) + "\n"
+
+
+def write_bids(plan: PlacementPlan, folder: Path) -> tuple[Path, Path]:
+    """electrodes.tsv and coordsystem.json for the plan's positions, in ``folder``."""
+    if folder.exists() and not folder.is_dir():
+        raise InputError(f"--bids-dir {folder} is a file, not a folder; give a folder")
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(
+            f"--bids-dir {folder} cannot be created ({exc.strerror or exc}); give a writable folder"
+        ) from exc
+    landmarks = None
+    if isinstance(plan.model, HeadModel):
+        a, b, _ = plan.model.axes_mm
+        landmarks = {"NAS": (0.0, b, 0.0), "LPA": (-a, 0.0, 0.0), "RPA": (a, 0.0, 0.0)}
+    tsv = write_electrodes_tsv(folder / "electrodes.tsv", plan.positions_mm)
+    js = write_coordsystem_json(folder / "coordsystem.json", landmarks_mm=landmarks)
+    return tsv, js
