@@ -1,0 +1,120 @@
+"""``bedside watch`` (and plain ``bedside``): the terminal app — Measure, Watch, Log.
+
+The app looks for EEG streams (pin one with --stream/--source-id/--host; a picker
+opens when several are visible), shows per-electrode quality live, and keeps the
+setup log (autosaved; q or Ctrl-C saves and leaves).
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+from pathlib import Path
+from typing import cast
+
+from bedside.cautions import CAUTIONS
+from bedside.commands._common import add_stream_selection, positive_float
+
+NAME = "watch"
+ORDER = 30
+VIEW_CHOICES = ("measure", "watch", "log")
+
+
+def add_app_options(p: argparse.ArgumentParser) -> None:
+    """Options shared by ``watch`` and ``demo``."""
+    group = p.add_argument_group("setup log")
+    group.add_argument(
+        "--log", metavar="PATH", type=Path,
+        help="the setup log file (YAML; default: bedside-logs/<subject or 'setup'>-<time>.yaml; "
+        "an existing log is resumed)",
+    )
+    group.add_argument("--no-log", action="store_true", help="keep no setup log")
+    group.add_argument("--technologist", metavar="INITIALS", default="", help="e.g. JMK")
+    group.add_argument(
+        "--subject", metavar="ID", default="",
+        help="pseudonymous subject/study ID with a digit, e.g. W3-017 (never a name)",
+    )
+    view = p.add_argument_group("app")
+    view.add_argument("--view", choices=VIEW_CHOICES, default=None, help="the view to open first")
+    view.add_argument("--system", choices=("10-20", "10-10"), default="10-20",
+                      help="electrode system for Measure (default 10-20)")
+    view.add_argument("--names", choices=("modern", "classic"), default="modern",
+                      help="T7/T8/P7/P8 (modern, default) or T3/T4/T5/T6 (classic)")
+    view.add_argument("--unit", choices=("cm", "mm", "in"), default="cm",
+                      help="unit of the tape measurements (default cm)")
+    view.add_argument("--update-hz", metavar="HZ", type=positive_float("--update-hz"), default=4.0,
+                      help="screen updates per second (default 4)")
+    view.add_argument("--export-dir", metavar="DIR", type=Path, default=Path("."),
+                      help="where the marking sheet is saved (default: here)")
+
+
+def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    p = sub.add_parser(
+        NAME,
+        help="the terminal app: measure the head, watch electrode quality live, keep the log",
+        description="Open the app. Measure: marking distances from three tape measurements. "
+        "Watch: live quality per electrode from the amplifier's LSL stream. Log: initials, "
+        "subject ID, notes, impedances, sign-off. Keys are shown at the bottom; F1 for help.",
+        epilog=CAUTIONS,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    add_stream_selection(p)
+    add_app_options(p)
+    p.set_defaults(func=run)
+
+
+def default_log_path(subject: str) -> Path:
+    stamp = time.strftime("%Y%m%d-%H%M%S")
+    return Path("bedside-logs") / f"{subject or 'setup'}-{stamp}.yaml"
+
+
+def app_config(args: argparse.Namespace, *, stream_name: str | None = None, start_view: str = "watch"):  # type: ignore[no-untyped-def]
+    """The AppConfig for these command-line options."""
+    from bedside.config import CONFIG_DIR
+    from bedside.ui.config import AppConfig, View
+
+    log_path = None if getattr(args, "no_log", False) else (args.log or default_log_path(args.subject))
+    configs = tuple(p for p in (CONFIG_DIR / "quality.yaml", CONFIG_DIR / "stream.yaml") if p.is_file())
+    return AppConfig(
+        system=args.system,
+        names=args.names,
+        unit=args.unit,
+        stream_name=stream_name if stream_name is not None else getattr(args, "stream", None),
+        source_id=getattr(args, "source_id", None),
+        host=getattr(args, "host", None),
+        wait_s=getattr(args, "wait", 3.0),
+        log_path=log_path,
+        technologist=args.technologist,
+        subject_id=args.subject,
+        config_paths=configs,
+        start_view=cast("View", args.view or start_view),
+        update_hz=args.update_hz,
+        export_dir=args.export_dir,
+    )
+
+
+def lsl_log_file() -> Path:
+    return Path("bedside-logs") / "liblsl.log"
+
+
+def run_app(config) -> int:  # type: ignore[no-untyped-def]
+    """Run the app in this terminal; liblsl is silenced first (it writes to fd 2)."""
+    from bedside.record.ids import validate_initials, validate_subject_id
+    from bedside.stream.lsl import prepare_lsl
+    from bedside.ui.app import make_app
+
+    # Bad initials or ID: say so before the screen opens (exit 2), not inside it.
+    validate_initials(config.technologist)
+    validate_subject_id(config.subject_id)
+    log_file = lsl_log_file()
+    log_file.parent.mkdir(parents=True, exist_ok=True)
+    prepare_lsl(log_to=log_file)
+    app = make_app(config)
+    result = app.run()
+    if app.return_code not in (None, 0):
+        return int(app.return_code)
+    return int(result or 0)
+
+
+def run(args: argparse.Namespace) -> int:
+    return run_app(app_config(args))

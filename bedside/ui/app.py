@@ -1,0 +1,442 @@
+"""The bedside app: wires the three views to the core. Build it with :func:`make_app`.
+
+Threads: discovery, connecting, the monitor, the log and drawing all run off the
+UI thread; they reach the UI only by posting messages (``post_message`` is
+thread-safe). The UI never computes a quality metric.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+import time
+from pathlib import Path
+from typing import Any
+
+from textual import work
+from textual.app import App
+from textual.binding import Binding
+from textual.message import Message
+
+from bedside.checks.types import QualityFrame
+from bedside.errors import AmbiguousStream, BedsideError, StreamNotFound
+from bedside.placement.types import PlacementPlan
+from bedside.stream.source import Source
+from bedside.stream.types import StreamIdentity
+from bedside.ui.config import VIEWS, AppConfig, View
+from bedside.ui.export import plan_as_text, write_text_atomic
+from bedside.ui.feed import FeedProblem, FrameArrived, FrameFeed
+from bedside.ui.progress import GoodTracker, Progress
+from bedside.ui.screens.help import HelpScreen
+from bedside.ui.screens.log import LogScreen
+from bedside.ui.screens.measure import MeasureScreen
+from bedside.ui.screens.picker import StreamPicker
+from bedside.ui.screens.watch import WatchScreen
+from bedside.ui.services import Services, default_services
+from bedside.ui.session import Connection, RecorderGate, connect
+
+log = logging.getLogger("bedside")
+
+VIEW_TITLE = {"measure": "Measure", "watch": "Watch", "log": "Log"}
+
+
+class StreamsFound(Message):
+    def __init__(self, streams: list[StreamIdentity], ambiguous: bool, pinned: StreamIdentity | None,
+                 note: str) -> None:
+        super().__init__()
+        self.streams, self.ambiguous, self.pinned, self.note = streams, ambiguous, pinned, note
+
+
+class Connected(Message):
+    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]]) -> None:
+        super().__init__()
+        self.connection, self.points = connection, points
+
+
+class LogOpened(Message):
+    def __init__(self, gate: RecorderGate | None, error: str = "") -> None:
+        super().__init__()
+        self.gate, self.error = gate, error
+
+
+class ShutdownDone(Message):
+    def __init__(self, problems: list[str]) -> None:
+        super().__init__()
+        self.problems = problems
+
+
+class BedsideApp(App[int]):
+    CSS_PATH = "app.tcss"
+    TITLE = "bedside"
+    ENABLE_COMMAND_PALETTE = False
+
+    BINDINGS = [
+        Binding("f1", "help", "Help"),
+        Binding("f2", "view('measure')", "Measure"),
+        Binding("f3", "view('watch')", "Watch"),
+        Binding("f4", "view('log')", "Log"),
+        Binding("question_mark", "help", "Help", show=False),
+        Binding("1", "view('measure')", "Measure", show=False),
+        Binding("2", "view('watch')", "Watch", show=False),
+        Binding("3", "view('log')", "Log", show=False),
+        Binding("q", "leave", "Save & quit"),
+        Binding("ctrl+q", "leave", "Save & quit", show=False, priority=True),
+        Binding("ctrl+c", "leave", "Save & quit", show=False, priority=True),
+        Binding("ctrl+s", "save", "Save", show=False),
+    ]
+
+    def __init__(self, config: AppConfig, services: Services, source: Source | None = None) -> None:
+        super().__init__()
+        self.config = config
+        self.services = services
+        self._given_source = source
+        self.views: dict[str, Any] = {}
+        self.plan: PlacementPlan | None = None
+        self.identity: StreamIdentity | None = source.identity if source is not None else None
+        self.connection: Connection | None = None
+        self.recorder: RecorderGate | None = None
+        self._log_error = "" if config.log_path else "started without a log file (--log)"
+        self.latest_frame: QualityFrame | None = None
+        self.progress: Progress | None = None
+        self.tracker = GoodTracker()
+        self.status_note = ""
+        self.points: dict[str, tuple[float, float]] = {}
+        self._last_frame_at: float | None = None
+        self._connected_at: float | None = None
+        self._shown_stalled = False
+        self._leaving = False
+
+    # --- start and stop -------------------------------------------------------------
+    def on_mount(self) -> None:
+        self.views = {"measure": MeasureScreen(), "watch": WatchScreen(), "log": LogScreen()}
+        for name, screen in self.views.items():
+            self.install_screen(screen, name)
+        self.push_screen(self.config.start_view)
+        self.sub_title = VIEW_TITLE[self.config.start_view]
+        self.set_interval(0.5, self._watchdog)
+        if self.config.log_path is not None and self.services.open_recorder is not None:
+            self._open_log()
+        if self._given_source is not None:
+            self._connect(None, self._given_source)
+        elif self.config.discover:
+            self.discover(force_picker=False)
+
+    def on_unmount(self) -> None:
+        if self.connection is not None:
+            self.connection.stop()
+            self.connection = None
+
+    def action_leave(self) -> None:
+        if self._leaving:
+            return
+        self._leaving = True
+        self.notify("saving the log and closing…", timeout=3)
+        self._close_down()
+
+    @work(thread=True, exclusive=True, group="close-down", exit_on_error=False)
+    def _close_down(self) -> None:
+        problems: list[str] = []
+        conn, self.connection = self.connection, None
+        if conn is not None:
+            try:
+                conn.stop()
+            except BedsideError as exc:
+                problems.append(str(exc))
+        gate = self.recorder
+        if gate is not None:
+            gate.drain(3.0)
+            for method in ("save_now", "close"):
+                try:
+                    gate.call(method)
+                except BedsideError as exc:
+                    problems.append(f"setup log: {exc}")
+            gate.stop()
+        self.post_message(ShutdownDone(problems))
+
+    def on_shutdown_done(self, message: ShutdownDone) -> None:
+        if message.problems:
+            for p in message.problems:
+                log.error("%s", p)
+        self.exit(0 if not message.problems else 1)
+
+    # --- views -------------------------------------------------------------------
+    def action_view(self, name: str) -> None:
+        if name not in VIEWS:
+            return
+        while len(self.screen_stack) > 2 and self.screen.name not in self.views:
+            self.pop_screen()
+        if self.screen.name != name:
+            self.switch_screen(name)
+        self.sub_title = VIEW_TITLE[name]
+
+    def action_help(self) -> None:
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen())
+
+    @property
+    def current_view(self) -> View | None:
+        name = self.screen.name
+        return name if name in VIEWS else None  # type: ignore[return-value]
+
+    # --- stream ------------------------------------------------------------------
+    def discover(self, force_picker: bool) -> None:
+        self.status_note = "looking for streams…"
+        self._refresh_watch_status()
+        self._discover(force_picker)
+
+    @work(thread=True, exclusive=True, group="discover", exit_on_error=False)
+    def _discover(self, force_picker: bool) -> None:
+        cfg = self.config
+        try:
+            found = self.services.find_streams(cfg.wait_s)
+        except BedsideError as exc:
+            self.post_message(StreamsFound([], False, None, str(exc)))
+            return
+        if force_picker and found:
+            self.post_message(StreamsFound(found, True, None, ""))
+            return
+        try:
+            pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
+        except AmbiguousStream as exc:
+            cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
+            self.post_message(StreamsFound(cands, True, None, str(exc)))
+            return
+        except StreamNotFound as exc:
+            self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
+            return
+        except BedsideError as exc:
+            self.post_message(StreamsFound(found, False, None, str(exc)))
+            return
+        self.post_message(StreamsFound(found, False, pinned, ""))
+
+    def on_streams_found(self, message: StreamsFound) -> None:
+        self.status_note = message.note
+        if message.pinned is not None:
+            self.status_note = "connecting…"
+            self._connect(message.pinned, None)
+        elif message.ambiguous and message.streams:
+            self.push_screen(StreamPicker(message.streams, message.note), self._picked)
+        self._refresh_watch_status()
+
+    def _picked(self, identity: StreamIdentity | None) -> None:
+        if identity is not None:
+            self.status_note = "connecting…"
+            self._connect(identity, None)
+        self._refresh_watch_status()
+
+    @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
+    def _connect(self, identity: StreamIdentity | None, source: Source | None) -> None:
+        old, self.connection = self.connection, None
+        if old is not None:
+            old.stop()
+        try:
+            if source is None:
+                assert identity is not None
+                source = self.services.open_source(identity)
+            feed = FrameFeed(self.post_message, self._frame_recorder)
+            conn = connect(self.services, source, self.config, self.plan, feed)
+            points = self._points_for(conn)
+        except BedsideError as exc:
+            self.post_message(FeedProblem(f"could not start watching: {exc}"))
+            return
+        self.post_message(Connected(conn, points))
+
+    def _frame_recorder(self) -> tuple[Any, Any] | None:
+        gate = self.recorder
+        return (gate.recorder.on_frame, gate.lock) if gate is not None else None
+
+    def _points_for(self, conn: Connection) -> dict[str, tuple[float, float]]:
+        """Map positions for the stream's scalp channels (plan first, else the standard head)."""
+        names = [ch.name for ch in conn.channels if ch.is_scalp]
+        xyz: dict[str, tuple[float, float, float]] = {}
+        if self.plan is not None:
+            xyz.update({n: p for n, p in self.plan.positions_mm.items() if n in names})
+        missing = [n for n in names if n not in xyz]
+        if missing:
+            try:
+                xyz.update(self.services.positions_for(missing))
+            except BedsideError as exc:
+                log.warning("no map positions: %s", exc)
+        return {n: self.services.project_2d(p) for n, p in xyz.items()}
+
+    def on_connected(self, message: Connected) -> None:
+        self.connection = message.connection
+        self.identity = message.connection.identity
+        self.points = message.points
+        self.tracker.reset()
+        self.latest_frame, self.progress = None, None
+        self._connected_at = time.monotonic()
+        self._last_frame_at = None
+        self.status_note = ""
+        if self.recorder is not None:
+            conn = message.connection
+            self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+        if self._watch_ready():
+            self.views["watch"].set_points(message.points)
+        self._refresh_watch_status()
+
+    def on_frame_arrived(self, message: FrameArrived) -> None:
+        frame = message.frame
+        self.latest_frame = frame
+        self._last_frame_at = time.monotonic()
+        self._shown_stalled = False
+        self.progress = self.tracker.update(frame)
+        if self.current_view == "watch":
+            self.views["watch"].show_frame(frame, self.progress, live=self.is_live())
+
+    def show_frame(self, frame: QualityFrame) -> None:
+        """Show a frame as if the monitor had sent it (tests, replays)."""
+        self.post_message(FrameArrived(frame))
+
+    def on_feed_problem(self, message: FeedProblem) -> None:
+        self.status_note = message.text
+        self.notify(message.text, severity="error", timeout=8)
+        self._refresh_watch_status()
+
+    def stalled_for(self) -> float | None:
+        """Seconds since the last frame, when frames stopped (None while they flow)."""
+        if self.connection is None:
+            return None
+        since = self._last_frame_at or self._connected_at
+        if since is None:
+            return None
+        age = time.monotonic() - since
+        return age if age > self.config.stale_after_s else None
+
+    def is_live(self) -> bool:
+        frame = self.latest_frame
+        return frame is not None and frame.live and self.stalled_for() is None
+
+    def _watchdog(self) -> None:
+        stalled = self.stalled_for()
+        if stalled is not None and not self._shown_stalled and self._watch_ready():
+            self._shown_stalled = True
+            self.views["watch"].show_no_data()
+        elif stalled is not None:
+            self._refresh_watch_status()
+
+    def _watch_ready(self) -> bool:
+        screen = self.views.get("watch")
+        return screen is not None and screen.is_mounted
+
+    def _refresh_watch_status(self) -> None:
+        if self._watch_ready():
+            self.views["watch"].refresh_status()
+
+    def mains_hz(self) -> tuple[float, ...]:
+        frame = self.latest_frame
+        value = frame.extras.get("mains_hz") if frame is not None else None
+        if isinstance(value, int | float) and math.isfinite(value) and value > 0:
+            return (float(value),)
+        return (50.0, 60.0)
+
+    def bipolar_partner(self, name: str) -> str | None:
+        """The electrode behind ``name`` for a bipolar view: its nearest neighbour further back.
+
+        Neighbours from the placement graph when known; the map positions decide which
+        is nearest and which lies behind (front-to-back chains are the usual bipolar
+        reading — common practice).
+        """
+        pts = self.points
+        if name not in pts:
+            return None
+        conn = self.connection
+        pairs = conn.neighbours if conn is not None else ()
+        cands = {b if a == name else a for a, b in pairs if name in (a, b)} & set(pts)
+        if not cands:
+            cands = set(pts) - {name}
+        if not cands:
+            return None
+        x0, y0 = pts[name]
+        behind = [c for c in cands if pts[c][1] < y0 - 1e-6]
+        pool = behind or list(cands)
+        return min(pool, key=lambda c: (pts[c][0] - x0) ** 2 + (pts[c][1] - y0) ** 2)
+
+    # --- plan ----------------------------------------------------------------------
+    def plan_changed(self, plan: PlacementPlan) -> None:
+        self.plan = plan
+        if self.recorder is not None:
+            self.recorder.submit("set_plan", (plan,), self._log_done("marks"))
+
+    def export_plan(self, plan: PlacementPlan) -> None:
+        self._export(plan)
+
+    @work(thread=True, group="export", exit_on_error=False)
+    def _export(self, plan: PlacementPlan) -> None:
+        stamp = time.strftime("%Y%m%d-%H%M%S")
+        path = self.config.export_dir / f"marks-{plan.system}-{stamp}.txt"
+        try:
+            write_text_atomic(path, plan_as_text(plan))
+        except BedsideError as exc:
+            self.post_message(FeedProblem(str(exc)))
+            return
+        self.call_from_thread(self.notify, f"marking sheet saved: {path}")
+
+    # --- log -------------------------------------------------------------------------
+    @work(thread=True, exclusive=True, group="open-log", exit_on_error=False)
+    def _open_log(self) -> None:
+        cfg = self.config
+        opener = self.services.open_recorder
+        assert cfg.log_path is not None and opener is not None
+        try:
+            recorder = opener(Path(cfg.log_path), cfg.technologist, cfg.subject_id, cfg.config_paths)
+        except BedsideError as exc:
+            self.post_message(LogOpened(None, str(exc)))
+            return
+        self.post_message(LogOpened(RecorderGate(recorder)))
+
+    def on_log_opened(self, message: LogOpened) -> None:
+        if message.gate is None:
+            self._log_error = message.error
+            self.notify(f"setup log not open: {message.error}", severity="error", timeout=10)
+            return
+        self.recorder = message.gate
+        if self.plan is not None:
+            message.gate.submit("set_plan", (self.plan,), self._log_done("marks"))
+        if self.connection is not None:
+            conn = self.connection
+            message.gate.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+
+    def _log_done(self, what: str) -> Any:
+        def done(ok: bool, text: str, status: Any) -> None:
+            if not ok:
+                self.post_message(FeedProblem(f"setup log ({what}): {text}"))
+
+        return done
+
+    def log_unavailable_reason(self) -> str:
+        return self._log_error or "the setup log is still opening"
+
+    def action_save(self) -> None:
+        if self.recorder is None:
+            self.notify(self.log_unavailable_reason(), severity="warning")
+            return
+        log_screen = self.views.get("log")
+        if log_screen is not None and log_screen.is_mounted:
+            log_screen.action_save()
+        else:
+            self.recorder.submit("save_now", (), self._log_done("save"))
+            self.notify("log saved", timeout=2)
+
+    def known_electrodes(self) -> set[str]:
+        names: set[str] = set()
+        if self.connection is not None:
+            names |= {ch.name for ch in self.connection.channels}
+        if self.plan is not None:
+            names |= {mk.name for mk in self.plan.marks}
+        return names
+
+
+def make_app(
+    config: AppConfig | None = None,
+    *,
+    source: Source | None = None,
+    services: Services | None = None,
+) -> BedsideApp:
+    """The app, for the CLI and the tests.
+
+    config: start-up choices (defaults: watch view, look for streams, no log).
+    source: read this Source instead of looking for an LSL stream.
+    services: the core functions (default: the real packages); tests pass stand-ins.
+    """
+    return BedsideApp(config or AppConfig(), services or default_services(), source)

@@ -1,0 +1,42 @@
+"""What the app is started with (from the command line or a test)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Literal
+
+View = Literal["measure", "watch", "log"]
+VIEWS: tuple[View, ...] = ("measure", "watch", "log")
+
+
+@dataclass(frozen=True)
+class AppConfig:
+    """Start-up choices for the app.
+
+    stream_name / source_id / host: pin a stream (as ``--stream/--source-id/--host``);
+    wait_s: how long to look for streams. log_path: the setup log (None: no log is
+    kept, e.g. in snapshot tests). update_hz: the monitor's rate (frames per second).
+    trace_s: seconds of the selected channel shown as a trace. stale_after_s: if no
+    frame arrives for this long the UI itself shows "no data" (a stalled monitor
+    never leaves old colours on screen as if live).
+    """
+
+    system: str = "10-20"
+    names: str = "modern"
+    unit: str = "cm"
+    stream_name: str | None = None
+    source_id: str | None = None
+    host: str | None = None
+    wait_s: float = 3.0
+    log_path: Path | None = None
+    technologist: str = ""
+    subject_id: str = ""
+    config_paths: tuple[Path, ...] = field(default_factory=tuple)
+    start_view: View = "watch"
+    update_hz: float = 4.0
+    trace_s: float = 2.0
+    stale_after_s: float = 2.5
+    discover: bool = True
+    export_dir: Path = field(default_factory=Path.cwd)
+    title: str = "bedside"

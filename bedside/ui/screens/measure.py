@@ -1,0 +1,193 @@
+"""Measure: three tape measurements in, every mark out (table by line, and a diagram).
+
+Validation and planning run in a worker thread; results come back as messages.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, cast
+
+from rich.text import Text
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Header, Input, Label, Select, Static
+
+from bedside.errors import BedsideError
+from bedside.placement.types import PlacementPlan
+from bedside.ui.export import grouped, short_line
+from bedside.ui.widgets.head_map import HeadMap
+
+if TYPE_CHECKING:
+    from bedside.ui.app import BedsideApp
+
+UNITS = (("cm", "cm"), ("mm", "mm"), ("inches", "in"))
+SYSTEMS = (("10-20", "10-20"), ("10-10", "10-10"))
+NAMINGS = (("modern (T7/T8/P7/P8)", "modern"), ("classic (T3/T4/T5/T6)", "classic"))
+FIELDS = (
+    ("ni", "nasion–inion", "over the vertex"),
+    ("pa", "ear to ear", "preauricular, over the vertex"),
+    ("circ", "around", "circumference through Fpz, T7, Oz, T8"),
+)
+
+
+class PlanReady(Message):
+    """The measurements were accepted and the marks computed."""
+
+    def __init__(self, plan: PlacementPlan, points: dict[str, tuple[float, float]]) -> None:
+        super().__init__()
+        self.plan = plan
+        self.points = points
+
+
+class MeasureInvalid(Message):
+    """The measurements were not accepted; ``text`` says what and what is accepted."""
+
+    def __init__(self, text: str) -> None:
+        super().__init__()
+        self.text = text
+
+
+class MeasureScreen(Screen[None]):
+    BINDINGS = [
+        Binding("ctrl+e", "export", "Save sheet"),
+        Binding("ctrl+y", "copy_sheet", "Copy sheet"),
+        Binding("escape", "leave_form", "Leave form", show=False),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__(name="measure")
+        self.plan: PlacementPlan | None = None
+
+    @property
+    def bedside(self) -> BedsideApp:
+        return cast("BedsideApp", self.app)
+
+    def compose(self) -> ComposeResult:
+        cfg = self.bedside.config
+        yield Header(show_clock=False)
+        with Horizontal(id="measure-body"):
+            with Vertical(id="measure-form"):
+                yield Static("Head measurements", classes="pane-title")
+                with Horizontal(classes="form-row"):
+                    yield Label("unit", classes="form-label")
+                    yield Select(UNITS, value=cfg.unit, allow_blank=False, compact=True, id="unit")
+                with Horizontal(classes="form-row"):
+                    yield Label("system", classes="form-label")
+                    yield Select(SYSTEMS, value=cfg.system, allow_blank=False, compact=True, id="system")
+                with Horizontal(classes="form-row"):
+                    yield Label("names", classes="form-label")
+                    yield Select(NAMINGS, value=cfg.names, allow_blank=False, compact=True, id="names")
+                for key, label, hint in FIELDS:
+                    with Horizontal(classes="form-row"):
+                        yield Label(label, classes="form-label")
+                        yield Input(placeholder=hint, compact=True, id=key)
+                yield Static(
+                    Text("enter the three measurements", style="grey62"), id="measure-message"
+                )
+            with Vertical(id="measure-results"):
+                yield HeadMap(marks_mode=True, id="marks-map")
+                yield DataTable(id="marks-table", cursor_type="row", zebra_stripes=True)
+        yield Footer()
+
+    def on_mount(self) -> None:
+        table = self.query_one("#marks-table", DataTable)
+        for label, key, width in (
+            ("line", "line", 14), ("site", "site", 5), ("also", "also", 4), ("from", "from", 7),
+            ("cm", "cm", 5), ("step", "step", 5), ("%", "pct", 4), ("how to find it", "how", 40),
+        ):
+            table.add_column(label, key=key, width=width)
+        self.query_one("#ni", Input).focus()
+
+    def values(self) -> tuple[str, str, str, str, str, str]:
+        get = lambda i: self.query_one(f"#{i}", Input).value.strip()  # noqa: E731
+        sel = lambda i: str(self.query_one(f"#{i}", Select).value)  # noqa: E731
+        return get("ni"), get("pa"), get("circ"), sel("unit"), sel("system"), sel("names")
+
+    def on_input_changed(self, event: Input.Changed) -> None:
+        self._revalidate()
+
+    def on_select_changed(self, event: Select.Changed) -> None:
+        self._revalidate()
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        order = [k for k, _, _ in FIELDS]
+        if event.input.id in order:
+            nxt = order.index(event.input.id) + 1
+            if nxt < len(order):
+                self.query_one(f"#{order[nxt]}", Input).focus()
+            else:
+                self.query_one("#marks-table", DataTable).focus()
+
+    def _revalidate(self) -> None:
+        ni, pa, circ, unit, system, names = self.values()
+        if not (ni and pa and circ):
+            missing = [label for (k, label, _), v in zip(FIELDS, (ni, pa, circ), strict=True) if not v]
+            self._message(f"still needed: {', '.join(missing)}", "grey62")
+            return
+        self._plan(ni, pa, circ, unit, system, names)
+
+    @work(thread=True, exclusive=True, group="plan", exit_on_error=False)
+    def _plan(self, ni: str, pa: str, circ: str, unit: str, system: str, names: str) -> None:
+        services = self.bedside.services
+        try:
+            m = services.parse_measurements(ni, pa, circ, unit)
+            plan = services.plan_placement(m, system, names)
+            positions = plan.positions_mm or {mk.name: mk.xyz_mm for mk in plan.marks}
+            points = {n: services.project_2d(xyz) for n, xyz in positions.items()}
+        except BedsideError as exc:
+            self.post_message(MeasureInvalid(str(exc)))
+            return
+        self.post_message(PlanReady(plan, points))
+
+    def _message(self, text: str, style: str) -> None:
+        self.query_one("#measure-message", Static).update(Text(text, style=style))
+
+    def on_measure_invalid(self, message: MeasureInvalid) -> None:
+        self._message(f"✖ {message.text}", "bold red")
+
+    def on_plan_ready(self, message: PlanReady) -> None:
+        plan = message.plan
+        self.plan = plan
+        n_sites = len({mk.name for mk in plan.marks})
+        self._message(
+            f"● {n_sites} sites, {len(plan.marks)} marks ({plan.system}, {plan.names} names)",
+            "bold green",
+        )
+        self.query_one("#marks-map", HeadMap).set_points(message.points)
+        table = self.query_one("#marks-table", DataTable)
+        table.clear()
+        for line, marks in grouped(plan.marks):
+            for i, mk in enumerate(marks):
+                table.add_row(
+                    Text(short_line(line), style="bold") if i == 0 else "",
+                    Text(mk.name, style="bold"),
+                    mk.other_name,
+                    mk.start,
+                    f"{mk.distance_cm:.1f}",
+                    f"{mk.step_cm:.1f}",
+                    f"{mk.percent:.0f}",
+                    mk.how,
+                )
+        self.bedside.plan_changed(plan)
+
+    def action_export(self) -> None:
+        if self.plan is None:
+            self.notify("enter the measurements first", severity="warning")
+            return
+        self.bedside.export_plan(self.plan)
+
+    def action_copy_sheet(self) -> None:
+        if self.plan is None:
+            self.notify("enter the measurements first", severity="warning")
+            return
+        from bedside.ui.export import plan_as_text
+
+        self.app.copy_to_clipboard(plan_as_text(self.plan))
+        self.notify("marking sheet copied (if the terminal allows clipboard access)")
+
+    def action_leave_form(self) -> None:
+        self.query_one("#marks-table", DataTable).focus()

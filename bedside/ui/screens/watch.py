@@ -1,0 +1,168 @@
+"""Watch: the live view while electrodes go on.
+
+It only shows what frames say; the app hands it each frame (:meth:`show_frame`).
+With no live data (stream stale or lost, or frames stopped) every electrode shows
+"?" in grey — never the last colours as if they were live.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, cast
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Header
+
+from bedside.checks.types import Level, QualityFrame
+from bedside.ui.plots import DERIVATIONS, Derivation
+from bedside.ui.progress import Progress
+from bedside.ui.widgets.channel_table import ChannelTable
+from bedside.ui.widgets.findings import Findings, ProgressLine
+from bedside.ui.widgets.head_map import Bridge, HeadMap
+from bedside.ui.widgets.stream_status import StreamStatus
+from bedside.ui.widgets.trace_view import TraceRequest, TraceView
+
+if TYPE_CHECKING:
+    from bedside.ui.app import BedsideApp
+
+
+class WatchScreen(Screen[None]):
+    BINDINGS = [
+        Binding("v", "cycle_derivation", "Derivation"),
+        Binding("n", "next_not_good", "Next to fix"),
+        Binding("p", "pick_stream", "Pick stream"),
+        Binding("r", "rescan", "Look again", show=False),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__(name="watch")
+        self.derivation: Derivation = "referential"
+        self.selected: str | None = None
+        self._frame: QualityFrame | None = None
+        self._live = False
+
+    @property
+    def bedside(self) -> BedsideApp:
+        return cast("BedsideApp", self.app)
+
+    def compose(self) -> ComposeResult:
+        yield Header(show_clock=False)
+        yield StreamStatus(id="stream-status")
+        with Horizontal(id="watch-body"):
+            yield HeadMap(id="head-map")
+            yield ChannelTable(id="channel-table")
+        yield TraceView(id="trace-view")
+        yield Findings(id="findings")
+        yield ProgressLine(id="progress")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.set_points(self.bedside.points)
+        self.query_one(ChannelTable).focus()
+        self.set_interval(0.5, self._request_trace)
+        self.query_one(TraceView).clear("select a channel (↑/↓) to see its trace")
+        self.refresh_status()
+
+    def on_screen_resume(self) -> None:
+        self.set_points(self.bedside.points)
+        self.refresh_status()
+        app = self.bedside
+        if app.latest_frame is not None:
+            self.show_frame(app.latest_frame, app.progress, live=app.is_live())
+
+    # --- fed by the app -------------------------------------------------------
+    def set_points(self, points: dict[str, tuple[float, float]]) -> None:
+        self.query_one(HeadMap).set_points(points)
+
+    def refresh_status(self, note: str = "") -> None:
+        app = self.bedside
+        frame = app.latest_frame
+        health = frame.stream_health if frame is not None else None
+        self.query_one(StreamStatus).show(
+            app.identity, health, stalled_s=app.stalled_for(), note=note or app.status_note
+        )
+
+    def show_frame(self, frame: QualityFrame, progress: Progress | None, *, live: bool) -> None:
+        self._frame, self._live = frame, live
+        levels: dict[str, Level | None] = {ch.name: ch.level for ch in frame.channels}
+        bridges = tuple(
+            Bridge(f.electrodes[0], f.electrodes[1], f.level)
+            for f in frame.findings
+            if f.kind == "bridge" and len(f.electrodes) >= 2
+        )
+        table = self.query_one(ChannelTable)
+        ttg = progress.time_to_good_s if progress else {}
+        table.show(frame, live, ttg)
+        if self.selected is None and table.names:
+            self.selected = table.selected_name()
+        self.query_one(HeadMap).show(levels, live=live, bridges=bridges if live else (), selected=self.selected)
+        self.query_one(Findings).show(frame.findings, live)
+        self.query_one(ProgressLine).show(progress)
+        self.refresh_status()
+
+    def show_no_data(self) -> None:
+        """Frames stopped: grey everything out now (the app's watchdog calls this)."""
+        if self._frame is not None:
+            self.show_frame(self._frame, self.bedside.progress, live=False)
+        else:
+            self.refresh_status()
+
+    # --- interaction ------------------------------------------------------------
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        if event.data_table.id != "channel-table" or event.row_key.value is None:
+            return
+        self.selected = str(event.row_key.value)
+        self.query_one(HeadMap).select(self.selected)
+        self._request_trace()
+
+    def _request_trace(self) -> None:
+        app = self.bedside
+        conn = app.connection
+        view = self.query_one(TraceView)
+        if conn is None or self.selected is None:
+            return
+        names = [ch.name for ch in conn.channels]
+        if self.selected not in names:
+            return
+        index = names.index(self.selected)
+        partner_name = app.bipolar_partner(self.selected) if self.derivation == "bipolar" else None
+        partner = names.index(partner_name) if partner_name in names else None
+        size = view.size
+        req = TraceRequest(
+            name=self.selected,
+            index=index,
+            mode=self.derivation,
+            partner_name=partner_name if partner is not None else None,
+            partner=partner,
+            scalp_mask=tuple(ch.is_scalp for ch in conn.channels),
+            trace_s=app.config.trace_s,
+            mains_hz=app.mains_hz(),
+            width=max(20, size.width),
+            height=max(3, size.height),
+        )
+        view.request(conn.tee.buffer, req)
+
+    def action_cycle_derivation(self) -> None:
+        i = DERIVATIONS.index(self.derivation)
+        self.derivation = DERIVATIONS[(i + 1) % len(DERIVATIONS)]
+        self.notify(f"trace: {self.derivation}", timeout=1.5)
+        self._request_trace()
+
+    def action_next_not_good(self) -> None:
+        progress = self.bedside.progress
+        if progress is None or not progress.not_good:
+            self.notify("nothing waiting", timeout=1.5)
+            return
+        names = list(progress.not_good)
+        nxt = names[0]
+        if self.selected in names:
+            nxt = names[(names.index(self.selected) + 1) % len(names)]
+        self.query_one(ChannelTable).select_name(nxt)
+
+    def action_pick_stream(self) -> None:
+        self.bedside.discover(force_picker=True)
+
+    def action_rescan(self) -> None:
+        self.bedside.discover(force_picker=False)

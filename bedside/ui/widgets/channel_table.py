@@ -1,0 +1,163 @@
+"""The compact per-channel table: state, one value per check, time to good, reason.
+
+Rows are keyed by channel name and columns by metric name; each frame is applied
+as one batch of ``update_cell(..., update_width=False)`` (rebuilding rows per tick is
+twice as slow at 256 channels). The table scrolls and pages (PgUp/PgDn).
+"""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.widgets import DataTable
+
+from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
+
+#: The level words shown on screen (machine keys stay good/check/bad).
+LEVEL_WORD = {"good": "good", "check": "check", "bad": "fix"}
+NO_DATA_WORD = "no data"
+
+_UNIT_SUFFIX = (
+    ("_uv_per_s", "µV/s"),
+    ("_uv", "µV"),
+    ("_db", "dB"),
+    ("_hz", "Hz"),
+    ("_pct", "%"),
+    ("_s", "s"),
+    ("_kohm", "kΩ"),
+)
+
+
+def metric_header(key: str) -> str:
+    """'line_noise_db' → 'line noise dB' (the unit from the name's suffix)."""
+    for suffix, unit in _UNIT_SUFFIX:
+        if key.endswith(suffix):
+            return f"{key[: -len(suffix)].replace('_', ' ')} {unit}"
+    return key.replace("_", " ")
+
+
+def level_cell(level: Level | None, live: bool) -> Text:
+    """Symbol and word together, coloured; grey '?' when there is no live data."""
+    if level is None or not live:
+        return Text(f"{NO_DATA_SYMBOL} {NO_DATA_WORD}", style="grey50")
+    return Text(f"{level.symbol} {LEVEL_WORD[level.key]}", style=f"bold {level.colour}")
+
+
+def format_value(value: float | None) -> str:
+    if value is None:
+        return "—"
+    if value != value:  # NaN
+        return "—"
+    if abs(value) >= 1000:
+        return f"{value:.0f}"
+    return f"{value:.1f}"
+
+
+def format_seconds(seconds: float | None) -> str:
+    if seconds is None:
+        return "—"
+    if seconds < 60:
+        return f"{seconds:.0f} s"
+    return f"{int(seconds // 60)} m {int(seconds % 60):02d} s"
+
+
+#: One headline value per check, in the order a technologist reads them:
+#: (check name, metric key, column header, scale for display).
+HEADLINES: tuple[tuple[str, str, str, float], ...] = (
+    ("line_noise", "line_noise_db", "mains dB", 1.0),
+    ("flat", "ptp_uv", "p-p µV", 1.0),
+    ("drift", "drift_uv_per_s", "drift µV/s", 1.0),
+    ("bridging", "bridge_corr", "bridge r", 1.0),
+    ("pops", "pops", "pops", 1.0),
+    ("clipping", "clip_fraction", "clip %", 100.0),
+    ("muscle", "muscle_ratio", "muscle", 1.0),
+    ("amplitude", "rms_uv", "rms µV", 1.0),
+)
+
+
+def headline_columns(keys: set[str]) -> tuple[tuple[str, str, str, float], ...]:
+    """The headline columns present in a frame; other metrics generically if none is known."""
+    known = tuple(h for h in HEADLINES if h[1] in keys)
+    if known:
+        return known
+    return tuple(("", k, metric_header(k), 1.0) for k in sorted(keys)[:6])
+
+
+def check_cell(value: float | None, check_key: str | None) -> Text:
+    """A metric value; when its own check is not good, its symbol and colour too."""
+    text = format_value(value)
+    if check_key in ("check", "bad"):
+        level = Level.from_key(check_key)
+        return Text(f"{level.symbol}{text}", style=level.colour)
+    return Text(text)
+
+
+class ChannelTable(DataTable[object]):
+    """One row per channel: name, state, time to good, why, then one value per check."""
+
+    REASON_WIDTH = 44
+
+    def __init__(self, *, id: str | None = None) -> None:
+        super().__init__(id=id, cursor_type="row", zebra_stripes=True)
+        self._names: tuple[str, ...] = ()
+        self._columns: tuple[tuple[str, str, str, float], ...] = ()
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return self._names
+
+    @property
+    def metric_keys(self) -> tuple[str, ...]:
+        return tuple(c[1] for c in self._columns)
+
+    def _rebuild(self, names: tuple[str, ...], columns: tuple[tuple[str, str, str, float], ...]) -> None:
+        self.clear(columns=True)
+        self.add_column("electrode", key="name", width=9)
+        self.add_column("state", key="state", width=9)
+        self.add_column("to good", key="ttg", width=7)
+        self.add_column("why", key="reason", width=self.REASON_WIDTH)
+        for _, key, header, _ in columns:
+            self.add_column(header, key=f"m:{key}", width=max(6, len(header)))
+        for name in names:
+            self.add_row(name, "", "—", "", *([""] * len(columns)), key=name)
+        self._names, self._columns = names, columns
+
+    def show(self, frame: QualityFrame, live: bool, time_to_good_s: dict[str, float]) -> None:
+        """Apply one frame (a batch of cell updates; a new layout rebuilds once)."""
+        names = tuple(ch.name for ch in frame.channels)
+        keys: set[str] = set()
+        for ch in frame.channels:
+            keys.update(ch.metrics)
+        columns = headline_columns(keys) if keys else self._columns
+        if names != self._names or (keys and columns != self._columns):
+            self._rebuild(names, columns)
+        for ch in frame.channels:
+            self._update_row(ch, live, time_to_good_s.get(ch.name))
+
+    def _update_row(self, ch: ChannelQuality, live: bool, ttg: float | None) -> None:
+        name = ch.name
+        label = Text(name, style="bold" if ch.is_scalp else "italic")
+        self.update_cell(name, "name", label, update_width=False)
+        self.update_cell(name, "state", level_cell(ch.level, live), update_width=False)
+        checks = getattr(ch, "checks", {}) or {}
+        for check, key, _, scale in self._columns:
+            value = ch.metrics.get(key) if live else None
+            shown = None if value is None else float(value) * scale
+            self.update_cell(name, f"m:{key}", check_cell(shown, checks.get(check) if live else None),
+                             update_width=False)
+        self.update_cell(name, "ttg", format_seconds(ttg), update_width=False)
+        if not live:
+            reason = "no live data"
+        elif ch.reasons:
+            reason = ch.reasons[0] + (f" (+{len(ch.reasons) - 1})" if len(ch.reasons) > 1 else "")
+        else:
+            reason = ""
+        self.update_cell(name, "reason", reason, update_width=False)
+
+    def selected_name(self) -> str | None:
+        if not self._names or self.cursor_row < 0 or self.cursor_row >= len(self._names):
+            return None
+        return self._names[self.cursor_row]
+
+    def select_name(self, name: str) -> None:
+        if name in self._names:
+            self.move_cursor(row=self._names.index(name))

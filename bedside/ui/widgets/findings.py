@@ -1,0 +1,61 @@
+"""Findings about the whole setup (reference, ground, bridges) and the count-down."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.widgets import Static
+
+from bedside.checks.types import Finding
+from bedside.ui.progress import Progress
+from bedside.ui.widgets.channel_table import format_seconds
+
+
+def findings_text(findings: tuple[Finding, ...], live: bool) -> Text:
+    out = Text(no_wrap=False)
+    if not live:
+        out.append("? no live data — findings hidden", style="grey50")
+        return out
+    if not findings:
+        out.append("no setup-wide findings", style="grey62")
+        return out
+    for i, f in enumerate(findings):
+        if i:
+            out.append("\n")
+        who = "═".join(f.electrodes) if f.kind == "bridge" else ", ".join(f.electrodes)
+        out.append(f"{f.level.symbol} {f.kind}", style=f"bold {f.level.colour}")
+        if who:
+            out.append(f" {who}", style="bold")
+        out.append(f": {f.reason}")
+    return out
+
+
+def progress_text(progress: Progress | None, *, show_names: int = 8) -> Text:
+    out = Text(no_wrap=True, overflow="ellipsis")
+    if progress is None:
+        out.append("waiting for the first update…", style="grey62")
+        return out
+    if not progress.live:
+        out.append(f"? {progress.total} electrodes — no live data", style="grey50")
+        return out
+    left = len(progress.not_good)
+    if left == 0:
+        out.append(f"● all {progress.total} electrodes good", style="bold green")
+    else:
+        out.append(f"{left} of {progress.total} not good yet", style="bold")
+        names = list(progress.not_good[:show_names])
+        more = left - len(names)
+        out.append(": " + " ".join(names) + (f" +{more}" if more > 0 else ""))
+    if progress.time_to_good_s:
+        last = max(progress.time_to_good_s.items(), key=lambda kv: kv[1])
+        out.append(f"   latest to good: {last[0]} after {format_seconds(last[1])}", style="grey62")
+    return out
+
+
+class Findings(Static):
+    def show(self, findings: tuple[Finding, ...], live: bool) -> None:
+        self.update(findings_text(findings, live))
+
+
+class ProgressLine(Static):
+    def show(self, progress: Progress | None) -> None:
+        self.update(progress_text(progress))

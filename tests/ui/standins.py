@@ -1,0 +1,292 @@
+"""Stand-ins for the core, for UI tests only: fixed frames, a fixed plan, a memory log.
+
+Nothing here is used by bedside itself. Positions are the 10-20 sites on a unit disc
+(nose up) from the usual azimuthal drawing of the 10-20 system (Jasper 1958: the
+midline and coronal rows at 20 % steps; common practice for head maps).
+"""
+
+from __future__ import annotations
+
+import math
+import threading
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
+from bedside.errors import InputError, MeasurementError
+from bedside.placement.types import HeadMeasurements, Mark, PlacementPlan
+from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
+from bedside.ui.services import Services
+
+# Polar positions: radius 0.4 per 20 % step from Cz (azimuthal equidistant), angle
+# from the nose, clockwise to the right. Common practice for 10-20 head maps.
+_POLAR = {
+    "Fp1": (0.8, -18), "Fp2": (0.8, 18), "F7": (0.8, -54), "F8": (0.8, 54),
+    "T7": (0.8, -90), "T8": (0.8, 90), "P7": (0.8, -126), "P8": (0.8, 126),
+    "O1": (0.8, -162), "O2": (0.8, 162), "Fz": (0.4, 0), "Cz": (0.0, 0), "Pz": (0.4, 180),
+    "C3": (0.4, -90), "C4": (0.4, 90), "F3": (0.5, -39), "F4": (0.5, 39),
+    "P3": (0.5, -141), "P4": (0.5, 141),
+}
+NAMES_1020 = tuple(_POLAR)
+
+
+def xy(name: str) -> tuple[float, float]:
+    r, deg = _POLAR[name]
+    a = math.radians(deg)
+    return r * math.sin(a), r * math.cos(a)
+
+
+def positions_for(names: Sequence[str]) -> dict[str, tuple[float, float, float]]:
+    return {n: (*xy(n), 0.0) for n in names if n in _POLAR}
+
+
+def project_2d(xyz: tuple[float, float, float]) -> tuple[float, float]:
+    return float(xyz[0]), float(xyz[1])
+
+
+def parse_measurements(ni: str, pa: str, circ: str, unit: str) -> HeadMeasurements:
+    try:
+        vals = [float(v) for v in (ni, pa, circ)]
+    except ValueError:
+        raise MeasurementError("stand-in: measurements must be numbers") from None
+    if min(vals) <= 0:
+        raise MeasurementError("stand-in: measurements must be greater than zero")
+    return HeadMeasurements(*vals)
+
+
+def plan_placement(m: HeadMeasurements, system: str, names: str) -> PlacementPlan:
+    """The midline only, at the published 10-20 percentages (Jasper 1958: 10, 20, 20, 20, 20, 10)."""
+    pct = (("Fpz", 10), ("Fz", 30), ("Cz", 50), ("Pz", 70), ("Oz", 90))
+    marks = []
+    prev = 0.0
+    for name, p in pct:
+        d = round(m.nasion_inion_cm * p / 100, 1)
+        marks.append(Mark(name, "", "midline", "nasion", d, round(d - prev, 1), p, (0.0, 0.0, 0.0)))
+        prev = d
+    positions = {"Fpz": (0.0, 0.8, 0.0), "Fz": (0.0, 0.4, 0.0), "Cz": (0.0, 0.0, 0.0),
+                 "Pz": (0.0, -0.4, 0.0), "Oz": (0.0, -0.8, 0.0)}
+    return PlacementPlan(m, system, names, tuple(marks), (("Cz", "Fz"), ("Cz", "Pz")), positions)
+
+
+def identity(name: str = "standin-bed", n: int = 20) -> StreamIdentity:
+    return StreamIdentity(name, "EEG", f"{name}-sid", "ward-pc", n, 250.0)
+
+
+def channels() -> tuple[ChannelInfo, ...]:
+    chans = [ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in NAMES_1020]
+    chans.append(ChannelInfo("ECG", "ECG", "ECG", "microvolts", 1.0, False))
+    return tuple(chans)
+
+
+def health(state: str = "live") -> StreamHealth:
+    return StreamHealth(state, 250.0, 249.6 if state == "live" else 0.0, gaps=1, dropped_samples=3,  # type: ignore[arg-type]
+                        seconds_since_data=0.0 if state == "live" else 4.0)
+
+
+def frame(
+    *,
+    bad: Sequence[str] = ("T7",),
+    check: Sequence[str] = ("O2",),
+    bridge: tuple[str, str] | None = ("F3", "C3"),
+    state: str = "live",
+    wall_time: float = 1000.0,
+) -> QualityFrame:
+    """A fixed frame: named channels bad/check, the rest good; optional bridge finding."""
+    out = []
+    for ch in channels():
+        if ch.name in bad:
+            level, reasons = Level.BAD, ("mains 21 dB over EEG band — re-seat or re-prepare the electrode",)
+        elif ch.name in check:
+            level, reasons = Level.CHECK, ("drift 38 µV/s — let the gel settle",)
+        else:
+            level, reasons = Level.GOOD, ()
+        if state != "live":
+            level, reasons = None, ("no data: stream lost",)  # type: ignore[assignment]
+        metrics = {"line_noise_db": 21.0 if ch.name in bad else -12.5, "rms_uv": 14.2, "drift_uv_per_s": 3.1}
+        out.append(ChannelQuality(ch.name, level, metrics, reasons, ch.is_scalp))
+    findings = ()
+    if bridge is not None and state == "live":
+        findings = (Finding("bridge", bridge, Level.BAD, "F3 and C3 look bridged — check for gel between them"),)
+    return QualityFrame(wall_time, wall_time, tuple(out), findings, health(state), 4.0, {"mains_hz": 50.0})
+
+
+class FixedSource:
+    """A Source that gives a 10 Hz sine plus 50 Hz on T7 (display data only)."""
+
+    def __init__(self) -> None:
+        self._identity = identity()
+        self._channels = channels()
+        self._t = 0
+        self.closed = False
+
+    @property
+    def identity(self) -> StreamIdentity:
+        return self._identity
+
+    @property
+    def channels(self) -> tuple[ChannelInfo, ...]:
+        return self._channels
+
+    def pull(self, timeout_s: float = 0.0) -> Chunk | None:
+        n = 25
+        t = (self._t + np.arange(n)) / 250.0
+        self._t += n
+        x = np.tile(20 * np.sin(2 * np.pi * 10 * t)[:, None], (1, len(self._channels)))
+        x[:, NAMES_1020.index("T7")] += 40 * np.sin(2 * np.pi * 50 * t)
+        return Chunk(x, t)
+
+    def health(self) -> StreamHealth:
+        return health()
+
+    def close(self) -> None:
+        self.closed = True
+
+
+class ScriptedMonitor:
+    """Pulls from the source and sends ``frames`` in turn at ``update_hz`` (then holds the last)."""
+
+    def __init__(self, source: Any, frames: list[QualityFrame], on_frame: Callable[[QualityFrame], None],
+                 update_hz: float) -> None:
+        self.source, self.frames, self.on_frame, self.period = source, frames, on_frame, 1.0 / update_hz
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._run, daemon=True)
+        self.stopped = False
+
+    def start(self) -> None:
+        self._thread.start()
+
+    def stop(self) -> None:
+        self._stop.set()
+        self._thread.join(timeout=2)
+        self.stopped = True
+
+    def _run(self) -> None:
+        i = 0
+        while not self._stop.is_set():
+            self.source.pull(0.0)
+            self.on_frame(self.frames[min(i, len(self.frames) - 1)])
+            i += 1
+            self._stop.wait(self.period)
+
+
+@dataclass
+class MemoryStatus:
+    path: Path
+    last_saved: Any = None
+    error: str | None = None
+    unsaved_changes: bool = False
+    notice: str | None = None
+    closed: bool = False
+
+
+@dataclass
+class MemoryRecorder:
+    """Keeps what the UI tells the log, in memory."""
+
+    path: Path
+    technologist: str = ""
+    subject_id: str = ""
+    notes: list[str] = field(default_factory=list)
+    impedances: dict[str, float] = field(default_factory=dict)
+    frames: int = 0
+    saves: int = 0
+    signed: str = ""
+    closed: bool = False
+    plan: Any = None
+    stream: Any = None
+
+    def set_plan(self, plan: Any) -> None:
+        self.plan = plan
+
+    def set_stream(self, identity: Any, channels: Any) -> None:
+        self.stream = identity
+
+    def on_frame(self, frame: Any) -> None:
+        self.frames += 1
+
+    def set_impedance(self, electrode: str, kohm: float) -> None:
+        self.impedances[electrode] = kohm
+
+    def add_note(self, text: str) -> None:
+        self.notes.append(text)
+
+    def set_technologist(self, initials: str) -> None:
+        if not initials.isalpha():
+            raise InputError(f"initials {initials!r} are not acceptable; accepted: letters")
+        self.technologist = initials
+
+    def set_subject(self, subject_id: str) -> None:
+        self.subject_id = subject_id
+
+    def sign_off(self, initials: str) -> None:
+        self.signed = initials
+
+    def save_now(self) -> None:
+        self.saves += 1
+
+    @property
+    def status(self) -> MemoryStatus:
+        return MemoryStatus(self.path, last_saved="12:00:00" if self.saves else None, closed=self.closed)
+
+    def close(self) -> None:
+        self.closed = True
+
+
+def services(
+    *,
+    frames: list[QualityFrame] | None = None,
+    streams: list[StreamIdentity] | None = None,
+    recorder: MemoryRecorder | None = None,
+    **overrides: Any,
+) -> Services:
+    """Stand-in services: fixed streams and frames, the midline plan, a memory log."""
+    frame_list = frames or [frame()]
+    found = streams if streams is not None else []
+
+    def select(cands: Sequence[StreamIdentity], name: Any, sid: Any, host: Any) -> StreamIdentity:
+        from bedside.stream.discovery import select_stream
+
+        return select_stream(list(cands), name, sid, host)
+
+    values: dict[str, Any] = dict(
+        parse_measurements=parse_measurements,
+        plan_placement=plan_placement,
+        positions_for=positions_for,
+        project_2d=project_2d,
+        find_streams=lambda wait_s: list(found),
+        select_stream=select,
+        open_source=lambda ident: FixedSource(),
+        load_quality=lambda: None,
+        make_engine=lambda settings, chans, rate, nb: None,
+        make_monitor=lambda src, eng, on_frame, hz: ScriptedMonitor(src, frame_list, on_frame, hz),
+        open_recorder=(lambda path, tech, subj, cfgs: recorder) if recorder is not None else None,
+    )
+    values.update(overrides)
+    return Services(**values)
+
+
+def wait_until(cond: Callable[[], bool], timeout_s: float = 5.0) -> bool:
+    end = time.monotonic() + timeout_s
+    while time.monotonic() < end:
+        if cond():
+            return True
+        time.sleep(0.02)
+    return cond()
+
+
+def screen_text(app: Any) -> str:
+    """What the terminal shows now, as plain text (same render as the SVG screenshot)."""
+    import io
+
+    from rich.console import Console
+
+    width, height = app.size
+    console = Console(width=width, height=height, file=io.StringIO(), force_terminal=True,
+                      color_system="truecolor", record=True, legacy_windows=False, safe_box=False)
+    console.print(app.screen._compositor.render_update(full=True, screen_stack=app._background_screens))
+    return console.export_text()
