@@ -1,7 +1,8 @@
 """Artifacts around the main checks: pops, clipping, muscle, excessive amplitude.
 
 * pops: a single-sample step far larger than the channel's typical step (median
-  over the window's blocks of the RMS step) and at least pop_step_min_uv — an
+  over the window's blocks of the RMS step, and the RMS of the other steps in its
+  own block) and at least pop_step_min_uv — an
   abrupt deflection isolated to one electrode (FIELD_NOTES; thresholds ours);
 * clipping: share of samples in runs at the extreme value (or at the rail);
 * muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), as in
@@ -25,7 +26,11 @@ from bedside.checks.window_stats import WindowStats
 def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
     typical = np.median(stats.step_rms_uv, axis=0)
-    limit = np.maximum(a.pop_step_min_uv, a.pop_step_ratio * typical)
+    # Isolated: far above the window's typical step and above the rest of its own block
+    # (muscle makes many large steps; a pop is one).
+    limit = np.maximum(
+        a.pop_step_min_uv, a.pop_step_ratio * np.maximum(typical, stats.step_rest_rms_uv)
+    )
     hits = stats.step_max_uv > limit
     count = hits.sum(axis=0).astype(float)
     biggest = stats.step_max_uv.max(axis=0)

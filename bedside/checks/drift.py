@@ -1,7 +1,8 @@
 """Drift and offset: slow wander as a slope (µV/s) and the DC offset against the range.
 
 Slope: least-squares line through the block means over the window (the block
-means carry what changes slower than a block). Thresholds are ours: no published
+means carry what changes slower than a block); slow_uv: the spread (SD) of the
+block means, i.e. the wander slower than ~1/(2·block) Hz. Thresholds are ours: no published
 per-channel value exists (FIELD_NOTES). Offset: |mean| as a share of the
 amplifier range, only when the range is known.
 """
@@ -31,8 +32,12 @@ def slope_uv_per_s(times_s: np.ndarray, means_uv: np.ndarray) -> np.ndarray:
 def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     ds = settings.drift
     slope = slope_uv_per_s(stats.block_times_s, stats.block_means_uv)
-    level = levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s)
-    metrics = {"drift_uv_per_s": slope, "offset_uv": stats.mean_uv}
+    slow = stats.block_means_uv.std(axis=0)
+    level = np.maximum(
+        levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s),
+        levels_from(slow, ds.slow_check_uv, ds.slow_bad_uv),
+    )
+    metrics = {"drift_uv_per_s": slope, "slow_uv": slow, "offset_uv": stats.mean_uv}
     offset_level = np.zeros_like(level)
     if ctx.amplifier_range_uv is not None:
         frac = np.abs(stats.mean_uv) / ctx.amplifier_range_uv
@@ -45,6 +50,8 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
         parts = []
         if abs(slope[i]) >= ds.slope_check_uv_per_s:
             parts.append(f"drift {slope[i]:+.0f} µV/s")
+        if slow[i] >= ds.slow_check_uv:
+            parts.append(f"slow wander {slow[i]:.0f} µV")
         if offset_level[i]:
             parts.append(
                 f"DC offset {stats.mean_uv[i]:.0f} µV ({metrics['offset_fraction'][i]:.0%} of range)"

@@ -63,17 +63,17 @@ class Geometry:
 
 
 def default_neighbours(names: Sequence[str]) -> list[tuple[str, str]]:
-    """The placement's neighbour graph for these names, or all pairs when it is not available."""
+    """The placement's neighbour graph for these names; all pairs when it gives none."""
+    pairs: list[tuple[str, str]] = []
     try:
-        from bedside.placement import neighbours_for  # type: ignore[attr-defined]
-    except ImportError:
-        neighbours_for = None
-    if neighbours_for is not None:
-        try:
-            return [tuple(p) for p in neighbours_for(list(names))]  # type: ignore[misc]
-        except Exception as exc:  # noqa: BLE001 - unknown names etc.: fall back, say so
-            log.info("neighbour graph unavailable (%s); bridging compares all pairs", exc)
-    return [(a, b) for i, a in enumerate(names) for b in names[i + 1 :]]
+        from bedside.placement import neighbours_for
+
+        pairs = [(str(a), str(b)) for a, b in neighbours_for(list(names))]
+    except Exception as exc:  # noqa: BLE001 - unknown names, placement not there: fall back, say so
+        log.info("neighbour graph unavailable (%s); bridging compares all pairs", exc)
+    if not pairs:
+        pairs = [(a, b) for i, a in enumerate(names) for b in names[i + 1 :]]
+    return pairs
 
 
 class Engine:
@@ -235,7 +235,11 @@ class Engine:
             )
         key = self._blocks.count
         if self._cache_key != key or self._cache is None:
-            self._cache = self._compute(self._blocks.stats(), spec)
+            recent_blocks = max(1, round(self.settings.flat.flat_s / self.settings.block_s))
+            hop_s = self.settings.segment_s / 2
+            recent_segs = max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
+            recent = self._spec.recent(recent_segs) or spec
+            self._cache = self._compute(self._blocks.stats(recent_blocks), spec, recent)
             self._cache_key = key
         raw, reasons, per_check, metrics, findings = self._cache
         now = self.data_time_s
@@ -264,7 +268,7 @@ class Engine:
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
 
-    def _compute(self, stats: WindowStats, spec: Spectrum) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]]:
+    def _compute(self, stats: WindowStats, spec: Spectrum, recent: Spectrum) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]]:
         s = self.settings
         n = self.n_channels
         finite = stats.nonfinite == 0
@@ -286,7 +290,7 @@ class Engine:
         )
         results: dict[str, CheckResult] = {
             "flat": flat_res,
-            "line_noise": line_noise.evaluate(spec, ctx, s),
+            "line_noise": line_noise.evaluate(recent, ctx, s),
             "drift": drift.evaluate(stats, ctx, s),
             "bridging": bridging.evaluate(stats, ctx, s),
             "pops": artifacts.pops(stats, ctx, s),

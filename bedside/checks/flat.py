@@ -22,8 +22,9 @@ NAME = "flat"
 
 def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     fs = settings.flat
-    ptp = stats.ptp_uv
-    zero = stats.zero_diff_fraction
+    # Judged on the newest data (flat_s) so a lead that falls off shows within a second.
+    ptp = stats.recent_ptp_uv
+    zero = stats.recent_zero_diff_fraction
     level = levels_from(ptp, fs.ptp_check_uv, fs.ptp_bad_uv, below=True)
     constant = zero >= fs.zero_diff_bad_fraction
     level[constant] = BAD

@@ -26,6 +26,7 @@ SHARED = {
     ),
     "drift": ("reference", "drift", "check the reference electrode first (contact, gel)"),
     "flat": ("reference", "flat signal", "check the reference and ground leads are plugged in"),
+    "pops": ("reference", "pops", "check the reference electrode first (contact, gel)"),
     "amplitude": ("reference", "high amplitude", "check the reference electrode first (contact, gel)"),
 }
 

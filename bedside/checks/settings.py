@@ -43,6 +43,7 @@ class HoldSettings:
 @dataclass(frozen=True)
 class LineNoiseSettings:
     mains: Literal["auto", 50, 60] = "auto"
+    recent_s: float = field(default=1.5, metadata=_rng(0.1, 60.0))
     bandwidth_hz: float = field(default=1.0, metadata=_rng(0.1, 5.0))
     harmonics: int = field(default=3, metadata=_rng(1, 10))
     detect_prominence_db: float = field(default=4.0, metadata=_rng(0.0, 40.0))
@@ -55,7 +56,8 @@ class LineNoiseSettings:
 
 @dataclass(frozen=True)
 class FlatSettings:
-    ptp_bad_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
+    flat_s: float = field(default=1.0, metadata=_rng(0.05, 60.0))
+    ptp_bad_uv: float = field(default=3.0, metadata=_rng(0.0, 1000.0))
     ptp_check_uv: float = field(default=10.0, metadata=_rng(0.0, 1000.0))
     zero_diff_bad_fraction: float = field(default=0.95, metadata=_rng(0.0, 1.0))
     rail_fraction: float = field(default=0.98, metadata=_rng(0.5, 1.0))
@@ -68,12 +70,15 @@ class FlatSettings:
 class DriftSettings:
     slope_check_uv_per_s: float = field(default=50.0, metadata=_rng(0.0, 1e6))
     slope_bad_uv_per_s: float = field(default=200.0, metadata=_rng(0.0, 1e6))
+    slow_check_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
+    slow_bad_uv: float = field(default=200.0, metadata=_rng(0.0, 1e6))
     offset_check_fraction: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     offset_bad_fraction: float = field(default=0.9, metadata=_rng(0.0, 1.0))
 
     def __post_init__(self) -> None:
         _order("drift", "slope_check_uv_per_s", self.slope_check_uv_per_s,
                "slope_bad_uv_per_s", self.slope_bad_uv_per_s)
+        _order("drift", "slow_check_uv", self.slow_check_uv, "slow_bad_uv", self.slow_bad_uv)
         _order("drift", "offset_check_fraction", self.offset_check_fraction,
                "offset_bad_fraction", self.offset_bad_fraction)
 
@@ -119,7 +124,7 @@ class ReferenceSettings:
 @dataclass(frozen=True)
 class PlacementSettings:
     alpha_band_hz: tuple[float, float] = (8.0, 13.0)
-    min_evidence_ratio: float = field(default=2.0, metadata=_rng(1.0, 100.0))
+    min_evidence_ratio: float = field(default=3.0, metadata=_rng(1.0, 100.0))
 
     def __post_init__(self) -> None:
         _band("placement.alpha_band_hz", self.alpha_band_hz)
@@ -152,6 +157,8 @@ class QualitySettings:
         _order("quality", "segment_s", self.segment_s, "window_s", self.window_s)
         _order("quality", "block_s", self.block_s, "segment_s", self.segment_s)
         _order("quality", "min_data_s", self.min_data_s, "window_s", self.window_s)
+        _order("quality", "line_noise.recent_s", self.line_noise.recent_s, "window_s", self.window_s)
+        _order("quality", "flat.flat_s", self.flat.flat_s, "window_s", self.window_s)
         _order("quality", "min_rate_hz", self.min_rate_hz, "max_rate_hz", self.max_rate_hz)
         blocks_per_segment = self.segment_s / self.block_s
         blocks_per_window = self.window_s / self.block_s

@@ -136,6 +136,23 @@ class SpectralAccumulator:
             self._sum = self._ring[:k].sum(axis=0) if self.count <= self.n_segments else self._ring.sum(axis=0)
             self._since_refresh = 0
 
+    def recent(self, k: int) -> Spectrum | None:
+        """Mean of the newest ``k`` periodograms (for checks that must react fast)."""
+        have = min(self.count, self.n_segments)
+        if have == 0:
+            return None
+        k = max(1, min(k, have))
+        if k >= have:
+            return self.spectrum()
+        slots = [(self.count - 1 - j) % self.n_segments for j in range(k)]
+        psd = self._ring[slots[0]].copy()
+        for sl in slots[1:]:
+            psd += self._ring[sl]
+        starts = self._ring_start[slots]
+        first = int(starts.min())
+        span = (first, int(starts.max()) + self.segment - first)
+        return Spectrum(self.freqs_hz, psd / k, k, span)
+
     def spectrum(self) -> Spectrum | None:
         k = min(self.count, self.n_segments)
         if k == 0:

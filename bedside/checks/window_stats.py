@@ -33,7 +33,8 @@ class WindowStats:
     change; clip_fraction: share of samples in runs at the block extreme (or at
     the rail when the amplifier range is known); step_max_uv: (n_blocks, C)
     largest single-sample step per block; step_rms_uv: (n_blocks, C) RMS of the
-    steps per block; nonfinite: (C,) NaN/±Inf samples in the window.
+    steps per block; step_rest_rms_uv: the same without the largest step; nonfinite: (C,) NaN/±Inf samples in the window; recent_ptp_uv,
+    recent_zero_diff_fraction: the same over the newest blocks only (fast reaction).
     """
 
     n_samples: int
@@ -48,7 +49,10 @@ class WindowStats:
     clip_fraction: np.ndarray
     step_max_uv: np.ndarray
     step_rms_uv: np.ndarray
+    step_rest_rms_uv: np.ndarray
     nonfinite: np.ndarray
+    recent_ptp_uv: np.ndarray
+    recent_zero_diff_fraction: np.ndarray
 
     @property
     def rms_uv(self) -> np.ndarray:
@@ -149,9 +153,10 @@ class BlockStats:
         first = self.count % self.n_blocks
         return (np.arange(self.n_blocks) + first) % self.n_blocks
 
-    def stats(self) -> WindowStats:
-        """Combine the ring into the window's statistics."""
+    def stats(self, recent_blocks: int = 4) -> WindowStats:
+        """Combine the ring into the window's statistics (recent_*: the newest blocks only)."""
         order = self._order()
+        recent = order[-max(1, min(recent_blocks, len(order))):]
         k = len(order)
         b = self.block
         n = k * b
@@ -176,5 +181,10 @@ class BlockStats:
             clip_fraction=self.clipped[order].sum(axis=0) / n,
             step_max_uv=self.step_max[order],
             step_rms_uv=np.sqrt(self.step_ss[order] / b),
+            step_rest_rms_uv=np.sqrt(
+                np.maximum(self.step_ss[order] - self.step_max[order] ** 2, 0.0) / max(b - 1, 1)
+            ),
             nonfinite=self.nonfinite[order].sum(axis=0),
+            recent_ptp_uv=self.maxs[recent].max(axis=0) - self.mins[recent].min(axis=0),
+            recent_zero_diff_fraction=self.zero_diffs[recent].sum(axis=0) / (len(recent) * b),
         )
