@@ -103,7 +103,9 @@ class Feeder:
             time.sleep(chunk_s)
 
     def close(self) -> None:
-        del self.outlet
+        """Destroy the outlet (the stream vanishes); safe to call twice."""
+        if hasattr(self, "outlet"):
+            del self.outlet
 
 
 def drain(source, seconds: float, feeder: Feeder | None = None, chunk_s: float = 0.04):  # type: ignore[no-untyped-def]
