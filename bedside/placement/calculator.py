@@ -59,8 +59,9 @@ ROWS_10_10 = (
     ("Pz", "P7", (("P1", 0.25), ("P3", 0.5), ("P5", 0.75))),
     ("POz", "PO7", (("PO3", 0.5),)),
 )
-#: The second published rule for F3 and P3: midway on the Fp1–C3–O1 arc.
-SECOND_RULE = {"F3": ("Fp1", "C3", "O1", "first"), "P3": ("Fp1", "C3", "O1", "second")}
+#: The second published rule for F3 and P3 (Jasper 1958): midway between Fp1 and C3,
+#: and between C3 and O1, on the Fp1–C3–O1 line.
+SECOND_RULE = {"F3": ("Fp1", "C3"), "P3": ("C3", "O1")}
 
 #: References: not measured; approximate places on the model (common practice:
 #: earlobe just below and behind the preauricular point, mastoid further back).
@@ -81,6 +82,11 @@ _LINE_TITLES = {
     "derived": "between marks",
     "reference": "references",
 }
+
+
+def _tenth(cm: float) -> float:
+    """Round to 0.1 cm, halves up (as one reads a tape), not to the nearest even."""
+    return math.floor(cm * 10.0 + 0.5 + 1e-9) / 10.0
 
 
 def _r1(value: object) -> float:
@@ -114,7 +120,7 @@ class _Builder:
         xyz: FloatArray,
         **extra: object,
     ) -> float:
-        d = round(distance_cm, 1)
+        d = _tenth(distance_cm)
         self.positions.setdefault(modern, xyz)
         pos = self.positions[modern]
         self.marks.append(
@@ -272,23 +278,22 @@ def _add_rows(
                 extra: dict[str, object] = {"how": how, "arc_cm": round(leg_mm / 10.0, 1)}
                 left_name = s if side == "left" else site
                 if left_name in second:
-                    other = second[left_name]
+                    other, other_leg_mm = second[left_name]
                     if side == "right":
                         other = np.array([-other[0], other[1], other[2]])
                     gap_cm = float(np.linalg.norm(other - xyz)) / 10.0
-                    a1, a2, a3, leg = SECOND_RULE[left_name]
-                    names3 = [
-                        b.label(k if side == "left" else systems.mirror(k)) for k in (a1, a2, a3)
-                    ]
-                    pair = (names3[0], names3[1]) if leg == "first" else (names3[1], names3[2])
+                    p1, p2 = (
+                        b.label(k if side == "left" else systems.mirror(k))
+                        for k in SECOND_RULE[left_name]
+                    )
                     extra["rule"] = (
-                        f"midway {b.label(mid)}–{b.label(end)} on "
-                        f"{b.label(left_end)}–{b.label(mid)}–{b.label(right_end)}"
+                        f"midway {b.label(mid)}–{b.label(end)} on the "
+                        f"{b.label(left_end)}–{b.label(mid)}–{b.label(right_end)} arc"
                     )
                     extra["rule_gap_cm"] = round(gap_cm, 1)
                     extra["how"] = how + (
-                        f"; check: midway {pair[0]}–{pair[1]} on the "
-                        f"{'–'.join(names3)} arc lands {gap_cm:.1f} cm from it on this head — "
+                        f"; check: midway between {p1} and {p2} (tape {p1} to {p2} ≈ "
+                        f"{other_leg_mm / 10:.1f} cm) lands {gap_cm:.1f} cm from it on this head — "
                         f"mark both and take the crossing"
                     )
                 prev = b.add(
@@ -296,16 +301,16 @@ def _add_rows(
                 )
 
 
-def _second_rule_points(b: _Builder) -> dict[str, FloatArray]:
-    """F3 and P3 by the other published rule: midway on the Fp1–C3–O1 arc (left side)."""
-    out: dict[str, FloatArray] = {}
+def _second_rule_points(b: _Builder) -> dict[str, tuple[FloatArray, float]]:
+    """F3 and P3 by the other published rule (left side): midway between Fp1 and C3,
+    and between C3 and O1, along the tape between the two (the section through them
+    and the centre: a great circle on a sphere). Returns point and tape length (mm)."""
+    out: dict[str, tuple[FloatArray, float]] = {}
     p = b.positions
-    if not all(k in p for k in ("Fp1", "C3", "O1")):
-        return out
-    arc = b.model.plane_arc(p["Fp1"], p["C3"], p["O1"])
-    leg = arc.first_leg_mm
-    out["F3"] = arc.point_at_mm(0.5 * leg)
-    out["P3"] = arc.point_at_mm(leg + 0.5 * (arc.length_mm - leg))
+    for site, (k1, k2) in SECOND_RULE.items():
+        if k1 in p and k2 in p:
+            arc = b.model.plane_arc(p[k1], p[k2])
+            out[site] = (arc.point_at_mm(0.5 * arc.length_mm), arc.length_mm)
     return out
 
 
