@@ -1,0 +1,51 @@
+"""Synthetic EEG-like test signals (seeded), (n_samples, n_channels) in µV."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+from scipy.signal import butter, sosfilt
+
+from bedside.checks.engine import Engine
+from bedside.checks.settings import QualitySettings, load_quality
+from bedside.stream.types import ChannelInfo
+
+TEN_TWENTY = ("Fp1", "Fp2", "F7", "F3", "Fz", "F4", "F8", "T7", "C3", "Cz", "C4", "T8",
+              "P7", "P3", "Pz", "P4", "P8", "O1", "O2")
+
+
+def channels(names: Sequence[str], non_scalp: Sequence[str] = ()) -> list[ChannelInfo]:
+    out = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
+    out += [ChannelInfo(n, n, "ECG", "uV", 1.0, False) for n in non_scalp]
+    return out
+
+
+def eeg_like(n: int, c: int, rate_hz: float, seed: int = 0, rms_uv: float = 15.0) -> np.ndarray:
+    """Independent band-limited (1–30 Hz, 2nd-order Butterworth) noise per channel, ~rms_uv."""
+    rng = np.random.default_rng(seed)
+    sos = butter(2, [1.0, 30.0], btype="bandpass", fs=rate_hz, output="sos")
+    x = sosfilt(sos, rng.normal(size=(n + int(rate_hz), c)), axis=0)[int(rate_hz):]
+    return x / x.std(axis=0) * rms_uv + rng.normal(0, 0.5, size=(n, c))
+
+
+def feed(engine: Engine, x: np.ndarray, chunk: int | None = None, t0_s: float = 0.0) -> list:
+    """Push x in update-sized chunks, evaluating after each; returns the frames."""
+    rate = engine.rate_hz
+    chunk = chunk or int(round(rate / engine.settings.update_hz))
+    frames = []
+    for k in range(0, x.shape[0], chunk):
+        part = x[k : k + chunk]
+        engine.push(part, t0_s + (k + np.arange(part.shape[0])) / rate)
+        frames.append(engine.evaluate())
+    return frames
+
+
+def make_engine(names: Sequence[str] = TEN_TWENTY, rate_hz: float = 256.0,
+                settings: QualitySettings | None = None, **kw: object) -> Engine:
+    return Engine(settings or load_quality(), channels(names, kw.pop("non_scalp", ())),  # type: ignore[arg-type]
+                  rate_hz, **kw)  # type: ignore[arg-type]
+
+
+def by_name(frame: object, name: str):  # type: ignore[no-untyped-def]
+    return next(c for c in frame.channels if c.name == name)  # type: ignore[attr-defined]

@@ -1,0 +1,234 @@
+"""The engine on synthetic signals with known answers.
+
+Outside references named per test: PREP (Bigdely-Shamlo et al. 2015) for the flat
+and deviation criteria and its robust z (checked with scipy.stats.median_abs_deviation);
+numpy.polyfit for the drift slope; the IFCN amplifier-noise limit (Nuwer 1998) for flat;
+hand-made faults (steps, rails, NaN) whose answer is known by construction.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.stats import median_abs_deviation
+
+from bedside.checks.base import robust_z
+from bedside.checks.drift import slope_uv_per_s
+from bedside.checks.settings import load_quality
+from bedside.checks.types import Level
+from bedside.errors import StreamFormatError
+from bedside.stream.types import StreamHealth
+
+from .helpers import TEN_TWENTY, by_name, eeg_like, feed, make_engine
+
+RATE = 256.0
+
+
+def _clean(seconds: float = 8.0, seed: int = 0) -> np.ndarray:
+    return eeg_like(int(seconds * RATE), len(TEN_TWENTY), RATE, seed=seed)
+
+
+def _idx(name: str) -> int:
+    return TEN_TWENTY.index(name)
+
+
+def test_clean_signal_is_all_good() -> None:
+    frame = feed(make_engine(), _clean())[-1]
+    assert {c.level_key for c in frame.channels} == {"good"}
+    assert frame.findings == ()
+    assert all("rms_uv" in c.metrics and "line_noise_db" in c.metrics for c in frame.channels)
+
+
+def test_too_little_data_is_no_data_not_a_colour() -> None:
+    eng = make_engine()
+    frames = feed(eng, _clean(1.0))
+    assert all(c.level is None and c.level_key == "no_data" for c in frames[-1].channels)
+    assert "collecting data" in frames[-1].channels[0].reasons[0]
+
+
+@pytest.mark.parametrize("state", ["stale", "lost", "connecting"])
+def test_stream_not_live_gives_no_data(state: str) -> None:
+    eng = make_engine()
+    feed(eng, _clean())
+    health = StreamHealth(state=state, nominal_rate_hz=RATE, effective_rate_hz=0.0)  # type: ignore[arg-type]
+    frame = eng.evaluate(health)
+    assert all(c.level is None for c in frame.channels)
+    assert frame.stream_health is health and not frame.live
+    assert f"stream {state}" in frame.channels[0].reasons[0]
+
+
+def test_nan_and_inf_flag_only_their_channel() -> None:
+    """NaN/±Inf: that channel is bad with a clear reason; the others' numbers are unchanged."""
+    x = _clean()
+    clean_frame = feed(make_engine(), x)[-1]
+    y = x.copy()
+    y[-300, _idx("C3")] = np.nan
+    y[-200, _idx("C3")] = np.inf
+    y[-100, _idx("O2")] = -np.inf
+    frame = feed(make_engine(), y)[-1]
+    for name in ("C3", "O2"):
+        ch = by_name(frame, name)
+        assert ch.level is Level.BAD
+        assert "not numbers (NaN/Inf)" in ch.reasons[0]
+    assert by_name(frame, "C3").metrics["nonfinite_samples"] == 2
+    for name in ("Fz", "Cz", "P4"):
+        a, b = by_name(frame, name), by_name(clean_frame, name)
+        assert a.level is Level.GOOD
+        # Only the pairs with C3/O2 differ; per-channel metrics are identical.
+        assert a.metrics["rms_uv"] == pytest.approx(b.metrics["rms_uv"])
+        assert a.metrics["line_noise_db"] == pytest.approx(b.metrics["line_noise_db"])
+    assert not [f for f in frame.findings if f.kind in ("ground", "reference")]
+
+
+def test_flat_channel_prep_and_ifcn() -> None:
+    """PREP calls SD ≈ 0 flat; amplifier noise only (0.2 µV RMS, below twice the IFCN
+    1.5 µV p-p limit) is flat too; a suppressed-looking 1.5 µV RMS channel is 'check'."""
+    x = _clean()
+    rng = np.random.default_rng(5)
+    x[:, _idx("P3")] = 7.0  # constant: SD 0
+    x[:, _idx("P4")] = rng.normal(0, 0.2, len(x))
+    x[:, _idx("Cz")] = rng.normal(0, 1.5, len(x))
+    frame = feed(make_engine(), x)[-1]
+    assert by_name(frame, "P3").level is Level.BAD
+    assert by_name(frame, "P4").level is Level.BAD
+    assert "flat" in by_name(frame, "P4").reasons[0]
+    assert by_name(frame, "Cz").checks["flat"] == "check"
+    assert by_name(frame, "Pz").level is Level.GOOD
+
+
+def test_robust_z_matches_scipy_mad() -> None:
+    """PREP's robust z: (x − median) / (1.4826·MAD) == scipy's normal-scaled MAD."""
+    rng = np.random.default_rng(2)
+    v = rng.gamma(2.0, 3.0, 40)
+    mask = np.ones(40, dtype=bool)
+    ref = (v - np.median(v)) / median_abs_deviation(v, scale="normal")
+    np.testing.assert_allclose(robust_z(v, mask), ref, rtol=1e-3)
+
+
+def test_prep_deviation_flags_a_loud_channel_as_check() -> None:
+    """PREP deviation criterion: robust z of amplitude > 5 → at least 'check'."""
+    x = _clean()
+    x[:, _idx("T8")] *= 5.0  # 75 µV RMS: under the absolute limit, far above the others
+    frame = feed(make_engine(), x)[-1]
+    t8 = by_name(frame, "T8")
+    assert t8.checks["amplitude"] == "check"
+    assert t8.metrics["amplitude_z"] > 5
+    assert "amplitude" in t8.reasons[0]
+
+
+def test_drift_slope_matches_polyfit_and_is_flagged() -> None:
+    x = _clean()
+    t = np.arange(len(x)) / RATE
+    x[:, _idx("F8")] += 120.0 * t  # 120 µV/s ramp
+    eng = make_engine()
+    frame = feed(eng, x)[-1]
+    stats = eng.window_stats()
+    assert stats is not None
+    ref = np.polyfit(stats.block_times_s, stats.block_means_uv[:, _idx("F8")], 1)[0]
+    assert slope_uv_per_s(stats.block_times_s, stats.block_means_uv)[_idx("F8")] == pytest.approx(ref)
+    f8 = by_name(frame, "F8")
+    assert f8.metrics["drift_uv_per_s"] == pytest.approx(120.0, rel=0.1)
+    assert f8.checks["drift"] == "check" and "µV/s" in f8.reasons[0]
+
+
+def test_pops_steps_are_found_on_their_channel_only() -> None:
+    x = _clean()
+    n = len(x)
+    for onset in (n - 900, n - 600, n - 300):  # three pops in the last 4 s
+        tau = np.arange(n - onset) / RATE
+        x[onset:, _idx("C4")] += 300.0 * np.exp(-tau / 0.3)
+    frame = feed(make_engine(), x)[-1]
+    c4 = by_name(frame, "C4")
+    assert c4.checks["pops"] == "bad" and c4.metrics["pops"] == 3
+    assert "pop" in " ".join(c4.reasons)
+    assert all(c.checks["pops"] == "good" for c in frame.channels if c.name != "C4")
+
+
+def test_clipping_and_rail() -> None:
+    x = _clean()
+    x[:, _idx("T7")] = np.clip(x[:, _idx("T7")] * 8, -40.0, 40.0)  # clipped a lot
+    x[:, _idx("T8")] = 3190.0 + np.random.default_rng(1).normal(0, 1, len(x))  # at the rail
+    frame = feed(make_engine(amplifier_range_uv=3200.0), x)[-1]
+    assert by_name(frame, "T7").checks["clipping"] == "bad"
+    t8 = by_name(frame, "T8")
+    assert t8.level is Level.BAD and "amplifier's limit" in t8.reasons[0]
+
+
+def test_mains_on_every_channel_is_one_ground_finding() -> None:
+    """Huhta & Webster 1973: a poor ground puts mains in all channels → one finding, no wall of red."""
+    x = _clean()
+    t = np.arange(len(x)) / RATE
+    gains = np.linspace(0.8, 1.6, len(TEN_TWENTY))
+    x += 60.0 * np.sin(2 * np.pi * 50 * t)[:, None] * gains
+    frame = feed(make_engine(), x)[-1]
+    ground = [f for f in frame.findings if f.kind == "ground"]
+    assert len(ground) == 1 and len(ground[0].electrodes) == len(TEN_TWENTY)
+    assert ground[0].level is Level.BAD and "ground" in ground[0].reason
+    assert all(c.level is Level.CHECK for c in frame.channels)
+
+
+def test_non_scalp_channels_are_shown_but_left_out() -> None:
+    """An ECG channel with huge amplitude and mains is shown, but is no scalp verdict,
+    takes no part in bridging, and cannot tip the reference decision."""
+    x = np.hstack([_clean(), np.zeros((int(8 * RATE), 1))])
+    t = np.arange(len(x)) / RATE
+    x[:, -1] = 900.0 * np.sin(2 * np.pi * 1.2 * t) + 200 * np.sin(2 * np.pi * 50 * t)
+    eng = make_engine(non_scalp=["ECG"])
+    frame = feed(eng, x)[-1]
+    ecg = by_name(frame, "ECG")
+    assert not ecg.is_scalp and ecg.level is Level.GOOD
+    assert all(c.level is Level.GOOD for c in frame.channels)
+    assert all(max(p) < len(TEN_TWENTY) for p in eng.neighbours.tolist())
+
+
+def test_hold_keeps_a_verdict_steady_then_clears() -> None:
+    """A pop shows at once, stays while in the window and for hold_s after, then clears."""
+    settings = load_quality()
+    x = _clean(14.0)
+    onset = int(6 * RATE)
+    x[onset:, _idx("Cz")] += 300.0 * np.exp(-np.arange(len(x) - onset) / RATE / 0.2)
+    eng = make_engine(settings=settings)
+    frames = feed(eng, x)
+    times = (np.arange(len(frames)) + 1) / settings.update_hz
+    levels = [by_name(f, "Cz").level_key for f in frames]
+    first_bad = times[levels.index("check")]
+    assert 6.0 <= first_bad <= 6.0 + 1 / settings.update_hz + 1e-9
+    raised = [lv for tt, lv in zip(times, levels, strict=True) if first_bad <= tt < 6.0 + settings.window_s]
+    assert set(raised) == {"check"}  # no flicker while the pop is in the window
+    cleared = [tt for tt, lv in zip(times, levels, strict=True) if tt > first_bad and lv == "good"]
+    assert cleared and cleared[0] <= 6.0 + settings.window_s + settings.hold.hold_s + 0.5
+
+
+@pytest.mark.parametrize("rate", [1.0, 10.0, 100000.0, float("nan")])
+def test_absurd_rates_are_refused(rate: float) -> None:
+    with pytest.raises(StreamFormatError, match="sampling rate .* accepted: 64 to 20000 Hz"):
+        make_engine(rate_hz=rate)
+
+
+def test_channel_count_change_is_refused() -> None:
+    eng = make_engine()
+    with pytest.raises(StreamFormatError, match=r"expected \(n_samples, 19\)"):
+        eng.push(np.zeros((10, 18)), np.zeros(10))
+    with pytest.raises(StreamFormatError, match="no channels"):
+        make_engine(names=[])
+
+
+def test_one_channel_stream_works() -> None:
+    eng = make_engine(names=["Cz"])
+    x = eeg_like(int(6 * RATE), 1, RATE)
+    frame = feed(eng, x[:, 0])[-1]
+    assert frame.channels[0].level is Level.GOOD
+
+
+def test_burst_of_seconds_at_once_equals_steady_feed() -> None:
+    """Seconds of data arriving in one chunk give the same verdicts as a steady stream."""
+    x = _clean(10.0)
+    steady = feed(make_engine(), x)[-1]
+    eng = make_engine()
+    eng.push(x, np.arange(len(x)) / RATE)
+    burst = eng.evaluate()
+    assert [c.level_key for c in burst.channels] == [c.level_key for c in steady.channels]
+    assert [c.metrics["rms_uv"] for c in burst.channels] == pytest.approx(
+        [c.metrics["rms_uv"] for c in steady.channels]
+    )
+
