@@ -32,7 +32,9 @@ def _average_plan(system: str) -> PlacementPlan:
 
 
 def _resolve(names: Iterable[str], system: str) -> list[tuple[str, str]]:
-    """(label as given, modern name) for the labels that are sites of ``system``."""
+    """(label as given, modern name) for the labels that are sites of ``system``.
+
+    Two labels for one site ("T3" and "T7") both stay: each gets the same position."""
     if system not in systems.SYSTEMS:
         raise ValueError(f"system must be one of {', '.join(systems.SYSTEMS)}, got {system!r}")
     allowed = set(systems.sites(system))
@@ -40,9 +42,9 @@ def _resolve(names: Iterable[str], system: str) -> list[tuple[str, str]]:
     seen: set[str] = set()
     for label in names:
         modern = systems.canonical_name(label)
-        if modern is None or modern not in allowed or modern in seen:
+        if modern is None or modern not in allowed or label in seen:
             continue
-        seen.add(modern)
+        seen.add(label)
         out.append((label, modern))
     return out
 

@@ -93,8 +93,9 @@ def _in_range(value: float, unit: str, rng: _Range) -> float:
             continue
         as_cm = value * factor
         if rng.low_cm <= as_cm <= rng.high_cm:
+            same = f" = {as_cm:.1f} cm" if other != "cm" else ""
             msg += (
-                f"; it looks like {UNIT_WORDS[other]} ({_fmt(value)} {other} = {as_cm:.1f} cm): "
+                f"; it looks like {UNIT_WORDS[other]} ({_fmt(value)} {other}{same}): "
                 f"give all three in one unit — {as_cm / UNITS[unit]:.3g} {unit} here, or all "
                 f"three in {UNIT_WORDS[other]} with --unit {other}"
             )
