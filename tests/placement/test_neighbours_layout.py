@@ -45,8 +45,10 @@ def test_neighbours_depend_on_what_is_present() -> None:
 
 
 def test_neighbours_keep_given_labels_and_drop_unknown() -> None:
-    pairs = neighbours_for(["t3", "EEG C3", "ECG", "Status", "C3"])
+    pairs = neighbours_for(["t3", "EEG C3", "ECG", "Status"])
     assert pairs == (("EEG C3", "t3"),)
+    # two labels for one site: both kept, never paired with each other (same place)
+    assert set(neighbours_for(["T3", "T7", "C3"])) == {("C3", "T3"), ("C3", "T7")}
     assert neighbours_for([]) == () and neighbours_for(["X1", "Y2"]) == ()
 
 
