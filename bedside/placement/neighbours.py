@@ -38,23 +38,19 @@ def neighbour_pairs(
     diff = p[:, None, :] - p[None, :, :]
     d2 = np.einsum("ijk,ijk->ij", diff, diff)
     close = d2 <= (_MAX_CHORD_FRACTION * circumference_mm) ** 2
+    i_idx, j_idx = np.nonzero(np.triu(close & (d2 > 0.0), k=1))
+    if len(i_idx) == 0:
+        return ()
     # k lies between i and j when the angle i-k-j exceeds the limit:
     # cos(angle) = (d_ik² + d_jk² - d_ij²) / (2 d_ik d_jk) < cos(limit).
-    dik = d2[:, None, :]  # [i, ., k]
-    djk = d2[None, :, :]  # [., j, k]
-    dij = d2[:, :, None]
+    dik, djk = d2[i_idx], d2[j_idx]  # (pairs, n)
+    dij = d2[i_idx, j_idx][:, None]
     with np.errstate(divide="ignore", invalid="ignore"):
         cos_k = (dik + djk - dij) / (2.0 * np.sqrt(dik * djk))
     cos_limit = math.cos(math.radians(_BETWEEN_ANGLE_DEG))
-    idx = np.arange(n)
-    valid_k = (idx[None, None, :] != idx[:, None, None]) & (
-        idx[None, None, :] != idx[None, :, None]
-    )
-    blocked = np.any(valid_k & np.isfinite(cos_k) & (cos_k < cos_limit), axis=2)
+    blocked = np.any(np.isfinite(cos_k) & (cos_k < cos_limit), axis=1)
     pairs = []
-    for i in range(n):
-        for j in range(i + 1, n):
-            if close[i, j] and not blocked[i, j] and d2[i, j] > 0.0:
-                a, b = sorted((names[i], names[j]))
-                pairs.append((a, b))
+    for i, j in zip(i_idx[~blocked], j_idx[~blocked], strict=True):
+        a, b = sorted((names[int(i)], names[int(j)]))
+        pairs.append((a, b))
     return tuple(sorted(set(pairs)))
