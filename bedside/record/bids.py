@@ -263,7 +263,7 @@ def write_bids(
             raise RecordError(f"BIDS export stopped: cannot write {exc.filename} ({exc.strerror})") from exc
         written += [electrodes, coordsystem]
     for w in warnings:
-        log.warning("BIDS export: %s", w)
+        log.info("BIDS export: %s", w)
     return BidsResult(tuple(written), tuple(warnings))
 
 
