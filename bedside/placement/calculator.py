@@ -131,7 +131,7 @@ class _Builder:
                 start=self.label(start),
                 distance_cm=d,
                 step_cm=round(d - prev_cm, 1),
-                percent=round(percent, 1),
+                percent=round(float(percent), 1),
                 xyz_mm=(_r1(pos[0]), _r1(pos[1]), _r1(pos[2])),
                 **extra,  # type: ignore[arg-type]
             )
@@ -321,9 +321,3 @@ def arc_lengths_cm(model: HeadModel) -> tuple[float, float, float]:
         model.preauricular_mm() / 10.0,
         model.circumference_mm() / 10.0,
     )
-
-
-def angle_deg(u: FloatArray, v: FloatArray) -> float:
-    """Angle between two position vectors (degrees)."""
-    cos = float(np.dot(u, v) / (np.linalg.norm(u) * np.linalg.norm(v)))
-    return math.degrees(math.acos(max(-1.0, min(1.0, cos))))

@@ -82,7 +82,7 @@ def test_csv_rows(capsys: pytest.CaptureFixture[str]) -> None:
         "midline",
         "Nz",
         "10.8",
-        "30",
+        "30.0",
     )
     assert {"x_mm", "y_mm", "z_mm", "how", "arc_cm"} <= set(rows[0])
 
