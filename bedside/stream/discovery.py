@@ -15,6 +15,7 @@ from typing import Any
 
 from bedside.errors import AmbiguousStream, StreamFormatError, StreamNotFound
 from bedside.stream.lsl import pylsl
+from bedside.stream.settings import StreamSettings, load_stream_settings
 from bedside.stream.types import StreamIdentity
 
 log = logging.getLogger("bedside")
@@ -41,11 +42,21 @@ def describe(identity: StreamIdentity) -> str:
     )
 
 
-def visible_streams(wait_s: float = 2.0) -> list[StreamIdentity]:
-    """Every stream visible within ``wait_s`` seconds, of any type, sorted by name."""
+def visible_streams(
+    wait_s: float = 2.0, settings: StreamSettings | None = None
+) -> list[StreamIdentity]:
+    """Every stream visible within ``wait_s`` seconds, of any type, sorted by name.
+
+    The look lasts at least ``discovery_min_wait_s`` (configs/stream.yaml): a shorter
+    one can miss outlets, and a missed stream could make a choice look unambiguous.
+    """
     if not wait_s > 0:
         raise ValueError(f"wait_s must be greater than zero, got {wait_s}")
-    infos = pylsl().resolve_streams(wait_time=float(wait_s))
+    s = settings or load_stream_settings()
+    wait = max(float(wait_s), s.discovery_min_wait_s)
+    if wait > wait_s:
+        log.debug("LSL: looking for %.1f s rather than %.1f s (discovery_min_wait_s)", wait, wait_s)
+    infos = pylsl().resolve_streams(wait_time=wait)
     found = sorted({identity_of(i) for i in infos}, key=lambda s: (s.name, s.hostname, s.source_id))
     log.debug("LSL: %d streams visible", len(found))
     return found
@@ -55,9 +66,11 @@ def _is_type(identity: StreamIdentity, stream_type: str | None) -> bool:
     return stream_type is None or identity.type.strip().casefold() == stream_type.casefold()
 
 
-def find_streams(wait_s: float = 2.0, stream_type: str | None = "EEG") -> list[StreamIdentity]:
+def find_streams(
+    wait_s: float = 2.0, stream_type: str | None = "EEG", settings: StreamSettings | None = None
+) -> list[StreamIdentity]:
     """Streams of ``stream_type`` (compared without case; None: all) visible within ``wait_s``."""
-    return [s for s in visible_streams(wait_s) if _is_type(s, stream_type)]
+    return [s for s in visible_streams(wait_s, settings) if _is_type(s, stream_type)]
 
 
 def _criteria(name: str | None, source_id: str | None, host: str | None) -> str:
@@ -111,13 +124,14 @@ def resolve_one(
     host: str | None = None,
     wait_s: float = 3.0,
     stream_type: str = "EEG",
+    settings: StreamSettings | None = None,
 ) -> StreamIdentity:
     """Look for ``wait_s`` seconds and return the single EEG stream that matches.
 
     A pinned stream that is visible but of another type (e.g. a marker stream) is a
     :class:`StreamFormatError` that says so, rather than "not found".
     """
-    everything = visible_streams(wait_s)
+    everything = visible_streams(wait_s, settings)
     eeg = [s for s in everything if _is_type(s, stream_type)]
     pinned = name is not None or source_id is not None or host is not None
     try:

@@ -93,7 +93,32 @@ def prepare_lsl(log_to: Path | None = None, *, level: int = QUIET_LEVEL) -> None
             except (NotImplementedError, AttributeError):  # liblsl < 1.17.7
                 log.warning("this liblsl cannot be configured from bedside; its log may "
                             "appear on the terminal (set LSLAPICFG to a file with [log] level = -3)")
+            else:
+                if log_to is not None:
+                    _load_config_off_screen(mod)
         _prepared = True
+
+
+def _load_config_off_screen(mod: ModuleType) -> None:
+    """Make liblsl read its configuration now, with fd 2 pointed at /dev/null.
+
+    With a log file, liblsl's logger announces "Logging to <file>" on fd 2 whatever the
+    level (measured with liblsl 1.18); creating a StreamInfo is the first call that
+    loads the configuration. Done before any screen exists, so nothing else is lost.
+    """
+    try:
+        saved = os.dup(2)
+    except OSError:  # no fd 2 at all: nothing to protect
+        mod.StreamInfo("bedside-config", "none", 1, 0.0, "float32", "bedside-config")
+        return
+    devnull = os.open(os.devnull, os.O_WRONLY)
+    try:
+        os.dup2(devnull, 2)
+        mod.StreamInfo("bedside-config", "none", 1, 0.0, "float32", "bedside-config")
+    finally:
+        os.dup2(saved, 2)
+        os.close(saved)
+        os.close(devnull)
 
 
 def _load() -> ModuleType:

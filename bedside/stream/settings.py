@@ -36,6 +36,7 @@ class StreamSettings:
     max_rate_hz: float = field(default=20_000.0, metadata={"min": 1.0, "max": 1_000_000.0})
     low_rate_note_hz: float = field(default=200.0, metadata={"min": 1.0, "max": 100_000.0})
     max_notes: int = field(default=20, metadata={"min": 1, "max": 1000})
+    discovery_min_wait_s: float = field(default=1.0, metadata={"min": 0.0, "max": 60.0})
 
     def __post_init__(self) -> None:
         if self.min_rate_hz >= self.max_rate_hz:

@@ -10,19 +10,21 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).parent))
 
+import pylsl  # noqa: E402
 from outlets import Feeder, make_info, unique_name  # noqa: E402
 
-from bedside.stream.discovery import find_streams, select_stream  # noqa: E402
+from bedside.stream.discovery import identity_of  # noqa: E402
 from bedside.stream.types import StreamIdentity  # noqa: E402
 
 
-def wait_for_identity(name: str, source_id: str | None = None, tries: int = 4) -> StreamIdentity:
-    """Resolve our own test stream (short waits, a few tries)."""
-    for _ in range(tries):
-        mine = [s for s in find_streams(wait_s=0.3, stream_type=None) if s.name == name]
-        if mine and (source_id is None or any(s.source_id == source_id for s in mine)):
-            return select_stream(mine, name=name, source_id=source_id)
-    raise AssertionError(f"test stream {name} never became visible")
+def wait_for_identity(name: str, source_id: str | None = None, timeout_s: float = 3.0) -> StreamIdentity:
+    """Our own test stream, found by its unique source_id (returns as soon as it answers;
+    the product's discovery always looks for the full discovery_min_wait_s)."""
+    found = pylsl.resolve_byprop("source_id", source_id or f"sid-{name}", 1, timeout_s)
+    mine = [identity_of(i) for i in found if i.name() == name]
+    if not mine:
+        raise AssertionError(f"test stream {name} never became visible")
+    return mine[0]
 
 
 @pytest.fixture

@@ -1,0 +1,74 @@
+"""``bedside streams`` as a user runs it (a subprocess), with real outlets."""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+from outlets import unique_name
+
+pytestmark = pytest.mark.lsl
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def run(*args: str, cfg: Path | None = None) -> subprocess.CompletedProcess[str]:
+    env = dict(os.environ)
+    env["LSLAPICFG"] = str(cfg or ROOT / "tests" / "lsl_api.cfg")
+    return subprocess.run(
+        [sys.executable, "-m", "bedside", "streams", *args],
+        capture_output=True, text=True, timeout=60, env=env, cwd=ROOT,
+    )
+
+
+def test_json_lists_a_visible_stream(feeders) -> None:  # type: ignore[no-untyped-def]
+    name = unique_name()
+    feeders(name, n_channels=8, rate_hz=500, source_id=f"sid-{name}")
+    time.sleep(0.2)
+    proc = run("--format", "json", "--wait", "1")
+    assert proc.returncode == 0, proc.stderr
+    rows = json.loads(proc.stdout)
+    mine = [r for r in rows if r["name"] == name]
+    assert mine == [{
+        "name": name, "type": "EEG", "source_id": f"sid-{name}",
+        "hostname": mine[0]["hostname"], "n_channels": 8, "nominal_rate_hz": 500.0,
+    }]
+    assert mine[0]["hostname"]
+
+
+def test_table_lists_a_visible_stream(feeders) -> None:  # type: ignore[no-untyped-def]
+    name = unique_name()
+    feeders(name, n_channels=3)
+    time.sleep(0.2)
+    proc = run("--wait", "1")
+    assert proc.returncode == 0
+    assert proc.stdout.splitlines()[0].split() == ["name", "type", "source_id", "host", "channels", "rate", "(Hz)"]
+    assert any(line.startswith(name) and " 3 " in line for line in proc.stdout.splitlines())
+
+
+def test_none_visible_exits_0_and_says_so(tmp_path: Path) -> None:
+    """A private LSL session (liblsl [lab] SessionID) sees no stream at all."""
+    cfg = tmp_path / "lsl_api.cfg"
+    cfg.write_text(
+        "[multicast]\nResolveScope = machine\n[lab]\nSessionID = " + unique_name() + "\n[log]\nlevel = -3\n",
+        encoding="utf-8",
+    )
+    proc = run("--format", "json", "--wait", "0.5", cfg=cfg)
+    assert proc.returncode == 0
+    assert json.loads(proc.stdout) == []
+    assert "no EEG streams visible" in proc.stderr
+
+
+@pytest.mark.parametrize(
+    ("args", "message"),
+    [(["--wait", "-2"], "--wait must be greater than zero"), (["--format", "xml"], "invalid choice: 'xml'"),
+     (["--wait", "soon"], "--wait must be a number")],
+)
+def test_bad_options_are_clear_errors(args: list[str], message: str) -> None:
+    proc = run(*args)
+    assert proc.returncode == 2
+    assert message in proc.stderr and "Traceback" not in proc.stderr
