@@ -214,7 +214,7 @@ class Engine:
         return self._spec.spectrum()
 
     # ------------------------------------------------------------------ output
-    def _no_data(self, why: str, health: StreamHealth | None) -> QualityFrame:
+    def no_data(self, why: str, health: StreamHealth | None) -> QualityFrame:
         chans = tuple(
             ChannelQuality(n, None, {}, (why,), bool(s)) for n, s in zip(self.names, self.scalp, strict=True)
         )
@@ -226,11 +226,11 @@ class Engine:
     def evaluate(self, health: StreamHealth | None = None) -> QualityFrame:
         """The verdicts for the current window (level None when there is no live data)."""
         if health is not None and health.state != "live":
-            return self._no_data(f"no data: stream {health.state}", health)
+            return self.no_data(f"no data: stream {health.state}", health)
         have_s = self._blocks.filled * self.geometry.block / self.rate_hz
         spec = self._spec.spectrum()
         if have_s < self.settings.min_data_s or spec is None:
-            return self._no_data(
+            return self.no_data(
                 f"collecting data: {have_s:.1f} of {self.settings.min_data_s:g} s", health
             )
         key = self._blocks.count

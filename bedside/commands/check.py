@@ -1,0 +1,197 @@
+"""``bedside check``: run the quality checks on a live stream and print the final report.
+
+Exit status: 0 when every channel and finding is good; 1 when any channel or finding
+is ``check``/``bad`` (or has no data), or the stream was lost during the run; 2 on
+error (bad option, config error, no stream, or several streams match — they are
+listed so that one can be pinned).
+
+JSON (``--format json``): one object ::
+
+    {"stream": {"identity": {...}, "health": {...}},
+     "channels": [{"name", "level", "reasons", "metrics"}, ...],
+     "findings": [{"kind", "electrodes", "level", "reason"}, ...],
+     "mains_hz": 50, "window_s": 4.0, "seconds": 10.0, "stream_lost": false}
+
+``level`` is ``good``, ``check``, ``bad`` or ``no_data``; metrics carry their unit in
+their name; numbers that cannot be computed are null.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+import time
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
+
+from bedside.cautions import DISCLAIMER
+from bedside.commands._common import add_stream_selection, positive_float
+from bedside.errors import InputError
+
+NAME = "check"
+ORDER = 35
+FORMATS = ("table", "json")
+EXIT_OK, EXIT_ATTENTION = 0, 1
+
+if TYPE_CHECKING:
+    from bedside.checks.settings import QualitySettings
+    from bedside.checks.types import QualityFrame
+    from bedside.errors import BedsideError
+    from bedside.stream.source import Source
+    from bedside.stream.types import StreamIdentity
+
+FrameConsumer = Callable[["QualityFrame"], None]
+
+#: Metrics shown in the table, with their column heads.
+TABLE_METRICS = (
+    ("line_noise_db", "mains dB"),
+    ("rms_uv", "RMS µV"),
+    ("ptp_uv", "p-p µV"),
+    ("drift_uv_per_s", "drift µV/s"),
+)
+
+
+def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    p = sub.add_parser(
+        NAME,
+        help="check signal quality on a live stream and print the report",
+        description="Read a live EEG stream for a few seconds, run every quality check "
+        "(line noise, flat, drift, bridging, pops, clipping, muscle, amplitude, "
+        "reference/ground) and print each channel's verdict with its reason. Exit 0 when "
+        "all good, 1 when anything needs attention or the stream was lost, 2 on error. "
+        + DISCLAIMER,
+    )
+    add_stream_selection(p)
+    p.add_argument(
+        "--seconds", metavar="S", type=positive_float("--seconds"), default=8.0,
+        help="seconds of data to judge (default 8; at least the checks' min_data_s)",
+    )
+    p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
+    p.add_argument("--config", metavar="PATH", help="a quality.yaml to use instead of the shipped one")
+    p.set_defaults(func=run)
+
+
+def collect(
+    source: Source, settings: QualitySettings, seconds: float, consumers: list[FrameConsumer]
+) -> tuple[QualityFrame | None, bool, BedsideError | None]:
+    """Run engine + monitor on ``source`` for ``seconds``; returns (last frame, lost?, error)."""
+    from bedside.checks.engine import Engine
+    from bedside.checks.monitor import Monitor
+
+    engine = Engine(settings, source.channels, source.identity.nominal_rate_hz)
+
+    def on_frame(frame: QualityFrame) -> None:
+        for consume in consumers:
+            consume(frame)
+
+    mon = Monitor(source, engine, on_frame, settings.update_hz)
+    deadline = time.monotonic() + seconds
+    with mon:
+        while time.monotonic() < deadline and mon.running:
+            time.sleep(0.05)
+    return mon.latest, mon.lost_seen, mon.error
+
+
+def _num(v: object) -> object:
+    return None if isinstance(v, float) and not math.isfinite(v) else v
+
+
+def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool) -> dict[str, Any]:
+    chans = []
+    for c in frame.channels:
+        d = c.as_dict()
+        d["metrics"] = {k: _num(v) for k, v in c.metrics.items()}
+        chans.append(d)
+    health = frame.stream_health
+    return {
+        "stream": {
+            "identity": identity.as_dict(),
+            "health": health.as_dict() if health is not None else None,
+        },
+        "channels": chans,
+        "findings": [f.as_dict() for f in frame.findings],
+        "mains_hz": frame.extras.get("mains_hz"),
+        "window_s": frame.window_s,
+        "seconds": seconds,
+        "stream_lost": lost,
+    }
+
+
+def as_table(report: dict[str, Any]) -> str:
+    from bedside.checks.types import NO_DATA_SYMBOL, Level
+
+    symbol = {lv.key: lv.symbol for lv in Level}
+    symbol["no_data"] = NO_DATA_SYMBOL
+    head = ["channel", "verdict", *(h for _k, h in TABLE_METRICS), "reason"]
+    rows = []
+    for c in report["channels"]:
+        m = c["metrics"]
+        cells = [c["name"], f"{symbol[c['level']]} {c['level']}"]
+        for key, _h in TABLE_METRICS:
+            v = m.get(key)
+            cells.append("-" if v is None else f"{v:.1f}")
+        cells.append(c["reasons"][0] if c["reasons"] else "")
+        rows.append(cells)
+    widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(head[:-1])]
+    lines = ["  ".join(h.ljust(w) for h, w in zip(head[:-1], widths, strict=True)) + "  " + head[-1]]
+    for r in rows:
+        lines.append(("  ".join(x.ljust(w) for x, w in zip(r[:-1], widths, strict=True)) + "  " + r[-1]).rstrip())
+    findings = report["findings"]
+    if findings:
+        lines.append("")
+        lines.append("findings:")
+        for f in findings:
+            lines.append(f"  {symbol[f['level']]} {f['level']:<5} {f['kind']:<9} {f['reason']}")
+    ident = report["stream"]["identity"]
+    health = report["stream"]["health"] or {}
+    lines.append("")
+    lines.append(
+        f"stream '{ident['name']}' ({ident['source_id']}, {ident['hostname']}): "
+        f"{health.get('state', '?')}, {health.get('effective_rate_hz', 0):.0f} Hz"
+        + (", LOST during the check" if report["stream_lost"] else "")
+        + f"; mains {report['mains_hz'] or 'not detected'}"
+        + (" Hz" if report["mains_hz"] else "")
+    )
+    lines.append(DISCLAIMER)
+    return "\n".join(lines)
+
+
+def exit_code(report: dict[str, Any]) -> int:
+    if report["stream_lost"]:
+        return EXIT_ATTENTION
+    levels = [c["level"] for c in report["channels"]] + [f["level"] for f in report["findings"]]
+    return EXIT_OK if all(lv == "good" for lv in levels) else EXIT_ATTENTION
+
+
+def run(args: argparse.Namespace) -> int:
+    from bedside.checks.settings import load_quality
+    from bedside.stream.discovery import resolve_one
+    from bedside.stream.lsl import prepare_lsl
+    from bedside.stream.reader import LslSource
+
+    settings = load_quality(args.config)
+    if args.seconds < settings.min_data_s:
+        raise InputError(
+            f"--seconds must be at least {settings.min_data_s:g} (the checks need that much data; "
+            f"min_data_s in quality.yaml), got {args.seconds:g}"
+        )
+    prepare_lsl()
+    identity = resolve_one(args.stream, args.source_id, args.host, wait_s=args.wait)
+    consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
+    with LslSource(identity) as source:
+        frame, lost, error = collect(source, settings, args.seconds, consumers)
+        identity = source.identity
+    if error is not None:
+        raise error
+    if frame is None:
+        raise InputError("no frame was produced; the stream sent nothing")
+    report = as_json(frame, identity, args.seconds, lost)
+    if args.format == "json":
+        print(json.dumps(report, indent=2, ensure_ascii=False))
+    else:
+        print(as_table(report))
+    if lost:
+        print("the stream was lost during the check; verdicts after that are 'no data'", file=sys.stderr)
+    return exit_code(report)
