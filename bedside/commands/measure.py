@@ -227,11 +227,12 @@ def plan_to_table(plan: PlacementPlan, unit: str = "cm") -> str:
                 row += f" {_num(k.distance_cm, unit):>7}"
             lines.append(row)
             if line == "derived" and k.how:
-                lines.extend(
-                    textwrap.wrap(
-                        k.how, width=92, initial_indent=" " * 13, subsequent_indent=" " * 13
-                    )
+                # keep "10.3 cm" together on one line
+                text = k.how.replace(" cm", "\u00a0cm")
+                wrapped = textwrap.wrap(
+                    text, width=92, initial_indent=" " * 13, subsequent_indent=" " * 13
                 )
+                lines.extend(w.replace("\u00a0", " ") for w in wrapped)
     lines.append("")
     lines.append(
         "Distances on the measured lines are the published percentages of your tape "
