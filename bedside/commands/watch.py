@@ -8,7 +8,10 @@ setup log (autosaved; q or Ctrl-C saves and leaves).
 from __future__ import annotations
 
 import argparse
+import contextlib
+import logging
 import time
+from collections.abc import Iterator
 from pathlib import Path
 from typing import cast
 
@@ -110,10 +113,32 @@ def run_app(config) -> int:  # type: ignore[no-untyped-def]
     log_file.parent.mkdir(parents=True, exist_ok=True)
     prepare_lsl(log_to=log_file)
     app = make_app(config)
-    result = app.run()
+    with logs_off_the_screen(log_file.parent / "bedside.log"):
+        result = app.run()
     if app.return_code not in (None, 0):
         return int(app.return_code)
     return int(result or 0)
+
+
+@contextlib.contextmanager
+def logs_off_the_screen(path: Path) -> Iterator[None]:
+    """While the app draws on the terminal, log lines go to ``path`` (not stderr, which
+    would tear the screen); errors still reach the technologist as notifications."""
+    root = logging.getLogger()
+    streams = [h for h in root.handlers if isinstance(h, logging.StreamHandler)
+               and not isinstance(h, logging.FileHandler)]
+    for h in streams:
+        root.removeHandler(h)
+    file_handler = logging.FileHandler(path, encoding="utf-8")
+    file_handler.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(name)s: %(message)s"))
+    root.addHandler(file_handler)
+    try:
+        yield
+    finally:
+        root.removeHandler(file_handler)
+        file_handler.close()
+        for h in streams:
+            root.addHandler(h)
 
 
 def run(args: argparse.Namespace) -> int:

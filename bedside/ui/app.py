@@ -79,8 +79,8 @@ class BedsideApp(App[int]):
         Binding("1", "view('measure')", "Measure", show=False),
         Binding("2", "view('watch')", "Watch", show=False),
         Binding("3", "view('log')", "Log", show=False),
-        Binding("q", "leave", "Save & quit"),
-        Binding("ctrl+q", "leave", "Save & quit", show=False, priority=True),
+        Binding("q", "leave", "Save & quit", show=False),
+        Binding("ctrl+q", "leave", "Save & quit", priority=True),
         Binding("ctrl+c", "leave", "Save & quit", show=False, priority=True),
         Binding("ctrl+s", "save", "Save", show=False),
     ]
@@ -224,8 +224,16 @@ class BedsideApp(App[int]):
             self._connect(identity, None)
         self._refresh_watch_status()
 
-    @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
     def _connect(self, identity: StreamIdentity | None, source: Source | None) -> None:
+        """Start watching (UI thread): forget the old stream's state, connect in a worker."""
+        self.tracker.reset()
+        self.latest_frame, self.progress = None, None
+        self._last_frame_at = None
+        self._connected_at = time.monotonic()
+        self._connect_worker(identity, source)
+
+    @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
+    def _connect_worker(self, identity: StreamIdentity | None, source: Source | None) -> None:
         old, self.connection = self.connection, None
         if old is not None:
             old.stop()
@@ -263,10 +271,7 @@ class BedsideApp(App[int]):
         self.connection = message.connection
         self.identity = message.connection.identity
         self.points = message.points
-        self.tracker.reset()
-        self.latest_frame, self.progress = None, None
         self._connected_at = time.monotonic()
-        self._last_frame_at = None
         self.status_note = ""
         if self.recorder is not None:
             conn = message.connection

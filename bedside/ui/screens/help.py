@@ -16,13 +16,13 @@ KEYS = (
         ("F2 / F3 / F4", "Measure / Watch / Log (1 2 3 when not typing)"),
         ("F1 or ?", "this help"),
         ("ctrl+s", "save the setup log now"),
-        ("q, ctrl+c, ctrl+q", "save the log and leave"),
+        ("ctrl+q, ctrl+c, q", "save the log and leave (q when not typing)"),
         ("Tab / shift+Tab", "next / previous field"),
     )),
     ("Measure", (
         ("type, Enter", "the three measurements; marks appear as soon as they are valid"),
-        ("ctrl+e", "save the marking sheet as a text file (for printing)"),
-        ("ctrl+y", "copy the marking sheet to the clipboard"),
+        ("F5", "save the marking sheet as a text file (for printing)"),
+        ("F6", "copy the marking sheet to the clipboard"),
     )),
     ("Watch", (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),

@@ -53,8 +53,8 @@ class MeasureInvalid(Message):
 
 class MeasureScreen(Screen[None]):
     BINDINGS = [
-        Binding("ctrl+e", "export", "Save sheet"),
-        Binding("ctrl+y", "copy_sheet", "Copy sheet"),
+        Binding("f5", "export", "Save sheet"),
+        Binding("f6", "copy_sheet", "Copy sheet"),
         Binding("escape", "leave_form", "Leave form", show=False),
     ]
 

@@ -42,6 +42,7 @@ class WatchScreen(Screen[None]):
         self.selected: str | None = None
         self._frame: QualityFrame | None = None
         self._live = False
+        self._ready = False  # set once the widgets are mounted (frames may come sooner)
 
     @property
     def bedside(self) -> BedsideApp:
@@ -59,11 +60,18 @@ class WatchScreen(Screen[None]):
         yield Footer()
 
     def on_mount(self) -> None:
-        self.set_points(self.bedside.points)
+        self.query_one(HeadMap).set_points(self.bedside.points)
         self.query_one(ChannelTable).focus()
         self.set_interval(0.5, self._request_trace)
         self.query_one(TraceView).clear("select a channel (↑/↓) to see its trace")
+        self._ready = True
         self.refresh_status()
+        if self.bedside.latest_frame is not None:
+            self.show_frame(self.bedside.latest_frame, self.bedside.progress, live=self.bedside.is_live())
+
+    def on_resize(self) -> None:
+        # A short terminal (80×24) keeps the trace small so the map and table stay readable.
+        self.set_class(self.size.height < 32, "-short")
 
     def on_screen_resume(self) -> None:
         self.set_points(self.bedside.points)
@@ -74,9 +82,12 @@ class WatchScreen(Screen[None]):
 
     # --- fed by the app -------------------------------------------------------
     def set_points(self, points: dict[str, tuple[float, float]]) -> None:
-        self.query_one(HeadMap).set_points(points)
+        if self._ready:
+            self.query_one(HeadMap).set_points(points)
 
     def refresh_status(self, note: str = "") -> None:
+        if not self._ready:
+            return
         app = self.bedside
         frame = app.latest_frame
         health = frame.stream_health if frame is not None else None
@@ -86,6 +97,8 @@ class WatchScreen(Screen[None]):
 
     def show_frame(self, frame: QualityFrame, progress: Progress | None, *, live: bool) -> None:
         self._frame, self._live = frame, live
+        if not self._ready:
+            return
         levels: dict[str, Level | None] = {ch.name: ch.level for ch in frame.channels}
         bridges = tuple(
             Bridge(f.electrodes[0], f.electrodes[1], f.level)
@@ -118,6 +131,8 @@ class WatchScreen(Screen[None]):
         self._request_trace()
 
     def _request_trace(self) -> None:
+        if not self._ready:
+            return
         app = self.bedside
         conn = app.connection
         view = self.query_one(TraceView)

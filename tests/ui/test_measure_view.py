@@ -1,0 +1,118 @@
+"""The Measure view with the real placement package, driven from the keyboard (Pilot).
+
+Expected distances are the published 10-20 percentages applied by hand (Jasper 1958:
+midline Fpz 10 %, Fz 30 %, Cz 50 %, Pz 70 %, Oz 90 % of nasion–inion; coronal T7/T3
+10 %, C3 30 % of the preauricular arc, from the left preauricular point).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from standins import screen_text
+from textual.widgets import DataTable, Input
+
+from bedside.ui.app import make_app
+from bedside.ui.config import AppConfig
+from bedside.ui.widgets.head_map import HeadMap
+
+pytestmark = pytest.mark.asyncio
+
+
+async def _type(pilot, text: str) -> None:  # type: ignore[no-untyped-def]
+    for ch in text:
+        await pilot.press(ch)
+
+
+def _rows(table: DataTable) -> list[list[str]]:  # type: ignore[type-arg]
+    return [[str(c) for c in table.get_row_at(i)] for i in range(table.row_count)]
+
+
+async def _enter(pilot, ni: str, pa: str, circ: str) -> None:  # type: ignore[no-untyped-def]
+    await _type(pilot, ni)
+    await pilot.press("tab")
+    await _type(pilot, pa)
+    await pilot.press("tab")
+    await _type(pilot, circ)
+
+
+async def _settle(pilot, app, cond, tries: int = 60) -> bool:  # type: ignore[no-untyped-def]
+    for _ in range(tries):
+        await pilot.pause(0.05)
+        if cond():
+            return True
+    return bool(cond())
+
+
+@pytest.mark.parametrize("size", [(100, 40), (80, 24)])
+async def test_measurements_give_marks_at_published_percentages(size: tuple[int, int], tmp_path: Path) -> None:
+    """36 / 35 / 56 cm: Cz 18.0 cm from the nasion (50 % of 36), C3 10.5 cm from the left
+    preauricular point (30 % of 35) — Jasper 1958, computed by hand."""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=size) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        rows = _rows(table)
+        by_line: dict[str, dict[str, float]] = {}
+        line = ""
+        for r in rows:
+            line = r[0] or line
+            by_line.setdefault(line, {})[r[1]] = float(r[4])
+        assert by_line["midline"]["Fpz"] == pytest.approx(3.6)
+        assert by_line["midline"]["Cz"] == pytest.approx(18.0)
+        assert by_line["midline"]["Oz"] == pytest.approx(32.4)
+        assert by_line["ear to ear"]["T7"] == pytest.approx(3.5)
+        assert by_line["ear to ear"]["C3"] == pytest.approx(10.5)
+        # The walking order: the midline is walked first, nasion to inion.
+        assert rows[0][0] == "midline"
+        mid = [r[1] for r in rows[: len(by_line["midline"])]]
+        assert mid == ["Fpz", "Fz", "Cz", "Pz", "Oz"]
+        # The diagram has every site of the plan.
+        assert {"Cz", "T7", "O1"} <= set(app.screen.query_one("#marks-map", HeadMap).points)
+        assert "Cz" in screen_text(app)
+
+
+async def test_classic_names_and_other_name_column() -> None:
+    """Classic naming shows T3 with T7 beside it (the 1958 and modern names of one site)."""
+    app = make_app(AppConfig(discover=False, start_view="measure", names="classic"))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        pairs = {(r[1], r[2]) for r in _rows(table)}
+        assert ("T3", "T7") in pairs
+
+
+async def test_bad_measurement_is_named_inline() -> None:
+    """A non-number gets a message naming the measurement; no marks appear."""
+    app = make_app(AppConfig(discover=False, start_view="measure"))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "abc", "56")
+        await _settle(pilot, app, lambda: "✖" in screen_text(app))
+        text = screen_text(app)
+        assert "✖" in text
+        assert "preauricular" in text.lower() or "ear" in text.lower()
+        assert app.screen.query_one("#marks-table", DataTable).row_count == 0
+        # Mixed-up units: 360 looks like millimetres.
+        ni = app.screen.query_one("#ni", Input)
+        ni.value = "360"
+        app.screen.query_one("#pa", Input).value = "35"
+        await _settle(pilot, app, lambda: "mm" in screen_text(app))
+        assert "mm" in screen_text(app)
+
+
+async def test_export_writes_a_printable_sheet(tmp_path: Path) -> None:
+    """F5 saves the sheet (atomic write) with the same distances as on screen."""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        await pilot.press("escape", "f5")
+        assert await _settle(pilot, app, lambda: any(tmp_path.glob("marks-*.txt")))
+    sheet = next(tmp_path.glob("marks-*.txt")).read_text(encoding="utf-8")
+    cz = [ln for ln in sheet.splitlines() if ln.split()[:1] == ["Cz"]]
+    assert cz and "18.0" in cz[0]
+    assert "does not diagnose" in sheet

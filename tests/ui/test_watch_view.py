@@ -1,0 +1,182 @@
+"""The Watch view fed fixed frames (no live stream): what a technologist sees.
+
+Frames come from stand-ins (tests/ui/standins.py); the live path is in test_live_lsl.py.
+The rule checked throughout: a level is always a symbol *and* a colour, and without
+live data nothing shows a level at all (common practice for alarms: never colour alone,
+never stale values shown as live).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import pytest
+import standins as si
+from textual.widgets import DataTable
+
+from bedside.checks.types import ChannelQuality, Level, QualityFrame
+from bedside.stream.types import ChannelInfo, StreamIdentity
+from bedside.ui.app import make_app
+from bedside.ui.config import AppConfig
+from bedside.ui.screens.picker import StreamPicker
+from bedside.ui.widgets.channel_table import ChannelTable
+from bedside.ui.widgets.head_map import HeadMap
+
+pytestmark = pytest.mark.asyncio
+
+
+async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
+    for _ in range(tries):
+        await pilot.pause(0.05)
+        if cond():
+            return True
+    return bool(cond())
+
+
+def _state(app: Any, name: str) -> Any:
+    table = app.views["watch"].query_one(ChannelTable)
+    return table.get_cell(name, "state")
+
+
+async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
+    app = make_app(AppConfig(discover=False), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None and "✖T7" in si.screen_text(app))
+        text = si.screen_text(app)
+        t7 = _state(app, "T7")
+        assert t7.plain == "✖ fix" and "red" in str(t7.style)
+        o2 = _state(app, "O2")
+        assert o2.plain == "▲ check" and "yellow" in str(o2.style)
+        assert _state(app, "Cz").plain == "● good"
+        assert "▲O2" in text and "●Cz" in text
+        assert "F3═C3" in text  # the bridge finding names both electrodes
+        assert "2 of 19 not good yet: T7 O2" in text  # ECG is not a scalp electrode
+        assert "250 Hz set / 249.6 Hz seen" in text and "gaps 1" in text
+        assert "standin-bed" in text and "standin-bed-sid" in text  # pinned identity
+        # The reason is shown beside the level.
+        assert "mains 21 dB" in str(app.views["watch"].query_one(ChannelTable).get_cell("T7", "reason"))
+        # Still readable at 80×24.
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause(0.3)
+        small = si.screen_text(app)
+        assert "✖T7" in small and "✖ fix" in small and "live" in small
+
+
+async def test_lost_stream_shows_no_data_not_old_colours() -> None:
+    frames = [si.frame(), si.frame(), si.frame(state="lost")]
+    app = make_app(AppConfig(discover=False, update_hz=10), source=si.FixedSource(),
+                   services=si.services(frames=frames))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None and not app.latest_frame.live)
+        await pilot.pause(0.2)
+        text = si.screen_text(app)
+        assert "lost" in text
+        map_text = app.views["watch"].query_one(HeadMap).render().plain
+        assert "?T7" in map_text and "✖" not in map_text and "●" not in map_text
+        assert _state(app, "T7").plain == "? no data"
+        assert "no live data" in text
+
+
+class _OneFrameMonitor(si.ScriptedMonitor):
+    """Sends one frame, then nothing (a monitor that stalled)."""
+
+    def _run(self) -> None:
+        self.on_frame(self.frames[0])
+        self._stop.wait()
+
+
+async def test_stalled_updates_grey_everything_out() -> None:
+    services = si.services(make_monitor=lambda src, eng, cb, hz: _OneFrameMonitor(src, [si.frame()], cb, hz))
+    app = make_app(AppConfig(discover=False, stale_after_s=0.6), source=si.FixedSource(), services=services)
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None)
+        assert await _until(pilot, lambda: "no update from the checks" in si.screen_text(app), tries=60)
+        assert _state(app, "T7").plain == "? no data"
+        assert not app.is_live()
+
+
+async def test_picker_when_several_streams_are_visible() -> None:
+    a = si.identity("bed-a")
+    b = si.identity("bed-b")
+    app = make_app(AppConfig(), services=si.services(streams=[a, b]))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: isinstance(app.screen, StreamPicker))
+        assert "bed-a" in si.screen_text(app) and "bed-b" in si.screen_text(app)
+        await pilot.press("down", "enter")
+        assert await _until(pilot, lambda: app.connection is not None)
+        # The stand-in source reports its own identity; what was pinned is b.
+        assert app.status_note == ""
+        assert not isinstance(app.screen, StreamPicker)
+
+
+async def test_no_stream_says_so_and_keeps_working() -> None:
+    app = make_app(AppConfig(), services=si.services(streams=[]))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: "no EEG streams visible" in si.screen_text(app))
+        await pilot.press("f2")
+        assert app.screen.name == "measure"
+
+
+async def test_trace_follows_selection_and_derivation() -> None:
+    app = make_app(AppConfig(discover=False), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None)
+        app.views["watch"].query_one(ChannelTable).select_name("T7")
+        assert await _until(pilot, lambda: "T7 as recorded" in si.screen_text(app))
+        assert "mains 50, 100 Hz" in si.screen_text(app)  # the frame says mains is 50 Hz
+        await pilot.press("v")
+        assert await _until(pilot, lambda: "T7 average reference" in si.screen_text(app))
+        await pilot.press("v")
+        # Bipolar: T7 minus its nearest neighbour further back (P7 on the map).
+        assert await _until(pilot, lambda: "T7−P7" in si.screen_text(app))
+        await pilot.press("n")
+        await pilot.pause(0.2)
+        assert app.views["watch"].selected in ("T7", "O2")
+
+
+def _many_channel_frame(n: int) -> tuple[tuple[ChannelInfo, ...], QualityFrame]:
+    names = [f"E{i + 1}" for i in range(n)]
+    chans = tuple(ChannelInfo(nm, nm, "EEG", "microvolts", 1.0, True) for nm in names)
+    out = []
+    for i, nm in enumerate(names):
+        level = (Level.GOOD, Level.CHECK, Level.BAD)[i % 3]
+        out.append(ChannelQuality(nm, level, {"line_noise_db": float(i), "rms_uv": 10.0}, ("r",), True))
+    return chans, QualityFrame(1.0, 1.0, tuple(out), (), si.health(), 4.0, {})
+
+
+class _ManySource(si.FixedSource):
+    def __init__(self, chans: tuple[ChannelInfo, ...]) -> None:
+        super().__init__()
+        self._channels = chans
+        self._identity = StreamIdentity("dense-cap", "EEG", "dense-sid", "lab", len(chans), 250.0)
+
+    def pull(self, timeout_s: float = 0.0) -> Any:
+        return None
+
+
+def _spiral(names: Any) -> dict[str, tuple[float, float, float]]:
+    """Sunflower (Vogel 1979) spiral: evenly spread points on the unit disc."""
+    out = {}
+    n = len(names)
+    for i, nm in enumerate(names):
+        r = 0.95 * math.sqrt((i + 0.5) / n)
+        a = i * math.pi * (3 - math.sqrt(5))
+        out[nm] = (r * math.cos(a), r * math.sin(a), 0.0)
+    return out
+
+
+async def test_256_channels_map_and_paged_table() -> None:
+    chans, frame = _many_channel_frame(256)
+    services = si.services(frames=[frame], positions_for=_spiral)
+    app = make_app(AppConfig(discover=False), source=_ManySource(chans), services=services)
+    async with app.run_test(size=(100, 40)) as pilot:
+        table = app.views["watch"].query_one(ChannelTable)
+        assert await _until(pilot, lambda: table.row_count == 256)
+        await pilot.pause(0.3)
+        rendered = app.views["watch"].query_one(HeadMap).render().plain
+        symbols = sum(rendered.count(s) for s in ("●", "▲", "✖"))
+        assert symbols == 256  # every electrode has its own cell on the map
+        await pilot.press("pagedown", "pagedown")
+        assert table.cursor_row > 20
+        assert isinstance(table, DataTable)
