@@ -25,6 +25,7 @@ from bedside.placement import systems
 from bedside.placement.model import FloatArray, HeadModel, fit_head
 from bedside.placement.neighbours import neighbour_pairs
 from bedside.placement.types import HeadMeasurements, Mark, PlacementPlan
+from bedside.placement.validate import parse_measurements
 
 #: Percent of each measured line where each site lies (modern names).
 #: Jasper 1958 (10-20) and the 10-10 nomenclature (from memory: each 20 % step halved).
@@ -154,7 +155,15 @@ def plan_placement(
         raise InputError(f"system {system!r} is not known; accepted: {', '.join(systems.SYSTEMS)}")
     if names not in systems.NAMINGS:
         raise InputError(f"names {names!r} is not known; accepted: {', '.join(systems.NAMINGS)}")
-    m = measurements
+    if not isinstance(measurements, HeadMeasurements):
+        raise InputError(
+            f"measurements must be HeadMeasurements (see parse_measurements), "
+            f"got {type(measurements).__name__}"
+        )
+    # Built by hand rather than by parse_measurements? Check them the same way.
+    m = parse_measurements(
+        measurements.nasion_inion_cm, measurements.preauricular_cm, measurements.circumference_cm
+    )
     model = fit_head(m.nasion_inion_cm, m.preauricular_cm, m.circumference_cm)
     ten = system == "10-10"
     b = _Builder(model=model, names=names, marks=[], positions={})

@@ -20,6 +20,7 @@ Likely unit mix-ups are named: a value ten times too large looks like millimetre
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass
 
 from bedside.errors import MeasurementError
@@ -50,7 +51,7 @@ def _number(value: object, rng: _Range, unit: str) -> float:
     example = f"a number of {UNIT_WORDS[unit]}, e.g. 36 or 36.5"
     if isinstance(value, bool) or value is None:
         raise MeasurementError(f"{rng.label} must be {example}; got {value!r}")
-    if isinstance(value, int | float):
+    if isinstance(value, numbers.Real):  # int, float, numpy scalars
         number = float(value)
     elif isinstance(value, str):
         text = value.strip()

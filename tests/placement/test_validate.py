@@ -13,7 +13,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from bedside.errors import MeasurementError
+from bedside.errors import InputError, MeasurementError
 from bedside.placement import parse_measurements, plan_placement
 
 
@@ -155,3 +155,26 @@ def test_every_in_range_triple_plans_or_is_refused(
         return
     plan = plan_placement(m, system=system)
     assert all(math.isfinite(k.distance_cm) and k.distance_cm >= 0 for k in plan.marks)
+
+
+def test_plan_checks_hand_built_measurements() -> None:
+    """plan_placement applies the same checks to a HeadMeasurements built by hand."""
+    from bedside.placement import HeadMeasurements
+
+    with pytest.raises(MeasurementError, match="greater than zero"):
+        plan_placement(HeadMeasurements(-36.0, 35.0, 56.0))
+    with pytest.raises(MeasurementError, match="looks like millimetres"):
+        plan_placement(HeadMeasurements(360.0, 350.0, 560.0))
+    with pytest.raises(InputError, match="must be HeadMeasurements"):
+        plan_placement((36, 35, 56))  # type: ignore[arg-type]
+    with pytest.raises(InputError, match="accepted: 10-20, 10-10"):
+        plan_placement(HeadMeasurements(36.0, 35.0, 56.0), system="10-5")
+    with pytest.raises(InputError, match="accepted: modern, classic"):
+        plan_placement(HeadMeasurements(36.0, 35.0, 56.0), names="new")
+
+
+def test_numpy_numbers_accepted() -> None:
+    import numpy as np
+
+    m = parse_measurements(np.float32(36.0), np.int64(35), np.float64(56.0))
+    assert m.preauricular_cm == 35.0
