@@ -1,0 +1,103 @@
+"""The Log view with the real setup log (bedside.record.session.SessionRecorder).
+
+Checked against the file on disk, read back with yaml.safe_load (PyYAML), not against
+the UI's own state.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import pytest
+import standins as si
+import yaml
+
+from bedside.ui.app import make_app
+from bedside.ui.config import AppConfig
+
+pytestmark = pytest.mark.asyncio
+
+
+async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
+    for _ in range(tries):
+        await pilot.pause(0.05)
+        if cond():
+            return True
+    return bool(cond())
+
+
+async def _type(pilot: Any, text: str) -> None:
+    for ch in text:
+        await pilot.press(ch if ch != " " else "space")
+
+
+def _flat(obj: Any) -> str:
+    return yaml.safe_dump(obj, allow_unicode=True)
+
+
+async def test_note_impedance_sign_off_and_save(tmp_path: Path) -> None:
+    log_path = tmp_path / "W3-017.yaml"
+    cfg = AppConfig(discover=False, start_view="log", log_path=log_path, subject_id="W3-017")
+    app = make_app(cfg)
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await _type(pilot, "JM")  # initials field has focus
+        await pilot.press("enter")
+        await pilot.press("tab", "tab")  # subject ID → note
+        await _type(pilot, "Fp1 re-gelled after abrasion check")
+        await pilot.press("enter")
+        await pilot.press("tab")  # note → electrode
+        await _type(pilot, "Cz")
+        await pilot.press("enter")
+        await _type(pilot, "abc")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "impedance must be a number of kΩ" in si.screen_text(app))
+        await pilot.press("ctrl+a", "backspace")
+        app.screen.query_one("#imp-kohm").value = ""
+        await _type(pilot, "4.5")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "impedance Cz 4.5 kΩ" in si.screen_text(app))
+        await pilot.press("ctrl+o")  # sign off (initials JM) and save
+        assert await _until(pilot, lambda: "saved" in si.screen_text(app) and "✖" not in si.screen_text(app))
+        await pilot.press("ctrl+s")
+        await pilot.pause(0.3)
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause(0.2)
+        assert "note" in si.screen_text(app)
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert app.return_code == 0
+    data = yaml.safe_load(log_path.read_text(encoding="utf-8"))
+    text = _flat(data)
+    assert "Fp1 re-gelled after abrasion check" in text
+    assert "W3-017" in text and "JM" in text
+    assert "4.5" in text and "Cz" in text
+
+
+async def test_bad_subject_id_is_refused_with_the_rule(tmp_path: Path) -> None:
+    """A name instead of a code is refused (the log's own rule), and said on screen."""
+    cfg = AppConfig(discover=False, start_view="log", log_path=tmp_path / "x.yaml")
+    app = make_app(cfg)
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("tab")
+        await _type(pilot, "Smith")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "no digit" in si.screen_text(app))
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+
+
+async def test_unwritable_log_is_reported_not_hidden(tmp_path: Path) -> None:
+    """A log folder that cannot be created: the status line says 'not saved', the app goes on."""
+    blocker = tmp_path / "file"
+    blocker.write_text("not a folder", encoding="utf-8")
+    cfg = AppConfig(discover=False, start_view="log", log_path=blocker / "sub" / "log.yaml")
+    app = make_app(cfg)
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("ctrl+s")
+        assert await _until(pilot, lambda: "not saved" in si.screen_text(app))
+        await pilot.press("f3")
+        assert app.screen.name == "watch"

@@ -1,0 +1,96 @@
+"""Screen snapshots of the main views with fixed data (no live stream, no clock).
+
+pytest-textual-snapshot compares each screen with the SVG accepted before; after an
+intended change, look at the new screens and accept them with
+``pytest tests/ui/test_snapshots.py --snapshot-update``.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pytest
+import standins as si
+
+from bedside.stream.types import Chunk
+from bedside.ui.app import make_app
+from bedside.ui.config import AppConfig
+
+
+class OneBlockSource(si.FixedSource):
+    """Gives one fixed 4 s block (10 Hz alpha-like sine, 50 Hz on T7), then nothing."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._sent = False
+
+    def pull(self, timeout_s: float = 0.0) -> Chunk | None:
+        if self._sent:
+            return None
+        self._sent = True
+        t = np.arange(1000) / 250.0
+        x = np.tile(20 * np.sin(2 * np.pi * 10 * t)[:, None], (1, len(self.channels)))
+        x[:, si.NAMES_1020.index("T7")] += 40 * np.sin(2 * np.pi * 50 * t)
+        return Chunk(x, t)
+
+
+def _watch_app() -> Any:
+    return make_app(AppConfig(discover=False, title="bedside"), source=OneBlockSource(),
+                    services=si.services(frames=[si.frame()]))
+
+
+async def _settle(pilot: Any) -> None:
+    for _ in range(40):
+        await pilot.pause(0.05)
+        if pilot.app.latest_frame is not None:
+            break
+    await pilot.pause(0.8)  # the trace worker has drawn
+
+
+@pytest.mark.parametrize("size", [(100, 40), (80, 24)])
+def test_watch_screen(snap_compare: Any, size: tuple[int, int]) -> None:
+    assert snap_compare(_watch_app(), terminal_size=size, run_before=_settle)
+
+
+def test_watch_screen_without_live_data(snap_compare: Any) -> None:
+    app = make_app(AppConfig(discover=False), source=OneBlockSource(),
+                   services=si.services(frames=[si.frame(state="lost")]))
+    assert snap_compare(app, terminal_size=(100, 40), run_before=_settle)
+
+
+async def _measure(pilot: Any) -> None:
+    for key in ("3", "6", "tab", "3", "5", "tab", "5", "6"):
+        await pilot.press(key)
+    for _ in range(40):
+        await pilot.pause(0.05)
+        if pilot.app.screen.plan is not None:
+            break
+    await pilot.press("escape")
+    await pilot.pause(0.2)
+
+
+def test_measure_screen(snap_compare: Any) -> None:
+    app = make_app(AppConfig(discover=False, start_view="measure"), services=si.services())
+    assert snap_compare(app, terminal_size=(100, 40), run_before=_measure)
+
+
+def test_log_screen(snap_compare: Any, tmp_path: Any) -> None:
+    rec = si.MemoryRecorder(tmp_path / "W3-017.yaml")
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=tmp_path / "W3-017.yaml",
+                             technologist="AB", subject_id="W3-017"),
+                   services=si.services(recorder=rec))
+
+    async def note(pilot: Any) -> None:
+        await pilot.pause(0.2)
+        await pilot.press("tab", "tab")
+        for ch in "gel":
+            await pilot.press(ch)
+        await pilot.pause(0.2)
+
+    assert snap_compare(app, terminal_size=(80, 24), run_before=note)
+
+
+def test_help_screen(snap_compare: Any) -> None:
+    app = make_app(AppConfig(discover=False, start_view="measure"), services=si.services())
+    assert snap_compare(app, terminal_size=(100, 40), press=["f1"])
