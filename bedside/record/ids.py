@@ -105,6 +105,6 @@ def validate_note(text: str) -> str:
         raise InputError("note is empty; type some text")
     if len(text) > NOTE_MAX:
         raise InputError(f"note is {len(text)} characters long; accepted: up to {NOTE_MAX}")
-    if any(unicodedata.category(c) == "Cc" and c not in "\n\t" for c in text):
+    if any(unicodedata.category(c) in ("Cc", "Cs") and c not in "\n\t" for c in text):
         raise InputError("note contains control characters; accepted: printable text and line breaks")
     return text

@@ -18,6 +18,8 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+import json
+import re
 import types
 import typing
 from dataclasses import dataclass, field
@@ -270,16 +272,111 @@ class SetupLog:
         return log
 
 
-def dump_yaml(log: SetupLog) -> str:
-    """The canonical text of a log."""
+#: Lists that only ever grow (entries are frozen): their lines are rendered once.
+_APPEND_ONLY = ("timeline", "findings", "events", "impedances", "notes")
+#: Characters YAML treats as line breaks or non-printable, escaped inside strings.
+_YAML_UNSAFE = re.compile("[\x7f-\x9f\u2028\u2029\ufeff\ufffe\uffff\ud800-\udfff]")
+
+
+class DumpCache:
+    """Rendered lines of the append-only lists, reused by the next :func:`dump_yaml`.
+
+    Only for one log whose lists grow by appending (as the SessionRecorder's do); a
+    list that got shorter or whose first entry changed is rendered afresh."""
+
+    def __init__(self) -> None:
+        self.lines: dict[str, list[str]] = {}
+        self.heads: dict[str, object] = {}
+
+
+def _flow(value: Any) -> str:
+    """One entry as a one-line YAML flow mapping (JSON syntax, which YAML reads)."""
+    try:
+        text = json.dumps(_plain(value), ensure_ascii=False, allow_nan=False)
+    except ValueError:  # a non-finite number: let YAML spell it (.nan, .inf)
+        return str(yaml.dump(_plain(value), Dumper=_SafeDumper, default_flow_style=True, width=10**9)).strip()
+    return _yaml_safe(text)
+
+
+def _yaml_safe(json_text: str) -> str:
+    return _YAML_UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", json_text)
+
+
+def dump_yaml(log: SetupLog, cache: DumpCache | None = None) -> str:
+    """The canonical text of a log: block YAML for the header parts, one line per entry
+    for the timeline, findings, events, impedances, notes and final states."""
     header = (
         "# bedside setup log (pseudonymous). Keep it with the recording as your local\n"
         "# policy says. Re-load with `bedside report`; times are local with UTC offset.\n"
     )
-    body = yaml.dump(
-        log.to_dict(), Dumper=_SafeDumper, sort_keys=False, allow_unicode=True, width=100
+    parts = [header]
+    small: dict[str, Any] = {"format": FORMAT_NAME, "format_version": FORMAT_VERSION}
+
+    def flush_small() -> None:
+        if small:
+            parts.append(yaml.dump(small, Dumper=_SafeDumper, sort_keys=False, allow_unicode=True, width=100))
+            small.clear()
+
+    for f in dataclasses.fields(log):
+        value = getattr(log, f.name)
+        if f.name in _APPEND_ONLY:
+            flush_small()
+            if not value:
+                parts.append(f"{f.name}: []\n")
+                continue
+            lines = cache.lines.get(f.name) if cache is not None else None
+            if lines is None or len(lines) > len(value) or (cache is not None and cache.heads.get(f.name) is not value[0]):
+                lines = []
+            lines.extend(f"- {_flow(entry)}\n" for entry in value[len(lines):])
+            if cache is not None:
+                cache.lines[f.name] = lines
+                cache.heads[f.name] = value[0]
+            parts.append(f"{f.name}:\n")
+            parts.extend(lines)
+        elif f.name == "final":
+            flush_small()
+            if not value:
+                parts.append("final: {}\n")
+                continue
+            parts.append("final:\n")
+            parts.extend(f"  {_yaml_safe(json.dumps(str(k), ensure_ascii=False))}: {_flow(v)}\n" for k, v in value.items())
+        elif dataclasses.is_dataclass(value) and not isinstance(value, type):
+            # plan, stream: one line per mark, channel and position.
+            flush_small()
+            parts.append(f"{f.name}:\n")
+            for sub in dataclasses.fields(value):
+                item = getattr(value, sub.name)
+                if isinstance(item, list | tuple) and item and dataclasses.is_dataclass(item[0]):
+                    parts.append(f"  {sub.name}:\n")
+                    parts.extend(f"  - {_flow(x)}\n" for x in item)
+                elif isinstance(item, dict) and item:
+                    parts.append(f"  {sub.name}:\n")
+                    parts.extend(
+                        f"    {_yaml_safe(json.dumps(str(k), ensure_ascii=False))}: {_flow(v)}\n"
+                        for k, v in item.items()
+                    )
+                else:
+                    parts.append(f"  {sub.name}: {_flow(item)}\n")
+        else:
+            small[f.name] = _plain(value)
+    flush_small()
+    # A convenience for readers of the file; recomputed from the timeline on load.
+    ttg = log.time_to_good_s()
+    parts.append("time_to_good_s:\n" if ttg else "time_to_good_s: {}\n")
+    parts.extend(
+        f"  {_yaml_safe(json.dumps(k, ensure_ascii=False))}: {'null' if v is None else repr(v)}\n"
+        for k, v in ttg.items()
     )
-    return header + body
+    return "".join(parts)
+
+
+def shallow_copy(log: SetupLog) -> SetupLog:
+    """A copy whose lists and mappings are new but whose (frozen) entries are shared:
+    cheap, and safe to read while the original grows."""
+    copied = dataclasses.replace(log)
+    for name in (*_APPEND_ONLY, "final"):
+        setattr(copied, name, type(getattr(log, name))(getattr(log, name)))
+    return copied
 
 
 def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:

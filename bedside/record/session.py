@@ -32,7 +32,6 @@ from __future__ import annotations
 
 import atexit
 import contextlib
-import copy
 import fcntl
 import logging
 import math
@@ -61,6 +60,7 @@ from bedside.record.ids import (
 )
 from bedside.record.log import (
     ChannelFinal,
+    DumpCache,
     Event,
     FindingChange,
     ImpedanceEntry,
@@ -72,6 +72,7 @@ from bedside.record.log import (
     StreamRecord,
     dump_yaml,
     parse_yaml,
+    shallow_copy,
     stamp,
     zone_name,
 )
@@ -164,6 +165,7 @@ class SessionRecorder:
         self._lock = threading.RLock()  # guards the log and the counters
         self._io_lock = threading.Lock()  # one save at a time
         self._log = SetupLog()
+        self._dump_cache = DumpCache()
         self._generation = 0
         self._saved_generation = -1
         self._last_saved: datetime | None = None
@@ -575,9 +577,11 @@ class SessionRecorder:
             )
 
     def snapshot(self) -> SetupLog:
-        """A copy of the log as it is now (safe to read from another thread)."""
+        """A copy of the log as it is now, safe to read from another thread while the
+        session goes on (its lists are copies; the entries are frozen and shared —
+        treat them, and their metric mappings, as read-only)."""
         with self._lock:
-            return copy.deepcopy(self._log)
+            return shallow_copy(self._log)
 
     def last_levels(self) -> dict[str, str]:
         """Each electrode's current level key (good/check/bad/no_data)."""
@@ -587,7 +591,8 @@ class SessionRecorder:
     def dump_text(self) -> str:
         """The log's YAML text now (e.g. to show it when no disk will take it)."""
         with self._lock:
-            return dump_yaml(self._log)
+            view = shallow_copy(self._log)
+        return dump_yaml(view)
 
     # -- saving --------------------------------------------------------------------
 
@@ -597,16 +602,16 @@ class SessionRecorder:
 
     def _save(self) -> None:
         with self._io_lock:
-            with self._lock:
-                generation = self._generation
-                text = dump_yaml(self._log)
             try:
                 self._acquire_file_lock(strict=False)
                 if self._aside_pending is not None:
                     self._move_corrupt_aside()
-                    with self._lock:
-                        generation = self._generation
-                        text = dump_yaml(self._log)
+                # Copy under the lock (cheap: entries are frozen), render outside it, so
+                # on_frame never waits for a save.
+                with self._lock:
+                    generation = self._generation
+                    view = shallow_copy(self._log)
+                text = dump_yaml(view, self._dump_cache)
                 atomic_write_text(self._path, text)
             except LogSaveError as exc:
                 self._save_failed(str(exc))

@@ -7,16 +7,22 @@ from pathlib import Path
 
 import pytest
 import yaml
+from hypothesis import given
+from hypothesis import strategies as st
 from record_factories import FakeClock, make_channels, make_frame, make_identity, make_plan
 
 from bedside.checks.types import Finding, Level
 from bedside.errors import RecordError
 from bedside.record.log import (
+    ChannelFinal,
+    DumpCache,
     LevelChange,
+    Note,
     SetupLog,
     dump_yaml,
     load_log,
     parse_yaml,
+    shallow_copy,
     stamp,
 )
 from bedside.record.session import SessionRecorder
@@ -187,3 +193,34 @@ def test_log_dataclass_fields_all_reach_the_yaml(tmp_path: Path, clock: FakeCloc
     data = yaml.safe_load(_valid_text(tmp_path, clock))
     assert {f.name for f in dataclasses.fields(SetupLog)} <= set(data)
     assert data["format"] == "bedside-setup-log" and data["time_to_good_s"]["Cz"] == 1.0
+
+
+_TEXT = st.text(
+    alphabet=st.characters(blacklist_categories=("Cs",)), min_size=1, max_size=30
+)
+
+
+@given(texts=st.lists(_TEXT, min_size=1, max_size=5))
+def test_any_text_survives_the_round_trip(texts: list[str]) -> None:
+    """Property (hypothesis): notes, reasons and names with any characters — quotes,
+    YAML specials, U+2028, NEL, emoji, control characters — load back identical."""
+    t0 = 1_796_000_000.0
+    log = SetupLog(
+        subject_id="W3-017",
+        timeline=[LevelChange(stamp(t0 + i), name, "none", "bad", (name, "#: - [x]")) for i, name in enumerate(texts)],
+        notes=[Note(stamp(t0), text) for text in texts],
+        final={name: ChannelFinal(stamp(t0), "bad", {name: 1.5}, (name,)) for name in texts},
+    )
+    assert parse_yaml(dump_yaml(log)) == log
+
+
+def test_cached_dump_equals_a_fresh_dump(tmp_path: Path, clock: FakeClock) -> None:
+    """The recorder's incremental rendering gives the same text as rendering anew."""
+    cache = DumpCache()
+    log = SetupLog(subject_id="W3-017")
+    for i in range(30):
+        log.timeline.append(LevelChange(stamp(clock.now + i), f"E{i % 4}", "none", "good"))
+        log.notes.append(Note(stamp(clock.now + i), f"note {i}"))
+        assert dump_yaml(shallow_copy(log), cache) == dump_yaml(log)
+    log.timeline = log.timeline[:5]  # not append-only any more: rendered afresh
+    assert dump_yaml(log, cache) == dump_yaml(log)
