@@ -49,6 +49,7 @@ def build_channels(
 
     channels: list[ChannelInfo] = []
     seen: dict[str, int] = {}
+    used: set[str] = set()
     missing_units = 0
     for i in range(n_channels):
         label = lab[i]
@@ -60,12 +61,17 @@ def build_channels(
                                         if typ[i].strip() and typ[i].strip().upper() != "EEG" else "EEG")
             if labels and i < given:
                 ch_notes.append(f"empty label; named {name} by its position")
-        count = seen.get(name.upper(), 0) + 1
-        seen[name.upper()] = count
-        if count > 1:
+        count = max(2, seen.get(name.upper(), 1) + 1)
+        renamed = name.upper() in used
+        if renamed:
             new = f"{name}#{count}"
+            while new.upper() in used:  # a label may itself look like "Cz#2"
+                count += 1
+                new = f"{name}#{count}"
+            seen[name.upper()] = count
             ch_notes.append(f"label {label!r} repeats the name {name}; shown as {new}")
             name = new
+        used.add(name.upper())
         factor, unit_note = scale_to_uv(uni[i] or None)
         if unit_note:
             if not uni[i].strip():
@@ -84,7 +90,7 @@ def build_channels(
                 note="; ".join(ch_notes),
             )
         )
-        if len(ch_notes) and (count > 1 or (labels and i < given and not label.strip())):
+        if ch_notes and (renamed or (labels and i < given and not label.strip())):
             notes.append(f"channel {i + 1}: {ch_notes[0]}")
     if missing_units:
         notes.append(

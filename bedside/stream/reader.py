@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import logging
 import math
+import threading
 import time
 from typing import Any
 
@@ -179,6 +180,7 @@ class LslSource:
             prop="name", value=identity.name, forget_after=s.forget_after_s
         )
         self._seen_pinned = False
+        self._watch_lock = threading.Lock()
         self._others: dict[tuple[str, str, int, float], StreamIdentity] = {}
         self._last_visibility = -math.inf
         self._last_clock_check = -math.inf
@@ -263,13 +265,22 @@ class LslSource:
     # -- internals ---------------------------------------------------------------------
 
     def _watch(self, now_wall: float) -> None:
-        """Ask the background resolver what is visible under this name (rate-limited)."""
-        if self._resolver is None or now_wall - self._last_visibility < _VISIBILITY_EVERY_S:
+        """Ask the background resolver what is visible under this name (rate-limited).
+
+        Called from pull() (the reading thread) and health() (any thread)."""
+        if now_wall - self._last_visibility < _VISIBILITY_EVERY_S:
             return
-        self._last_visibility = now_wall
+        with self._watch_lock:
+            resolver = self._resolver
+            if resolver is None or now_wall - self._last_visibility < _VISIBILITY_EVERY_S:
+                return
+            self._last_visibility = now_wall
+            self._watch_locked(resolver)
+
+    def _watch_locked(self, resolver: Any) -> None:
         me = self._identity
         pinned_visible = False
-        for info in self._resolver.results():
+        for info in resolver.results():
             other = identity_of(info)
             same_shape = (other.n_channels, other.nominal_rate_hz) == (me.n_channels, me.nominal_rate_hz)
             if other.source_id == me.source_id and other.hostname == me.hostname and same_shape:
@@ -288,3 +299,20 @@ class LslSource:
             self._seen_pinned = True
         self._tracker.set_visible(True if pinned_visible else (False if self._seen_pinned else None))
         self._tracker.set_untrusted(tuple(o.source_id for o in self._others.values()))
+
+
+def open_stream(
+    name: str | None = None,
+    source_id: str | None = None,
+    host: str | None = None,
+    wait_s: float = 3.0,
+    settings: StreamSettings | None = None,
+    labels: LabelRules | None = None,
+) -> LslSource:
+    """Select one EEG stream the way every command does (``--stream``, ``--source-id``,
+    ``--host``, ``--wait``; see :func:`bedside.stream.discovery.resolve_one`) and open it."""
+    from bedside.stream.discovery import resolve_one
+
+    s = settings or load_stream_settings()
+    identity = resolve_one(name=name, source_id=source_id, host=host, wait_s=wait_s, settings=s)
+    return LslSource(identity, s, labels)

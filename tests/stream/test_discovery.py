@@ -73,3 +73,17 @@ def test_two_real_streams_with_one_name(feeders) -> None:  # type: ignore[no-unt
 def test_wait_must_be_positive() -> None:
     with pytest.raises(ValueError, match="wait_s"):
         find_streams(wait_s=0)
+
+
+@pytest.mark.lsl
+def test_open_stream_selects_and_opens(feeders) -> None:  # type: ignore[no-untyped-def]
+    from bedside.stream.reader import open_stream
+
+    name = unique_name()
+    feeders(name, n_channels=2, labels=["C3", "C4"])
+    wait_for_identity(name)
+    with open_stream(name=name, wait_s=1.0) as src:
+        assert src.identity.name == name
+        assert [c.name for c in src.channels] == ["C3", "C4"]
+    with pytest.raises(StreamNotFound, match=f"--stream '{name}-nobody'"):
+        open_stream(name=f"{name}-nobody", wait_s=1.0)

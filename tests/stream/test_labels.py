@@ -112,3 +112,24 @@ def test_bad_label_file_is_a_clear_error(tmp_path: Path) -> None:
     bad.write_text("labels:\n  scalp_names: [Cz]\n  type_kinds: {EEG: BRAIN}\n", encoding="utf-8")
     with pytest.raises(ConfigError, match="accepted kinds"):
         load_labels(bad)
+
+
+from hypothesis import given  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from bedside.stream.channels import build_channels  # noqa: E402
+
+
+@given(st.text(max_size=30), st.one_of(st.none(), st.text(max_size=10)))
+def test_any_label_gives_a_name_and_a_kind(label: str, ctype: str | None) -> None:
+    """Fuzzed (issue 8): any label and type give a result, never an exception."""
+    name, kind = normalise_label(label, RULES, ctype)
+    assert kind in KINDS
+    assert name == label.strip() or name in RULES.scalp_names
+
+
+@given(st.lists(st.sampled_from(["Cz", "cz", "T3", "T7", "", " ", "ECG", "X", "Cz#2", "ch2", "T7#2"]), max_size=12), st.integers(1, 14))
+def test_channel_names_are_always_unique(labels: list[str], n: int) -> None:
+    chans, _ = build_channels(n, labels, None, None, RULES)
+    names = [c.name.upper() for c in chans]
+    assert len(chans) == n and len(set(names)) == n
