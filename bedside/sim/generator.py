@@ -60,6 +60,11 @@ def label_position(label: str) -> tuple[float, float]:
     ap: +1 forehead … -1 inion. lr: -1 far left … +1 far right, 0 on the midline.
     Unknown labels sit at the vertex (0, 0). Approximate, for topographies only.
     """
+    # Tolerate the usual decorations: "EEG Fp1-REF", "FP1-A1", "Fp1 ".
+    bare = label.strip()
+    if bare.upper().startswith("EEG "):
+        bare = bare[4:].strip()
+    label = bare.split("-")[0].strip()
     up = label.upper()
     if up in _OLD_T:
         row, number = _OLD_T[up]
@@ -155,6 +160,17 @@ class SignalGenerator:
 
         # Background: every channel, non-scalp ones a little quieter.
         self._pink_uv = bg.pink_uv * scale * np.where(self._scalp, 1.0, 0.3)
+        # Volume conduction: part of each scalp electrode's background comes from
+        # sources it shares with its neighbours (a grid of latent 1/f sources, each
+        # seen with a Gaussian fall-off over the scalp), the rest is its own.
+        grid = np.array([(a, b) for a in (-0.9, -0.45, 0.0, 0.45, 0.9) for b in (-0.8, -0.4, 0.0, 0.4, 0.8)])
+        self._n_latent = len(grid)
+        d2 = ((pos[:, None, :] - grid[None, :, :]) ** 2).sum(axis=2)
+        w = np.exp(-d2 / (2 * 0.35**2))
+        w /= np.sqrt((w**2).sum(axis=1, keepdims=True))
+        shared = bg.shared_fraction * scalp
+        self._mix = (w * np.sqrt(shared)[:, None]).T  # (K, C)
+        self._local_w = np.sqrt(1.0 - shared)
         # Posterior alpha, strongest at O1/O2/Oz/Pz, a tenth of that at the front
         # (posterior dominant rhythm; topography from memory / common practice).
         self._alpha_w = bg.alpha_uv * scalp * (0.1 + 0.9 * ((1.0 - ap) / 2.0) ** 2) * scale
@@ -255,14 +271,17 @@ class SignalGenerator:
         idx = np.arange(start_sample, start_sample + n_samples, dtype=np.int64)
         t = idx / self.rate_hz
         fields = self._fields(start_sample, n_samples)
+        k = self._n_latent
         pink = fields[:, :c]
         ref_pink = fields[:, c]
-        muscle_noise = fields[:, c + 1 : 2 * c + 1]
-        white = fields[:, 2 * c + 1 :]
+        latent = fields[:, c + 1 : c + 1 + k]
+        muscle_noise = fields[:, c + 1 + k : 2 * c + 1 + k]
+        white = fields[:, 2 * c + 1 + k :]
         bg = self.scenario.background
 
-        # Electrodes: background and normal physiology.
-        e = pink * self._pink_uv
+        # Electrodes: background (own part + the part shared with neighbours) and
+        # normal physiology.
+        e = (pink * self._local_w + latent @ self._mix) * self._pink_uv
         closed = self.eyes_closed(t)
         alpha_env = (0.1 + 0.9 * closed) * (0.75 + 0.25 * np.tanh(self._alpha_wax(t)))
         alpha_arg = 2 * np.pi * bg.alpha_hz * t + 0.6 * self._alpha_wobble(t)
@@ -477,7 +496,7 @@ class SignalGenerator:
                 window.astype(np.float32))
 
     def _segment(self, s: int) -> np.ndarray:
-        """Noise segment s (samples (s-1)·B … (s+1)·B), windowed: (2B, 3C+1) fields."""
+        """Noise segment s (samples (s-1)·B … (s+1)·B), windowed: (2B, 3C+1+K) fields."""
         cached = self._cache.get(s)
         if cached is not None:
             self._cache.move_to_end(s)
@@ -486,14 +505,15 @@ class SignalGenerator:
         n = 2 * self.block
         rng = np.random.default_rng([self.scenario.seed, 0x5E6, s])
         # float32 halves the cost of the noise; the samples go out as float32 anyway.
-        white = rng.standard_normal((n, 3 * c + 1), dtype=np.float32)
+        p = c + 1 + self._n_latent  # pink fields: per channel, reference, latent sources
+        white = rng.standard_normal((n, p + 2 * c), dtype=np.float32)
         pink_h, muscle_h, window = self._filters
         out = np.empty_like(white)
-        out[:, : c + 1] = np.fft.irfft(np.fft.rfft(white[:, : c + 1], axis=0) * pink_h[:, None], n, axis=0)
-        out[:, c + 1 : 2 * c + 1] = np.fft.irfft(
-            np.fft.rfft(white[:, c + 1 : 2 * c + 1], axis=0) * muscle_h[:, None], n, axis=0
+        out[:, :p] = np.fft.irfft(np.fft.rfft(white[:, :p], axis=0) * pink_h[:, None], n, axis=0)
+        out[:, p : p + c] = np.fft.irfft(
+            np.fft.rfft(white[:, p : p + c], axis=0) * muscle_h[:, None], n, axis=0
         )
-        out[:, 2 * c + 1 :] = white[:, 2 * c + 1 :]
+        out[:, p + c :] = white[:, p + c :]
         out *= window[:, None]
         self._cache[s] = out
         if len(self._cache) > self.CACHE_SEGMENTS:
@@ -501,9 +521,9 @@ class SignalGenerator:
         return out
 
     def _fields(self, start: int, n: int) -> np.ndarray:
-        """Cross-faded noise fields for samples start … start+n-1: (n, 3C+1), unit variance."""
+        """Cross-faded noise fields for samples start … start+n-1: (n, 3C+1+K), unit variance."""
         b = self.block
-        out = np.empty((n, 3 * self.n_channels + 1), dtype=np.float32)
+        out = np.empty((n, 3 * self.n_channels + 1 + self._n_latent), dtype=np.float32)
         pos = start
         end = start + n
         while pos < end:

@@ -88,7 +88,8 @@ FAULT_DEFAULTS: dict[str, dict[str, float]] = {
     "reference": {"amplitude_uv": 30.0, "drift_uv": 120.0},
 }
 
-_LABEL_RE = re.compile(r"^[A-Za-z][A-Za-z0-9'_-]{0,15}$")
+# EDF's limit is 16 characters; spaces inside allow decorated labels ("EEG Fp1-REF").
+_LABEL_RE = re.compile(r"^[A-Za-z](?:[A-Za-z0-9' _-]{0,14}[A-Za-z0-9'])?$")
 
 
 @dataclass(frozen=True)
@@ -167,6 +168,9 @@ class Background:
 
     pink_uv: float = field(default=12.0, metadata={"min": 0, "max": 200})  # RMS per channel
     pink_exponent: float = field(default=1.0, metadata={"min": 0, "max": 3})  # PSD ~ 1/f^x
+    # Share of each scalp electrode's background common with its neighbours (volume
+    # conduction makes neighbouring electrodes correlated: common practice).
+    shared_fraction: float = field(default=0.5, metadata={"min": 0, "max": 0.95})
     reference_pink_uv: float = field(default=3.0, metadata={"min": 0, "max": 100})
     alpha_uv: float = field(default=20.0, metadata={"min": 0, "max": 200})  # peak, O1/O2
     alpha_hz: float = field(default=10.0, metadata={"min": 8, "max": 12})
@@ -222,8 +226,8 @@ class Scenario:
         for label in self.channels:
             if not _LABEL_RE.match(label):
                 raise ValueError(
-                    f"channel label {label!r} is not usable: ASCII letters/digits, "
-                    "starting with a letter, at most 16 characters (EDF limit)"
+                    f"channel label {label!r} is not usable: ASCII letters, digits, spaces, "
+                    "'-' or '_', starting with a letter, at most 16 characters (EDF limit)"
                 )
             if label.upper() in seen:
                 raise ValueError(f"channel label {label!r} appears twice")

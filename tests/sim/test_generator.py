@@ -351,3 +351,26 @@ def test_muscle_fault(us) -> None:  # type: ignore[no-untyped-def]
     during = _band_power(_seg(gen, x, 61, 99), fs, 30, 100)[t7]
     before = _band_power(_seg(gen, x, 0, 29), fs, 30, 100)[t7]
     assert during > 10 * before
+
+
+def test_neighbours_share_signal_but_distant_sites_do_not(clean) -> None:  # type: ignore[no-untyped-def]
+    """Volume conduction: neighbouring electrodes are correlated (1-40 Hz, eyes open) and
+    distant ones much less (common practice); unbridged neighbours' electrical distance
+    stays far above MNE-Python's 16 µV² bridging cutoff."""
+    gen, x, ch = clean
+    g = gen.eyes_closed(_times(gen, x.shape[0]))
+    sos = butter(4, [1, 40], btype="bandpass", fs=gen.rate_hz, output="sos")
+    y = sosfiltfilt(sos, x, axis=0)[g < 0.01]
+    r = np.corrcoef(y.T)
+    for a, b in (("C3", "Cz"), ("F3", "Fz"), ("P3", "Pz")):
+        assert 0.2 < r[ch[a], ch[b]] < 0.9
+        assert np.var(y[:, ch[a]] - y[:, ch[b]]) > 40
+    assert abs(r[ch["F7"], ch["P8"]]) < 0.2
+
+
+def test_decorated_labels_keep_their_topography() -> None:
+    """'EEG Fp1-REF' is placed like Fp1 (label decorations as amplifiers send them)."""
+    from bedside.sim.generator import label_position
+
+    assert label_position("EEG Fp1-REF") == label_position("Fp1")
+    assert label_position("T5") == label_position("P7")  # classic T5 = modern P7 (FIELD_NOTES)
