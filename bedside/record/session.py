@@ -419,10 +419,10 @@ class SessionRecorder:
                 changed |= self._record_findings(at, frame.findings)
             extras = getattr(frame, "extras", None) or {}
             for key_name in _FRAME_EXTRA_MAINS_KEYS:
-                value = extras.get(key_name)
-                if isinstance(value, int | float) and not isinstance(value, bool) and value in (50, 60):
-                    if self._log.power_line_hz != float(value):
-                        self._log.power_line_hz = float(value)
+                mains = _mains_hz(extras.get(key_name))
+                if mains is not None:
+                    if self._log.power_line_hz != mains:
+                        self._log.power_line_hz = mains
                         changed = True
                     break
             if changed:
@@ -716,6 +716,17 @@ class SessionRecorder:
         self, exc_type: type[BaseException] | None, exc: BaseException | None, tb: TracebackType | None
     ) -> None:
         self.close()
+
+
+def _mains_hz(value: Any) -> float | None:
+    """50.0 or 60.0 from a frame's extras (numpy numbers too), else None."""
+    if value is None or isinstance(value, bool):
+        return None
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        return None
+    return number if number in (50.0, 60.0) else None
 
 
 def _clean_metrics(metrics: Any) -> dict[str, float | None]:
