@@ -92,6 +92,7 @@ def test_stall_then_burst(feeders) -> None:  # type: ignore[no-untyped-def]
         drain(src, 0.5, f)
         poll(src, "stale", 3.5)  # the outlet stays but sends nothing
         f.push_due()  # everything it held back, at once, timestamps unbroken
+        time.sleep(0.3)  # let all of it arrive, so one pull takes it whole
         chunk = src.pull(1.0)
         assert chunk is not None and chunk.timestamps[-1] - chunk.timestamps[0] > 1.0
         h = src.health()
