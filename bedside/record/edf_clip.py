@@ -10,6 +10,9 @@ symmetric physical range (the next whole µV above its largest magnitude) over t
 
 NaN/±Inf samples cannot be stored in EDF: they are written as 0 and an annotation at
 the clip start says how many, in which channel — never silently.
+
+:func:`annotations_for_clip` turns the setup log's timeline, findings and stream events
+inside the clip into EDF+ annotations.
 """
 
 from __future__ import annotations
@@ -27,6 +30,7 @@ from bedside import __version__
 from bedside.errors import InputError, RecordError
 from bedside.record.atomic import atomic_write
 from bedside.record.ids import validate_subject_id
+from bedside.record.log import SetupLog
 
 LABEL_MAX = 16
 DIGITAL_RANGE = (-32768, 32767)
@@ -185,3 +189,36 @@ def write_edf_clip(
     except (ValueError, UnicodeEncodeError) as exc:
         raise RecordError(f"EDF clip not written: {exc}") from exc
     return EdfClipResult(written, n_keep, dropped, duration, tuple(ranges), tuple(notes))
+
+
+def annotations_for_clip(log: SetupLog, start: datetime, duration_s: float) -> list[tuple[float, float | None, str]]:
+    """The log's findings for a clip that starts at ``start`` (wall clock) and lasts
+    ``duration_s``: each electrode's level at the clip start (when not good), every level
+    change, finding and stream event inside the clip. Onsets in s from the clip start."""
+    if start.tzinfo is None:
+        start = start.astimezone()
+    out: list[tuple[float, float | None, str]] = []
+    level_at_start: dict[str, tuple[str, tuple[str, ...]]] = {}
+    for change in log.timeline:
+        onset = (change.at - start).total_seconds()
+        if onset <= 0:
+            level_at_start[change.electrode] = (change.to_level, change.reasons)
+        elif onset <= duration_s:
+            text = f"{change.electrode}: {change.from_level} -> {change.to_level}"
+            if change.reasons:
+                text += " (" + "; ".join(change.reasons) + ")"
+            out.append((round(onset, 3), None, text))
+    for name, (level, reasons) in level_at_start.items():
+        if level != "good":
+            text = f"{name}: {level} at clip start" + (" (" + "; ".join(reasons) + ")" if reasons else "")
+            out.append((0.0, None, text))
+    for f in log.findings:
+        onset = (f.at - start).total_seconds()
+        if 0 <= onset <= duration_s:
+            out.append((round(onset, 3), None, f"{f.kind} {'-'.join(f.electrodes)} {f.change} ({f.level}): {f.reason}"))
+    for e in log.events:
+        onset = (e.at - start).total_seconds()
+        if e.kind.startswith("stream_") and 0 <= onset <= duration_s:
+            out.append((round(onset, 3), None, f"{e.kind.replace('_', ' ')}: {e.detail}"))
+    out.sort(key=lambda a: a[0])
+    return out

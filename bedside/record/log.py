@@ -39,6 +39,9 @@ from bedside.stream.types import ChannelInfo, StreamIdentity
 FORMAT_NAME = "bedside-setup-log"
 FORMAT_VERSION = 1
 
+#: A day-long session with a flapping electrode stays far below this (common practice).
+MAX_LOG_BYTES = 200 * 10**6
+
 LevelKey = Literal["good", "check", "bad", "no_data"]
 FromLevelKey = Literal["none", "good", "check", "bad", "no_data"]
 LEVEL_KEYS: tuple[str, ...] = ("good", "check", "bad", "no_data")
@@ -398,6 +401,12 @@ def load_log(path: Path | str) -> SetupLog:
     """Read a setup log file; RecordError names the file and what is wrong with it."""
     path = Path(path)
     try:
+        size = path.stat().st_size
+        if size > MAX_LOG_BYTES:
+            raise RecordError(
+                f"{path}: {size / 1e6:.0f} MB is far larger than any setup log "
+                f"(limit {MAX_LOG_BYTES // 10**6} MB); not a setup log?"
+            )
         raw = path.read_bytes()
     except FileNotFoundError as exc:
         raise RecordError(f"{path}: no such log file") from exc

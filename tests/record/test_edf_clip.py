@@ -119,3 +119,33 @@ def test_bad_input_is_a_clear_error(tmp_path: Path, kwargs: dict, match: str) ->
     with pytest.raises(InputError, match=match):
         write_edf_clip(tmp_path / "x.edf", args["samples_uv"], args["rate_hz"], args["labels"], subject_id=subject)
     assert not (tmp_path / "x.edf").exists()
+
+
+def test_the_logs_findings_become_clip_annotations(tmp_path: Path) -> None:
+    """Worked by hand: a clip from t0+10 s lasting 10 s holds Fp1's change at +13 s and
+    the bridge at +15 s; Cz was bad before the clip (noted at 0 s); O1's change at +25 s
+    is after the clip."""
+    from bedside.record.edf_clip import annotations_for_clip
+    from bedside.record.log import FindingChange, LevelChange, SetupLog, stamp
+
+    t0 = 1_796_000_000.0
+    log = SetupLog(
+        timeline=[
+            LevelChange(stamp(t0), "Cz", "none", "bad", ("flat",)),
+            LevelChange(stamp(t0), "Fp1", "none", "check"),
+            LevelChange(stamp(t0 + 13), "Fp1", "check", "good"),
+            LevelChange(stamp(t0 + 25), "O1", "none", "bad"),
+        ],
+        findings=[FindingChange(stamp(t0 + 15), "appeared", "bridge", ("C3", "Cz"), "bad", "ED 2")],
+    )
+    notes = annotations_for_clip(log, stamp(t0 + 10), 10.0)
+    assert notes == [
+        (0.0, None, "Cz: bad at clip start (flat)"),
+        (0.0, None, "Fp1: check at clip start"),
+        (3.0, None, "Fp1: check -> good"),
+        (5.0, None, "bridge C3-Cz appeared (bad): ED 2"),
+    ]
+    x = _signals(256.0, 10.0, 2)
+    write_edf_clip(tmp_path / "c.edf", x, 256.0, ["Cz", "Fp1"], notes)
+    *_, (onsets, _, texts), _ = _read(tmp_path / "c.edf")
+    assert list(texts) == [n[2] for n in notes] and np.allclose(onsets, [n[0] for n in notes])

@@ -224,3 +224,15 @@ def test_cached_dump_equals_a_fresh_dump(tmp_path: Path, clock: FakeClock) -> No
         assert dump_yaml(shallow_copy(log), cache) == dump_yaml(log)
     log.timeline = log.timeline[:5]  # not append-only any more: rendered afresh
     assert dump_yaml(log, cache) == dump_yaml(log)
+
+
+def test_an_absurdly_large_file_is_refused_before_reading(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from bedside.record import log as log_module
+
+    monkeypatch.setattr(log_module, "MAX_LOG_BYTES", 1000)
+    big = tmp_path / "big.yaml"
+    big.write_bytes(b"#" * 2000)
+    with pytest.raises(RecordError, match="far larger than any setup log"):
+        load_log(big)
