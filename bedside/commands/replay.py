@@ -9,6 +9,7 @@ error (exit 2).
 from __future__ import annotations
 
 import argparse
+import textwrap
 
 from bedside.commands._common import positive_float
 
@@ -20,8 +21,9 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p = sub.add_parser(
         NAME,
         help="publish a recorded EDF/EDF+ or XDF file on LSL",
-        description="Play a recording (EDF/EDF+ .edf/.bdf, or XDF .xdf/.xdfz) as an LSL "
-        "stream, with the file's channel labels and units, in real time or faster.",
+        description=textwrap.fill(
+            "Play a recording (EDF/EDF+ .edf/.bdf, or XDF .xdf/.xdfz) as an LSL "
+        "stream, with the file's channel labels and units, in real time or faster.", width=78),
         epilog="examples:\n  bedside replay night.edf\n  bedside replay session.xdf --speed 4 --loop",
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )

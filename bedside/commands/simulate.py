@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+import textwrap
 
 from bedside.commands._common import positive_float
 from bedside.errors import BedsideError
@@ -22,10 +23,11 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p = sub.add_parser(
         NAME,
         help="publish a simulated EEG stream with scripted electrode faults (no amplifier needed)",
-        description="Publish a demo scenario on LSL: realistic synthetic EEG (background, "
+        description=textwrap.fill(
+            "Publish a demo scenario on LSL: realistic synthetic EEG (background, "
         "alpha, blinks, ECG, muscle) with faults scripted on a timeline (loose electrode, "
         "flat channel, drift, gel bridge, pops, clipping, muscle, bad reference or ground). "
-        "The ward and patients in the scenarios are invented.",
+        "The ward and patients in the scenarios are invented.", width=78),
         epilog="examples:\n  bedside simulate                 # the ward demo\n"
         "  bedside simulate --list\n  bedside simulate clean --name bed2 --speed 2\n"
         "  bedside simulate my_scenario.yaml --duration 60",

@@ -364,7 +364,7 @@ class SignalGenerator:
                 + fault.param("offset_uv")
             )
         elif kind == "pop":
-            out[mask] = self._pops(fault, tau)
+            out[mask] = self._pops(i, fault, tau)
         elif kind == "muscle":
             col = self._index[fault.electrodes[0]]
             out[mask] = fault.param("amplitude_uv") * muscle_noise[mask, col]
@@ -386,7 +386,7 @@ class SignalGenerator:
             s = s + amp * np.sin(2 * np.pi * h * f0 * t + h * self._mains_phase)
         return s
 
-    def _pops(self, fault: Fault, tau: np.ndarray) -> np.ndarray:
+    def _pops(self, i: int, fault: Fault, tau: np.ndarray) -> np.ndarray:
         """Steps that decay exponentially, one every interval_s from the fault's start."""
         interval, decay = fault.param("interval_s"), fault.param("tau_s")
         amp = fault.param("amplitude_uv")
@@ -395,7 +395,7 @@ class SignalGenerator:
             return out
         first = max(0, math.floor((tau.min() - 12 * decay) / interval) - 1)
         last = math.floor(tau.max() / interval) + 1
-        seed = self.scenario.seed + 7 * self.scenario.faults.index(fault)
+        seed = self.scenario.seed + 7 * i  # each pop fault its own sequence
         for k in range(first, last + 1):
             kk = np.array([k])
             onset = (k + 0.25 + 0.2 * float(_u01(seed, _TAG_POP_JITTER, kk)[0])) * interval

@@ -5,7 +5,7 @@
 ``replay_publisher(recording, ...)`` returns a
 :class:`~bedside.sim.publish.StreamPublisher` that plays it.
 
-* EDF/EDF+ is read with edfio (a main dependency). EDF+ annotation signals are not
+* EDF/EDF+ (and 24-bit BDF) is read with edfio (a main dependency). EDF+ annotation signals are not
   samples and are left out. LSL carries one rate per stream: when signals differ in
   rate, the largest group of same-rate signals is played and the others are named in
   a warning (never dropped silently).
@@ -106,11 +106,13 @@ def load_recording(path: str | Path) -> Recording:
 def _load_edf(path: Path) -> Recording:
     import edfio
 
+    bdf = path.suffix.lower() == ".bdf"
     try:
-        edf = edfio.read_edf(path)
+        edf = edfio.read_bdf(path) if bdf else edfio.read_edf(path)
         signals = list(edf.signals)
     except (ValueError, OSError, UnicodeDecodeError, IndexError, KeyError) as exc:
-        raise ScenarioError(f"{path}: not a readable EDF/EDF+ file ({exc})") from exc
+        kind = "BDF" if bdf else "EDF/EDF+"
+        raise ScenarioError(f"{path}: not a readable {kind} file ({exc})") from exc
     if not signals:
         raise ScenarioError(f"{path}: the file has no signals to replay")
     rates = [float(s.sampling_frequency) for s in signals]
@@ -126,7 +128,7 @@ def _load_edf(path: Path) -> Recording:
     channels = tuple(
         ChannelSpec(s.label.strip(), xdf_unit(s.physical_dimension), _type_of(s.label)) for s in keep
     )
-    return Recording(path, "EDF", best, channels, data, skipped)
+    return Recording(path, "BDF" if bdf else "EDF", best, channels, data, skipped)
 
 
 def _load_xdf(path: Path) -> Recording:

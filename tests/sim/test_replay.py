@@ -198,3 +198,16 @@ def test_xdf_without_pyxdf_says_how_to_get_it(tmp_path: Path, monkeypatch: pytes
     monkeypatch.setitem(sys.modules, "pyxdf", None)  # as if the optional extra were absent
     with pytest.raises(ScenarioError, match=r"replaying XDF needs pyxdf.*pip install 'bedside\[xdf\]'"):
         load_recording(path)
+
+
+def test_bdf_is_read_too(tmp_path: Path) -> None:
+    """A 24-bit BDF written by edfio reads back with pyEDFlib's values (pyEDFlib reads BDF)."""
+    edfio = pytest.importorskip("edfio")
+    x = np.sin(2 * np.pi * 10 * np.arange(512) / 256) * 80
+    path = tmp_path / "short.bdf"
+    edfio.Bdf([edfio.BdfSignal(x, 256, label="Oz", physical_dimension="uV", physical_range=(-200, 200))]).write(path)
+    rec = load_recording(path)
+    with pyedflib.EdfReader(str(path)) as ref:
+        expected = ref.readSignal(0)
+    assert rec.format == "BDF" and rec.channels[0].label == "Oz"
+    np.testing.assert_allclose(rec.data[:, 0], expected, rtol=0, atol=1e-9)
