@@ -139,3 +139,21 @@ def test_irregular_spacing_averages_to_the_rate() -> None:
     h = tr.snapshot(t[-1] - 1000.0)
     assert h.effective_rate_hz == pytest.approx(250.0, rel=0.03)
     assert h.gaps == 0
+
+
+def test_three_hours_with_a_gap_every_minute_stays_bounded() -> None:
+    """Accelerated long run (issue 8): 3 h at 250 Hz in 1 s chunks, a 0.2 s gap each
+    minute. 180 gaps of round(0.204 × 250) − 1 = 50 samples each (hand arithmetic);
+    the memory held (chunks for the rate, notes) stays bounded."""
+    tr = HealthTracker(RATE, S, started_wall=0.0)
+    clk = Clock(tr)
+    for _minute in range(180):
+        clk.run(60.0, chunk_s=1.0)
+        clk.ts += 0.2
+        assert len(tr._chunks) <= 3
+    clk.run(1.0, chunk_s=1.0)
+    h = tr.snapshot(clk.wall)
+    assert h.gaps == 180
+    assert h.dropped_samples == 180 * 50
+    assert len(h.notes) == S.max_notes
+    assert h.effective_rate_hz == pytest.approx(RATE, rel=1e-6)
