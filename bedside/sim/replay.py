@@ -107,8 +107,9 @@ def _load_edf(path: Path) -> Recording:
     import edfio
 
     bdf = path.suffix.lower() == ".bdf"
+    signals: list[Any]
     try:
-        edf = edfio.read_bdf(path) if bdf else edfio.read_edf(path)
+        edf: Any = edfio.read_bdf(path) if bdf else edfio.read_edf(path)
         signals = list(edf.signals)
     except (ValueError, OSError, UnicodeDecodeError, IndexError, KeyError) as exc:
         kind = "BDF" if bdf else "EDF/EDF+"
