@@ -193,6 +193,7 @@ class SessionRecorder:
 
     def _start(self, initials: str, subject: str, digest: str, config_files: tuple[str, ...]) -> None:
         self._acquire_file_lock(strict=True)
+        self._remove_stale_temp_files()
         try:
             self._load_or_create(initials, subject, digest, config_files)
         except BaseException:
@@ -294,6 +295,16 @@ class SessionRecorder:
         with self._lock:
             self._log.events.append(Event(self._now(), "corrupt_log_kept_aside", str(target)))
             self._touch()
+
+    def _remove_stale_temp_files(self) -> None:
+        """Temp files of this log left by a process killed mid-save (only while we hold
+        the lock, so no other writer of this log can own them)."""
+        if self._lock_fd is None:
+            return
+        for stale in self._path.parent.glob(f".{self._path.name}.*.tmp"):
+            with contextlib.suppress(OSError):
+                stale.unlink()
+                log.info("removed %s, left by a session killed while saving", stale)
 
     # -- the file lock -------------------------------------------------------------
 

@@ -302,3 +302,13 @@ def test_mains_frequency_found_by_the_engine_is_kept(tmp_path: Path, clock: Fake
         rec.on_frame(dataclasses.replace(frame, extras={"mains_hz": np.float64(60.0)}))
         rec.on_frame(dataclasses.replace(frame, extras={"mains_hz": 57.0}))  # not a mains value
     assert load_log(tmp_path / "m.yaml").power_line_hz == 60.0
+
+
+def test_temp_files_left_by_a_killed_save_are_cleaned_up(tmp_path: Path, clock: FakeClock) -> None:
+    path = tmp_path / "k.yaml"
+    stale = tmp_path / ".k.yaml.abc123.tmp"
+    stale.write_text("half a log")
+    other = tmp_path / ".other.yaml.abc123.tmp"  # another log's: not ours to remove
+    other.write_text("x")
+    SessionRecorder.open(path, subject_id="W3-017", clock=clock).close()
+    assert not stale.exists() and other.exists()
