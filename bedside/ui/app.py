@@ -105,6 +105,8 @@ class BedsideApp(App[int]):
         self._connected_at: float | None = None
         self._shown_stalled = False
         self._leaving = False
+        self._pending_pick: tuple[list[StreamIdentity], str] | None = None
+        self._monitor_error_shown = False
 
     # --- start and stop -------------------------------------------------------------
     def on_mount(self) -> None:
@@ -168,6 +170,8 @@ class BedsideApp(App[int]):
         if self.screen.name != name:
             self.switch_screen(name)
         self.sub_title = VIEW_TITLE[name]
+        if name == "watch":
+            self._open_picker()
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):
@@ -215,8 +219,22 @@ class BedsideApp(App[int]):
             self.status_note = "connecting…"
             self._connect(message.pinned, None)
         elif message.ambiguous and message.streams:
-            self.push_screen(StreamPicker(message.streams, message.note), self._picked)
+            # The picker opens on Watch; elsewhere it waits (it would take the keys
+            # of someone typing measurements or notes).
+            self._pending_pick = (message.streams, message.note)
+            if self.current_view == "watch":
+                self._open_picker()
+            else:
+                self.status_note = f"{len(message.streams)} streams visible: choose one in Watch (F3)"
+                self.notify(self.status_note, timeout=6)
         self._refresh_watch_status()
+
+    def _open_picker(self) -> None:
+        if self._pending_pick is None or isinstance(self.screen, StreamPicker):
+            return
+        streams, note = self._pending_pick
+        self._pending_pick = None
+        self.push_screen(StreamPicker(streams, note), self._picked)
 
     def _picked(self, identity: StreamIdentity | None) -> None:
         if identity is not None:
@@ -271,6 +289,7 @@ class BedsideApp(App[int]):
         self.connection = message.connection
         self.identity = message.connection.identity
         self.points = message.points
+        self._monitor_error_shown = False
         self._connected_at = time.monotonic()
         self.status_note = ""
         if self.recorder is not None:
@@ -313,6 +332,12 @@ class BedsideApp(App[int]):
         return frame is not None and frame.live and self.stalled_for() is None
 
     def _watchdog(self) -> None:
+        conn = self.connection
+        error = getattr(conn.monitor, "error", None) if conn is not None else None
+        if error is not None and not self._monitor_error_shown:
+            self._monitor_error_shown = True
+            self.status_note = f"checks stopped: {error}"
+            self.notify(self.status_note, severity="error", timeout=10)
         stalled = self.stalled_for()
         if stalled is not None and not self._shown_stalled and self._watch_ready():
             self._shown_stalled = True

@@ -180,3 +180,22 @@ async def test_256_channels_map_and_paged_table() -> None:
         await pilot.press("pagedown", "pagedown")
         assert table.cursor_row > 20
         assert isinstance(table, DataTable)
+
+
+async def test_picker_waits_for_watch_when_typing_elsewhere() -> None:
+    """Streams found while the technologist types measurements: no pop-up until Watch."""
+    app = make_app(AppConfig(start_view="measure"),
+                   services=si.services(streams=[si.identity("bed-a"), si.identity("bed-b")]))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: "choose one in Watch" in app.status_note)
+        assert not isinstance(app.screen, StreamPicker)
+        await pilot.press("f3")
+        assert await _until(pilot, lambda: isinstance(app.screen, StreamPicker))
+
+
+async def test_selected_electrode_reason_in_full() -> None:
+    app = make_app(AppConfig(discover=False), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(80, 24)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None)
+        app.views["watch"].query_one(ChannelTable).select_name("T7")
+        assert await _until(pilot, lambda: "▶ T7 ✖ fix: mains 21 dB over EEG band — re-seat" in si.screen_text(app))

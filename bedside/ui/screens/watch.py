@@ -111,9 +111,16 @@ class WatchScreen(Screen[None]):
         if self.selected is None and table.names:
             self.selected = table.selected_name()
         self.query_one(HeadMap).show(levels, live=live, bridges=bridges if live else (), selected=self.selected)
-        self.query_one(Findings).show(frame.findings, live)
+        self._show_findings()
         self.query_one(ProgressLine).show(progress)
         self.refresh_status()
+
+    def _show_findings(self) -> None:
+        frame = self._frame
+        if frame is None:
+            return
+        chosen = next((ch for ch in frame.channels if ch.name == self.selected), None)
+        self.query_one(Findings).show(frame.findings, self._live, chosen)
 
     def show_no_data(self) -> None:
         """Frames stopped: grey everything out now (the app's watchdog calls this)."""
@@ -128,6 +135,8 @@ class WatchScreen(Screen[None]):
             return
         self.selected = str(event.row_key.value)
         self.query_one(HeadMap).select(self.selected)
+        if self._ready:
+            self._show_findings()
         self._request_trace()
 
     def _request_trace(self) -> None:

@@ -5,13 +5,28 @@ from __future__ import annotations
 from rich.text import Text
 from textual.widgets import Static
 
-from bedside.checks.types import Finding
+from bedside.checks.types import ChannelQuality, Finding, Level
 from bedside.ui.progress import Progress
-from bedside.ui.widgets.channel_table import format_seconds
+from bedside.ui.widgets.channel_table import LEVEL_WORD, format_seconds
 
 
-def findings_text(findings: tuple[Finding, ...], live: bool) -> Text:
-    out = Text(no_wrap=False)
+def selected_text(selected: ChannelQuality | None, live: bool) -> Text:
+    """The selected electrode's verdict in full (the table's 'why' column may be cut)."""
+    out = Text()
+    if selected is None or not live or selected.level is None or selected.level is Level.GOOD:
+        return out
+    lv = selected.level
+    out.append(f"▶ {selected.name} {lv.symbol} {LEVEL_WORD[lv.key]}: ", style=f"bold {lv.colour}")
+    out.append("; ".join(selected.reasons) or "no reason given")
+    return out
+
+
+def findings_text(
+    findings: tuple[Finding, ...], live: bool, selected: ChannelQuality | None = None
+) -> Text:
+    out = selected_text(selected, live)
+    if out.plain:
+        out.append("\n")
     if not live:
         out.append("? no live data — findings hidden", style="grey50")
         return out
@@ -52,8 +67,10 @@ def progress_text(progress: Progress | None, *, show_names: int = 8) -> Text:
 
 
 class Findings(Static):
-    def show(self, findings: tuple[Finding, ...], live: bool) -> None:
-        self.update(findings_text(findings, live))
+    def show(
+        self, findings: tuple[Finding, ...], live: bool, selected: ChannelQuality | None = None
+    ) -> None:
+        self.update(findings_text(findings, live, selected))
 
 
 class ProgressLine(Static):

@@ -95,11 +95,15 @@ class TraceView(Horizontal):
 
     def on_trace_ready(self, message: TraceReady) -> None:
         req = message.request
-        mode = DERIVATION_LABEL[req.mode]
-        if req.mode == "bipolar":
-            mode = f"{req.name}−{req.partner_name}" if req.partner_name else "bipolar (no neighbour: as recorded)"
         title = Text()
-        title.append(f"{req.name} ", style="bold")
+        if req.mode == "bipolar" and req.partner_name:
+            title.append(f"{req.name}−{req.partner_name} ", style="bold")
+            mode = "bipolar"
+        else:
+            title.append(f"{req.name} ", style="bold")
+            mode = DERIVATION_LABEL[req.mode]
+            if req.mode == "bipolar":
+                mode = "bipolar: no neighbour, as recorded"
         title.append(f"{mode}, last {req.trace_s:g} s, ±{message.half_uv:.0f} µV", style="grey62")
         body = Text(no_wrap=True, overflow="crop")
         body.append_text(title)
