@@ -248,21 +248,23 @@ class Engine:
         names = list(metrics)
         table = np.vstack([metrics[k] for k in names]).T.tolist() if names else [[]] * self.n_channels
         check_names = list(per_check)
+        keys = np.array([lv.key for lv in _LEVELS], dtype=object)
         check_table = (
-            np.vstack([per_check[k] for k in check_names]).T.tolist() if check_names else [[]] * self.n_channels
+            keys[np.vstack([per_check[k] for k in check_names]).T].tolist()
+            if check_names else [[]] * self.n_channels
         )
-        chans = []
-        for i, name in enumerate(self.names):
-            chans.append(
-                ChannelQuality(
-                    name,
-                    _LEVELS[shown[i]],
-                    dict(zip(names, table[i], strict=True)),
-                    tuple(shown_reasons[i]),
-                    bool(self.scalp[i]),
-                    {k: _LEVELS[v].key for k, v in zip(check_names, check_table[i], strict=True)},
-                )
+        shown_levels = [_LEVELS[v] for v in shown.tolist()]
+        chans = [
+            ChannelQuality(
+                name,
+                shown_levels[i],
+                dict(zip(names, table[i], strict=True)),
+                tuple(shown_reasons[i]),
+                bool(self.scalp[i]),
+                dict(zip(check_names, check_table[i], strict=True)),
             )
+            for i, name in enumerate(self.names)
+        ]
         return QualityFrame(
             self._last_time, time.time(), tuple(chans), findings, health, self.settings.window_s,
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},

@@ -15,6 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from scipy import fft as sp_fft
 from scipy.signal import get_window
 
 
@@ -68,12 +69,21 @@ def welch_psd(x_uv: np.ndarray, rate_hz: float, segment: int) -> tuple[np.ndarra
 
 
 def _periodogram(seg: np.ndarray, w: np.ndarray, scale: float) -> np.ndarray:
-    seg = seg - seg.mean(axis=0)
-    spec = np.fft.rfft(seg * w[:, None], axis=0)
-    p = (spec.real**2 + spec.imag**2) * scale
-    p[1:] *= 2.0
-    if seg.shape[0] % 2 == 0:
-        p[-1] /= 2.0
+    """One-sided density periodogram of seg (n, C) → (F, C), as scipy.signal.welch scales it."""
+    return _periodogram_cm(np.ascontiguousarray(seg.T), w, scale).T
+
+
+def _periodogram_cm(seg_cm: np.ndarray, w: np.ndarray, scale: float) -> np.ndarray:
+    """Channel-major version: seg_cm (C, n) → (C, F). FFT along the contiguous axis (faster)."""
+    seg_cm = seg_cm - seg_cm.mean(axis=1, keepdims=True)
+    seg_cm *= w
+    spec = sp_fft.rfft(seg_cm, axis=1)
+    p = spec.real**2
+    p += spec.imag**2
+    p *= 2.0 * scale
+    p[:, 0] /= 2.0
+    if seg_cm.shape[1] % 2 == 0:
+        p[:, -1] /= 2.0
     return p
 
 
@@ -90,15 +100,18 @@ class SpectralAccumulator:
         self.scale = periodogram_scale(self.window, rate_hz)
         self.freqs_hz = np.fft.rfftfreq(segment, 1.0 / rate_hz)
         f = len(self.freqs_hz)
-        self._buf = np.zeros((segment, n_channels))  # the last `segment` samples, oldest first
-        self._have = 0
-        self._since_hop = 0
-        self._ring = np.zeros((n_segments, f, n_channels))
+        # Channel-major halves of the current segment: the previous hop and the one filling.
+        self._prev = np.zeros((n_channels, self.hop))
+        self._cur = np.zeros((n_channels, self.hop))
+        self._fill = 0
+        self._have_prev = False
+        self._ring = np.zeros((n_segments, n_channels, f))
         self._ring_start = np.zeros(n_segments, dtype=np.int64)
-        self._sum = np.zeros((f, n_channels))
+        self._sum = np.zeros((n_channels, f))
         self.count = 0
         self._since_refresh = 0
         self._sample = 0  # samples seen
+        self._cached: dict[tuple[str, int, int], Spectrum] = {}
 
     def add(self, x: np.ndarray) -> bool:
         """Take new samples (n, C) µV (finite); returns True when a segment completed."""
@@ -106,24 +119,24 @@ class SpectralAccumulator:
         pos = 0
         n = x.shape[0]
         while pos < n:
-            take = min(self.hop - self._since_hop, n - pos)
-            part = x[pos : pos + take]
-            self._buf[:-take] = self._buf[take:]
-            self._buf[-take:] = part
-            self._have = min(self.segment, self._have + take)
-            self._since_hop += take
+            take = min(self.hop - self._fill, n - pos)
+            self._cur[:, self._fill : self._fill + take] = x[pos : pos + take].T
+            self._fill += take
             self._sample += take
             pos += take
-            if self._since_hop == self.hop:
-                self._since_hop = 0
-                if self._have == self.segment:
+            if self._fill == self.hop:
+                if self._have_prev:
                     self._complete()
                     done = True
+                self._prev, self._cur = self._cur, self._prev
+                self._have_prev = True
+                self._fill = 0
         return done
 
     def _complete(self) -> None:
         slot = self.count % self.n_segments
-        p = _periodogram(self._buf, self.window, self.scale)
+        seg = np.concatenate((self._prev, self._cur), axis=1)
+        p = _periodogram_cm(seg, self.window, self.scale)
         if self.count >= self.n_segments:
             self._sum -= self._ring[slot]
         self._ring[slot] = p
@@ -131,10 +144,15 @@ class SpectralAccumulator:
         self._sum += p
         self.count += 1
         self._since_refresh += 1
+        self._cached.clear()
         if self._since_refresh >= self.refresh_segments:
-            k = min(self.count, self.n_segments)
-            self._sum = self._ring[:k].sum(axis=0) if self.count <= self.n_segments else self._ring.sum(axis=0)
-            self._since_refresh = 0
+            self.refresh()
+
+    def refresh(self) -> None:
+        """Re-sum the running PSD exactly from the ring."""
+        k = min(self.count, self.n_segments)
+        self._sum = self._ring[:k].sum(axis=0)
+        self._since_refresh = 0
 
     def recent(self, k: int) -> Spectrum | None:
         """Mean of the newest ``k`` periodograms (for checks that must react fast)."""
@@ -144,20 +162,24 @@ class SpectralAccumulator:
         k = max(1, min(k, have))
         if k >= have:
             return self.spectrum()
-        slots = [(self.count - 1 - j) % self.n_segments for j in range(k)]
-        psd = self._ring[slots[0]].copy()
-        for sl in slots[1:]:
-            psd += self._ring[sl]
-        starts = self._ring_start[slots]
-        first = int(starts.min())
-        span = (first, int(starts.max()) + self.segment - first)
-        return Spectrum(self.freqs_hz, psd / k, k, span)
+        key = ("recent", k, self.count)
+        if key not in self._cached:
+            slots = [(self.count - 1 - j) % self.n_segments for j in range(k)]
+            psd = self._ring[slots].sum(axis=0) / k
+            self._cached[key] = self._make(psd, self._ring_start[slots], k)
+        return self._cached[key]
 
     def spectrum(self) -> Spectrum | None:
+        """Mean over every periodogram in the window (Welch's estimate)."""
         k = min(self.count, self.n_segments)
         if k == 0:
             return None
-        starts = self._ring_start[:k] if self.count <= self.n_segments else self._ring_start
+        key = ("all", k, self.count)
+        if key not in self._cached:
+            self._cached[key] = self._make(np.maximum(self._sum / k, 0.0), self._ring_start[:k], k)
+        return self._cached[key]
+
+    def _make(self, psd_cf: np.ndarray, starts: np.ndarray, k: int) -> Spectrum:
         first = int(starts.min())
         span = (first, int(starts.max()) + self.segment - first)
-        return Spectrum(self.freqs_hz, np.maximum(self._sum / k, 0.0), k, span)
+        return Spectrum(self.freqs_hz, psd_cf.T, k, span)

@@ -98,15 +98,18 @@ class BlockStats:
 
     def add_block(self, x: np.ndarray, start_sample: int) -> np.ndarray:
         """Summarise one block (block, C) µV; returns the block with NaN/Inf replaced by 0."""
-        finite = np.isfinite(x)
-        bad = ~finite
-        nonfinite = bad.sum(axis=0)
-        if nonfinite.any():
+        total = x.sum(axis=0)
+        if np.isfinite(total).all():
+            nonfinite = np.zeros(x.shape[1])
+        else:  # NaN/±Inf somewhere (or an overflowing sum): count and zero them
+            finite = np.isfinite(x)
+            nonfinite = (~finite).sum(axis=0).astype(float)
             x = np.where(finite, x, 0.0)
+            total = x.sum(axis=0)
         slot = self.count % self.n_blocks
         if self.count >= self.n_blocks:
             self.m2_sum -= self.m2[slot]
-        mean = x.mean(axis=0)
+        mean = total / x.shape[0]
         xc = x - mean
         m2 = xc.T @ xc
         self.m2[slot] = m2
@@ -118,15 +121,19 @@ class BlockStats:
         np.subtract(x[1:], x[:-1], out=steps[1:])
         np.abs(steps, out=steps)
         still = steps == 0.0
-        at_edge = (x == mx) | (x == mn)
-        clipped = (still & at_edge).sum(axis=0)
+        n_still = still.sum(axis=0)
+        if n_still.any():
+            at_edge = (x == mx) | (x == mn)
+            clipped = (still & at_edge).sum(axis=0)
+        else:
+            clipped = np.zeros(x.shape[1], dtype=np.int64)
         if self.rail_uv is not None:
             clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
         self.means[slot] = mean
         self.maxs[slot], self.mins[slot] = mx, mn
         self.step_max[slot] = steps.max(axis=0)
         self.step_ss[slot] = np.einsum("ij,ij->j", steps, steps)
-        self.zero_diffs[slot] = still.sum(axis=0)
+        self.zero_diffs[slot] = n_still
         self.clipped[slot] = clipped
         self.nonfinite[slot] = nonfinite
         self.starts[slot] = start_sample

@@ -14,8 +14,8 @@ from pathlib import Path
 
 import pytest
 
-from bench.latency import KIND_CHECKS, latency_scenario_path, measure
-from bench.simrun import run_scenario
+from bedside.checks.benchmark import KIND_CHECKS, fault_latency, latency_scenario_path
+from bedside.checks.simrun import run_scenario
 
 DETECT_WITHIN_S = {
     "line_noise": 2.0, "flat": 2.0, "pop": 2.0, "clipping": 2.0, "muscle": 2.0,
@@ -26,7 +26,7 @@ CLEAR_WITHIN_S = 5.25
 
 @pytest.fixture(scope="module")
 def latency_rows(tmp_path_factory: pytest.TempPathFactory) -> list[dict[str, object]]:
-    return measure(latency_scenario_path(Path(tmp_path_factory.mktemp("sim"))))
+    return fault_latency(latency_scenario_path(Path(tmp_path_factory.mktemp("sim"))))
 
 
 def test_every_fault_kind_is_scripted(latency_rows: list[dict[str, object]]) -> None:

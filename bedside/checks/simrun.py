@@ -1,6 +1,6 @@
 """Run the quality engine over a simulated scenario faster than real time.
 
-Used by the latency and memory benchmarks (and importable by tests):
+Used by the latency and memory benchmarks and by the tests:
 ``run_scenario(name, seconds)`` feeds the simulator's samples, (n_samples,
 n_channels) µV, to the engine in update-sized chunks and records every frame's
 levels on the engine's sample clock.

@@ -1,0 +1,296 @@
+"""Benchmarks of the quality engine (``bedside bench``): speed, fault latency, memory.
+
+Speed, per channel count × rate, one update (update_hz) of new samples:
+
+* engine_ms — the real engine: push the new samples, evaluate every check;
+* floor_ms — the least any implementation must do: one FFT over just the new
+  samples and one covariance update (Xᵀ·X) with just the new samples;
+* naive_ms — a full-window recompute with general SciPy/NumPy calls, as a quick
+  script would do it: scipy.signal.welch over the window and a full correlation
+  matrix (numpy.corrcoef);
+* reference_ms — the same spectral and bridging measures with MNE-Python on the
+  window (mne.time_frequency.psd_array_welch and
+  mne.preprocessing.compute_bridged_electrodes), when MNE is installed;
+* ratios engine/floor, naive/engine, reference/engine, and core_share = engine
+  time per second of data at update_hz (a fraction of one core).
+
+Times are the median of several updates after the window has filled, measured
+with one BLAS thread so they are a fraction of *one* core.
+Latency: a built-in invented scenario with one fault of each kind (see
+LATENCY_SCENARIO); memory: RSS growth over a simulated hour, faster than real time.
+"""
+
+from __future__ import annotations
+
+import gc
+import os
+import time
+import warnings
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from bedside.checks.engine import Engine
+from bedside.checks.settings import QualitySettings, load_quality
+from bedside.checks.simrun import run_scenario, scenario_channels
+from bedside.stream.types import ChannelInfo
+
+CHANNELS = (21, 64, 128, 256)
+RATES_HZ = (256.0, 512.0, 1024.0, 2048.0)
+
+#: Targets of the performance issue (printed beside the figures; not enforced by tests).
+TARGETS = {
+    "core_share_256ch_2048hz": 0.05,
+    "engine_over_floor": 3.0,
+    "naive_over_engine_256ch": 10.0,
+    "latency_fast_s": 2.0,  # line noise, flat, pops
+    "latency_slow_s": 5.0,  # drift, bridges
+    "clear_s": 5.0,
+    "rss_growth_mb": 20.0,
+}
+
+
+def _grid_neighbours(names: list[str]) -> list[tuple[str, str]]:
+    """A cap-like neighbour graph: channels on a square grid, 8-connected (~4 pairs each)."""
+    n = len(names)
+    side = int(np.ceil(np.sqrt(n)))
+    pairs = []
+    for i in range(n):
+        r, c = divmod(i, side)
+        for dr, dc in ((0, 1), (1, -1), (1, 0), (1, 1)):
+            rr, cc = r + dr, c + dc
+            j = rr * side + cc
+            if 0 <= cc < side and j < n:
+                pairs.append((names[i], names[j]))
+    return pairs
+
+
+def _median_ms(samples: list[float]) -> float:
+    return float(np.median(samples) * 1e3)
+
+
+def speed_row(
+    n_channels: int,
+    rate_hz: float,
+    settings: QualitySettings | None = None,
+    updates: int = 24,
+    naive_reps: int = 5,
+    reference: bool = True,
+    seed: int = 0,
+) -> dict[str, Any]:
+    """One row of the speed table (see module docstring)."""
+    settings = settings or load_quality()
+    rng = np.random.default_rng(seed)
+    names = [f"E{i + 1}" for i in range(n_channels)]
+    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
+    engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
+    step = int(round(rate_hz / settings.update_hz))
+    warm = int(np.ceil((settings.window_s + 1.0) * settings.update_hz))
+    data = rng.normal(0.0, 10.0, size=((warm + updates) * step, n_channels))
+    for k in range(warm):
+        engine.push(data[k * step : (k + 1) * step])
+        engine.evaluate()
+    eng_t = []
+    for k in range(warm, warm + updates):
+        part = data[k * step : (k + 1) * step]
+        t0 = time.perf_counter()
+        engine.push(part)
+        engine.evaluate()
+        eng_t.append(time.perf_counter() - t0)
+    # Floor: the new samples' FFT and covariance update, nothing else.
+    floor_t = []
+    for k in range(warm, warm + updates):
+        part = data[k * step : (k + 1) * step]
+        t0 = time.perf_counter()
+        np.fft.rfft(part, axis=0)
+        part.T @ part
+        floor_t.append(time.perf_counter() - t0)
+    # Naive: full-window recompute with general calls.
+    from scipy.signal import welch
+
+    n_win = int(round(settings.window_s * rate_hz))
+    seg = int(round(settings.segment_s * rate_hz))
+    window = data[-n_win:]
+    naive_t = []
+    for _ in range(naive_reps):
+        t0 = time.perf_counter()
+        welch(window, fs=rate_hz, nperseg=seg, noverlap=seg // 2, axis=0)
+        np.corrcoef(window, rowvar=False)
+        naive_t.append(time.perf_counter() - t0)
+    row: dict[str, Any] = {
+        "channels": n_channels,
+        "rate_hz": rate_hz,
+        "engine_ms": _median_ms(eng_t),
+        "floor_ms": _median_ms(floor_t),
+        "naive_ms": _median_ms(naive_t),
+        "reference_ms": None,
+    }
+    if reference:
+        row["reference_ms"] = _reference_ms(window, rate_hz, seg)
+    e = row["engine_ms"]
+    row["engine/floor"] = e / row["floor_ms"] if row["floor_ms"] > 0 else None
+    row["naive/engine"] = row["naive_ms"] / e if e > 0 else None
+    row["reference/engine"] = (row["reference_ms"] / e) if (row["reference_ms"] and e > 0) else None
+    row["core_share"] = e / 1e3 * settings.update_hz
+    return row
+
+
+def _reference_ms(window: np.ndarray, rate_hz: float, seg: int) -> float | None:
+    try:
+        import mne
+        from mne.preprocessing import compute_bridged_electrodes
+        from mne.time_frequency import psd_array_welch
+    except ImportError:
+        return None
+    x = window.T * 1e-6  # MNE: (C, n) in volts
+    info = mne.create_info([f"E{i}" for i in range(x.shape[0])], rate_hz, "eeg")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # short windows: MNE warns about its filter length
+        t0 = time.perf_counter()
+        psd_array_welch(x, rate_hz, n_fft=seg, n_per_seg=seg, n_overlap=seg // 2, verbose="error")
+        raw = mne.io.RawArray(x, info, verbose="error")
+        compute_bridged_electrodes(raw, verbose="error")
+        return (time.perf_counter() - t0) * 1e3
+
+
+def speed_table(quick: bool = False, settings: QualitySettings | None = None) -> list[dict[str, Any]]:
+    rows = []
+    for c in CHANNELS:
+        for r in RATES_HZ:
+            rows.append(
+                speed_row(c, r, settings, updates=8 if quick else 40, naive_reps=2 if quick else 5,
+                          reference=not quick or (c, r) in ((21, 256.0), (256, 2048.0)))
+            )
+    return rows
+
+
+# ---------------------------------------------------------------- latency
+LATENCY_SCENARIO = """\
+# Invented scenario for latency measurement: one fault of each kind, apart in time.
+ward: Test Bay (invented)
+bed: "Bench"
+patient: "Nobody N-00 (pseudonym, invented)"
+note: "Invented data for timing the checks."
+stream_name: bedside-latency
+channels: [Fp1, Fp2, F7, F3, Fz, F4, F8, T7, C3, Cz, C4, T8, P7, P3, Pz, P4, P8, O1, O2, ECG]
+rate_hz: 256
+duration_s: 200
+loop: false
+seed: 4242
+mains_hz: 50
+faults:
+  - {electrode: T7, kind: line_noise, start_s: 20, end_s: 50}
+  - {electrode: P8, kind: flat, start_s: 30, end_s: 60}
+  - {electrode: F8, kind: drift, start_s: 40, end_s: 90}
+  - {electrode: [C3, Cz], kind: bridge, start_s: 60, end_s: 100}
+  - {electrode: C4, kind: pop, start_s: 70, end_s: 110, interval_s: 3}
+  - {electrode: T8, kind: clipping, start_s: 100, end_s: 130}
+  - {electrode: F7, kind: muscle, start_s: 115, end_s: 140}
+  - {electrode: REF, kind: reference, start_s: 150, end_s: 180}
+"""
+
+#: Which per-check verdict shows each simulated fault kind.
+KIND_CHECKS = {
+    "line_noise": ("line_noise",),
+    "flat": ("flat",),
+    "drift": ("drift", "amplitude"),
+    "bridge": ("bridging",),
+    "pop": ("pops",),
+    "clipping": ("clipping", "flat"),
+    "muscle": ("muscle",),
+}
+
+
+def latency_scenario_path(folder: Path) -> Path:
+    p = Path(folder) / "latency.yaml"
+    p.write_text(LATENCY_SCENARIO, encoding="utf-8")
+    return p
+
+
+def fault_latency(scenario: str | Path, seconds: float | None = None) -> list[dict[str, Any]]:
+    """One row per scripted fault: kind, electrodes, start_s, end_s, detect_s, clear_s.
+
+    detect_s: onset → first non-good verdict on its electrode(s) (REF/GND: the
+    reference/ground finding); clear_s: end → good again. None: never.
+    """
+    from bedside.sim.scenario import load_scenario
+
+    sc = load_scenario(scenario)
+    total = seconds if seconds is not None else float(sc.duration_s)
+    tl = run_scenario(str(scenario), total)
+    t = tl.times_s
+    rows = []
+    for fault in sc.faults:
+        names = fault.electrodes
+        if names[0] in ("REF", "GND"):
+            hit = np.array([any(k in ("reference", "ground") for k, _e, _l in fs) for fs in tl.findings])
+        else:
+            hit = np.zeros(len(t), dtype=bool)
+            for n in names:
+                hit |= np.array([lv in ("check", "bad") for lv in tl.levels[n]])
+        end = fault.end_s
+        on = (t >= fault.start_s) & ((t < end) if end is not None else True)
+        detect = float(t[on & hit][0] - fault.start_s) if (on & hit).any() else None
+        clear = None
+        if end is not None:
+            after = (t >= end) & ~hit
+            clear = float(t[after][0] - end) if after.any() else None
+        rows.append({"kind": fault.kind, "electrodes": list(names), "start_s": fault.start_s,
+                     "end_s": end, "detect_s": detect, "clear_s": clear})
+    return rows
+
+
+# ----------------------------------------------------------------- memory
+def rss_mb() -> float:
+    """Resident set size of this process, MB (Linux /proc; psutil elsewhere)."""
+    try:
+        with open("/proc/self/statm", encoding="ascii") as fh:
+            pages = int(fh.read().split()[1])
+        return pages * os.sysconf("SC_PAGE_SIZE") / 2**20
+    except (OSError, ValueError, IndexError):
+        import psutil
+
+        return float(psutil.Process().memory_info().rss / 2**20)
+
+
+def memory_run(simulated_s: float = 3600.0, scenario: str = "ward_demo",
+               settings: QualitySettings | None = None) -> dict[str, Any]:
+    """RSS after the first simulated minute and at the end of ``simulated_s`` of the
+    scenario, run as fast as the engine goes (the simulator's samples are made once
+    per scenario loop and replayed, so the engine is what is measured)."""
+    from bedside.sim.generator import SignalGenerator
+    from bedside.sim.scenario import load_scenario
+
+    settings = settings or load_quality()
+    sc = load_scenario(scenario)
+    rate = float(sc.rate_hz)
+    engine = Engine(settings, scenario_channels(sc), rate)
+    loop_n = int(round(float(sc.duration_s) * rate))
+    data = SignalGenerator(sc).generate(0, loop_n)
+    step = int(round(rate / settings.update_hz))
+    total = int(round(simulated_s * rate))
+    t_start = time.perf_counter()
+    rss_first = None
+    pos = 0
+    samples: list[tuple[float, float]] = []
+    while pos < total:
+        a = pos % loop_n
+        part = data[a : min(a + step, loop_n)]
+        engine.push(part, (pos + np.arange(len(part))) / rate)
+        engine.evaluate()
+        pos += len(part)
+        if rss_first is None and pos >= 60 * rate:
+            gc.collect()
+            rss_first = rss_mb()
+        if pos % int(600 * rate) < len(part):
+            samples.append((pos / rate, rss_mb()))
+    gc.collect()
+    rss_end = rss_mb()
+    wall = time.perf_counter() - t_start
+    return {
+        "scenario": scenario, "channels": len(sc.channels), "rate_hz": rate,
+        "simulated_s": simulated_s, "wall_s": wall, "speedup": simulated_s / wall if wall else None,
+        "rss_after_60s_mb": rss_first, "rss_end_mb": rss_end,
+        "rss_growth_mb": rss_end - (rss_first or rss_end), "rss_trace": samples,
+    }
