@@ -159,6 +159,11 @@ class LslSource:
             self.close()
             raise translate(exc, f"opening {describe(identity)}") from exc
         self._identity = identity_of(full)
+        try:  # the stream found now may not be the one listed earlier
+            rate_note = check_rate(self._identity, s)
+        except StreamFormatError:
+            self.close()
+            raise
         labels_, types_, units_ = read_channel_metadata(full)
         self._channels, notes = build_channels(
             self._identity.n_channels, labels_, types_, units_, rules
