@@ -32,7 +32,7 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         metavar="S",
         type=positive_float("--wait"),
         default=2.0,
-        help="seconds to look for streams (default 2)",
+        help="seconds to look for streams (default 2; never less than 1, as shorter looks miss streams)",
     )
     p.add_argument("--all", action="store_true", help="list streams of every type, not only EEG")
     p.set_defaults(func=run)

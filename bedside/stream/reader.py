@@ -150,6 +150,8 @@ class LslSource:
         if self._dtype is None:
             raise StreamFormatError(f"{describe(identity)} has a sample format bedside cannot read")
         try:
+            # Clock sync only: dejittering or monotonising would smooth over the very
+            # gaps and clock jumps that health reports.
             self._inlet = mod.StreamInlet(
                 resolved, recover=True, processing_flags=mod.proc_clocksync
             )
