@@ -111,7 +111,7 @@ def test_gap_in_the_data_is_counted(feeders) -> None:  # type: ignore[no-untyped
         assert h.dropped_samples == 100
 
 
-def test_clock_jump_back(feeders) -> None:  # type: ignore[no-untyped-def]
+def test_clock_jumps_back_and_forward(feeders) -> None:  # type: ignore[no-untyped-def]
     f = feeders(n_channels=2, rate_hz=250)
     with open_source(f) as src:
         drain(src, 0.4, f)
@@ -122,6 +122,12 @@ def test_clock_jump_back(feeders) -> None:  # type: ignore[no-untyped-def]
         h = src.health()
         assert h.clock_jumps == 1 and h.gaps == 0 and h.dropped_samples == 0
         assert any("went back 30" in n for n in h.notes)
+        f.t += 60.0  # and now a minute into the future of this computer's clock
+        f.push(25)
+        drain(src, 0.3)
+        h = src.health()
+        assert h.clock_jumps == 2 and h.gaps == 0 and h.dropped_samples == 0
+        assert any("ahead of this computer's clock" in n for n in h.notes)
 
 
 def test_nominal_rate_disagreeing_with_timestamps(feeders) -> None:  # type: ignore[no-untyped-def]
