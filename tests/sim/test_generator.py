@@ -301,6 +301,13 @@ def test_reference_fault_is_common_to_all_channels() -> None:
     assert np.sqrt(np.mean(avg**2, axis=0)).max() < 2
     before = gen.generate(0, int(18 * fs))[:, scalp]
     assert np.sqrt(np.mean(sosfiltfilt(sos, before, axis=0) ** 2, axis=0)).max() < 2
+    # Reference-free: the electrical distance between neighbours is the same with and
+    # without the reference fault (FIELD_NOTES: "ED stays normal").
+    names = [scn.channels[i] for i in scalp]
+    a, b = names.index("C3"), names.index("Cz")
+    ed_fault = np.var(w[:, a] - w[:, b])
+    ed_before = np.var(before[:, a] - before[:, b])
+    assert 0.7 < ed_fault / ed_before < 1.4
 
 
 def test_poor_ground_mains_everywhere_scaled_by_mismatch() -> None:
