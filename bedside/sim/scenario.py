@@ -302,6 +302,15 @@ class Scenario:
         )
 
 
+    def affected_channels(self, t_s: float) -> frozenset[str]:
+        """Channel labels whose signal a fault changes at ``t_s``: a fault's own
+        electrodes, and every scalp channel while the reference or ground is at fault."""
+        out = set(self.faulty_electrodes(t_s))
+        if any(n in (REFERENCE, GROUND) for f in self.active_faults(t_s) for n in f.electrodes):
+            out.update(self.scalp_channels)
+        return frozenset(out)
+
+
 def channel_type(label: str) -> str:
     """EEG unless the label says ECG/EKG, EOG, EMG (common practice for labels)."""
     up = label.upper()

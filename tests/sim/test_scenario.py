@@ -121,3 +121,19 @@ def test_channel_types_from_labels() -> None:
     s = load_scenario("ward_demo")
     types = dict(zip(s.channels, s.channel_types, strict=True))
     assert types["ECG"] == "ECG" and types["EOG"] == "EOG" and types["Cz"] == "EEG"
+
+
+def test_reference_and_ground_faults_affect_every_scalp_channel() -> None:
+    s = load_scenario("bad_reference")
+    assert s.faulty_electrodes(30.0) == frozenset()  # no electrode of its own
+    assert s.affected_channels(30.0) == frozenset(s.scalp_channels)
+    assert s.affected_channels(130.0) == frozenset(s.scalp_channels)  # the poor ground
+    assert s.affected_channels(95.0) == frozenset()
+    assert "ECG" not in s.affected_channels(30.0)
+
+
+def test_non_looping_scenario_ends() -> None:
+    import dataclasses
+
+    s = dataclasses.replace(load_scenario("ward_demo"), loop=False)
+    assert s.active_faults(20.0) and not s.active_faults(20.0 + s.duration_s)
