@@ -115,15 +115,18 @@ class BlockStats:
         self.m2[slot] = m2
         self.m2_sum += m2
         mx, mn = x.max(axis=0), x.min(axis=0)
-        prev = self._last if self._have_last else x[0]
+        # Steps between consecutive samples; the very first sample of a stream has none.
+        k0 = 0 if self._have_last else 1
         steps = np.empty_like(x)
-        steps[0] = x[0] - prev
+        steps[0] = x[0] - self._last if self._have_last else 0.0
         np.subtract(x[1:], x[:-1], out=steps[1:])
         np.abs(steps, out=steps)
-        still = steps == 0.0
+        st = steps[k0:]
+        still = st == 0.0
         n_still = still.sum(axis=0)
         if n_still.any():
-            at_edge = (x == mx) | (x == mn)
+            xs = x[k0:]
+            at_edge = (xs == mx) | (xs == mn)
             clipped = (still & at_edge).sum(axis=0)
         else:
             clipped = np.zeros(x.shape[1], dtype=np.int64)
