@@ -764,3 +764,18 @@ def _close_open_recorders() -> None:
             rec.close()
         except LogSaveError as exc:
             log.error("%s", exc)
+
+
+def optional_recorder(
+    path: Path | str | None,
+    *,
+    technologist: str = "",
+    subject_id: str = "",
+    config_paths: Iterable[Path | str] = (),
+) -> contextlib.AbstractContextManager[SessionRecorder | None]:
+    """For commands with an optional ``--log PATH``: a SessionRecorder (closed, i.e. saved,
+    when the with-block ends) or ``None`` when no path was given. Validation errors
+    (initials, ID, an unreadable or foreign log) raise at once."""
+    if path is None or str(path) == "":
+        return contextlib.nullcontext(None)
+    return SessionRecorder.open(path, technologist=technologist, subject_id=subject_id, config_paths=config_paths)

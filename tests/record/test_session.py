@@ -312,3 +312,17 @@ def test_temp_files_left_by_a_killed_save_are_cleaned_up(tmp_path: Path, clock: 
     other.write_text("x")
     SessionRecorder.open(path, subject_id="W3-017", clock=clock).close()
     assert not stale.exists() and other.exists()
+
+
+def test_optional_recorder_for_commands(tmp_path: Path) -> None:
+    from bedside.record.session import optional_recorder
+
+    with optional_recorder(None) as none:
+        assert none is None
+    path = tmp_path / "o.yaml"
+    with optional_recorder(path, technologist="ab", subject_id="W3-017") as rec:
+        assert rec is not None
+        rec.add_note("headless check")
+    assert load_log(path).technologist == "AB" and load_log(path).ended_at is not None
+    with pytest.raises(InputError, match="no digit"):
+        optional_recorder(tmp_path / "p.yaml", subject_id="Smith")
