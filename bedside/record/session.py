@@ -36,6 +36,7 @@ import fcntl
 import logging
 import math
 import os
+import re
 import tempfile
 import threading
 import time
@@ -59,6 +60,8 @@ from bedside.record.ids import (
     validate_subject_id,
 )
 from bedside.record.log import (
+    FORMAT_NAME,
+    FORMAT_VERSION,
     ChannelFinal,
     DumpCache,
     Event,
@@ -215,6 +218,7 @@ class SessionRecorder:
                     f"{self._path}: exists but cannot be read ({exc.strerror}); it is not "
                     "overwritten — fix its permissions or choose another log file"
                 ) from exc
+            _refuse_foreign_file(self._path, raw)
             try:
                 existing = parse_yaml(raw.decode("utf-8"), source=str(self._path))
             except (RecordError, UnicodeDecodeError) as exc:
@@ -727,6 +731,27 @@ class SessionRecorder:
         self, exc_type: type[BaseException] | None, exc: BaseException | None, tb: TracebackType | None
     ) -> None:
         self.close()
+
+
+def _refuse_foreign_file(path: Path, raw: bytes) -> None:
+    """A file that is not one of our logs (a config given by mistake, a newer bedside's
+    log) is never moved or overwritten: RecordError. Only a damaged *setup log* — it
+    names our format near the top, or is empty or all NUL bytes (what a failing disk
+    leaves) — is kept aside and replaced by a new log."""
+    head = raw[:2048]
+    if not raw.strip(b"\x00 \t\r\n"):
+        return
+    if FORMAT_NAME.encode() not in head:
+        raise RecordError(
+            f"{path} exists and is not a bedside setup log; it is left untouched — "
+            "choose another file for the log"
+        )
+    match = re.search(rb"format_version:\s*(\d+)", head)
+    if match and int(match.group(1)) > FORMAT_VERSION:
+        raise RecordError(
+            f"{path} was written by a newer bedside (log format {int(match.group(1))}, this "
+            f"one reads {FORMAT_VERSION}); it is left untouched — update bedside or choose another file"
+        )
 
 
 def _mains_hz(value: Any) -> float | None:

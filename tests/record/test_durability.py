@@ -60,14 +60,15 @@ class _Child:
 def test_sigkill_mid_session_loses_at_most_the_last_autosave(tmp_path: Path) -> None:
     path = tmp_path / "W3-017.yaml"
     child = _Child(path)
-    child.wait_fed(3.5)
+    child.wait_fed(4.0)
     killed_at = time.time()
     child.proc.send_signal(signal.SIGKILL)
     assert child.finish() == -signal.SIGKILL
     assert child.fed, "the child fed frames"
     saved = load_log(path)  # parses: the atomic rename never leaves half a file
     on_disk = len(saved.timeline)
-    fed_before = [n for n, t in child.fed if t <= killed_at - AUTOSAVE_MAX_S - 0.5]
+    # 1 s of slack for a busy machine (2 shared cores).
+    fed_before = [n for n, t in child.fed if t <= killed_at - AUTOSAVE_MAX_S - 1.0]
     assert fed_before, "the child ran long enough for an autosave"
     # Every frame flips Cz, so frame n is timeline entry n. Everything fed more than one
     # autosave interval (plus scheduling slack) before the kill is on disk.

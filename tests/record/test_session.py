@@ -52,7 +52,8 @@ def test_autosave_writes_changes_within_the_interval(tmp_path: Path) -> None:
     try:
         rec.on_frame(make_frame(time.time(), {"Cz": Level.BAD}))
         assert _wait_for(lambda: len(load_log(path).timeline) == 1, 2.0)
-        assert rec.status.unsaved_changes is False
+        # The status catches up just after the rename.
+        assert _wait_for(lambda: rec.status.unsaved_changes is False, 1.0)
     finally:
         rec.close()
 
@@ -138,7 +139,8 @@ def test_corrupt_log_that_cannot_be_moved_is_never_overwritten(
     tmp_path: Path, clock: FakeClock, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     path = tmp_path / "c.yaml"
-    path.write_bytes(b"\x00\x01 not yaml at all")
+    damaged = b"format: bedside-setup-log\nformat_version: 1\ntimeline: [{\x00\x01"
+    path.write_bytes(damaged)
     real_rename = os.rename
 
     def refuse(src: object, dst: object) -> None:
@@ -149,12 +151,12 @@ def test_corrupt_log_that_cannot_be_moved_is_never_overwritten(
     try:
         assert rec.status.error is not None and "not overwritten" in rec.status.error
         time.sleep(0.3)  # several autosave ticks
-        assert path.read_bytes() == b"\x00\x01 not yaml at all"
+        assert path.read_bytes() == damaged
         monkeypatch.setattr(os, "rename", real_rename)
         assert _wait_for(lambda: rec.status.error is None)
     finally:
         rec.close()
-    assert list(tmp_path.glob("c.yaml.corrupt-*"))[0].read_bytes() == b"\x00\x01 not yaml at all"
+    assert list(tmp_path.glob("c.yaml.corrupt-*"))[0].read_bytes() == damaged
     assert load_log(path).subject_id == "W3-017"
 
 
@@ -326,3 +328,26 @@ def test_optional_recorder_for_commands(tmp_path: Path) -> None:
     assert load_log(path).technologist == "AB" and load_log(path).ended_at is not None
     with pytest.raises(InputError, match="no digit"):
         optional_recorder(tmp_path / "p.yaml", subject_id="Smith")
+
+
+def test_a_file_that_is_not_a_log_is_never_moved_or_overwritten(tmp_path: Path, clock: FakeClock) -> None:
+    """E.g. --log pointed at a config file by mistake, or a log from a newer bedside."""
+    config = tmp_path / "quality.yaml"
+    config.write_text("quality:\n  window_s: 4.0\n", encoding="utf-8")
+    with pytest.raises(RecordError, match="is not a bedside setup log; it is left untouched"):
+        SessionRecorder.open(config, subject_id="W3-017", clock=clock)
+    newer = tmp_path / "newer.yaml"
+    newer.write_text("format: bedside-setup-log\nformat_version: 7\n", encoding="utf-8")
+    with pytest.raises(RecordError, match="newer bedside"):
+        SessionRecorder.open(newer, subject_id="W3-017", clock=clock)
+    assert config.read_text(encoding="utf-8").startswith("quality:")
+    assert sorted(p.name for p in tmp_path.iterdir() if not p.name.startswith("xdg")) == ["newer.yaml", "quality.yaml"]
+
+
+def test_an_all_zero_file_counts_as_a_damaged_log(tmp_path: Path, clock: FakeClock) -> None:
+    """What a failing disk or an interrupted copy can leave: kept aside, new log started."""
+    path = tmp_path / "z.yaml"
+    path.write_bytes(b"\x00" * 4096)
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        assert rec.status.notice is not None and "kept as" in rec.status.notice
+    assert list(tmp_path.glob("z.yaml.corrupt-*"))[0].read_bytes() == b"\x00" * 4096
