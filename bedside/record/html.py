@@ -195,8 +195,8 @@ def head_map_svg(log_: SetupLog) -> str:
         f'<path d="M-14,{-radius + 1:.0f} L0,{-radius - 16:.0f} L14,{-radius + 1:.0f}" fill="none" stroke="#444" stroke-width="2"/>',
         f'<ellipse cx="{-radius - 7:.0f}" cy="0" rx="7" ry="20" fill="none" stroke="#444" stroke-width="2"/>',
         f'<ellipse cx="{radius + 7:.0f}" cy="0" rx="7" ry="20" fill="none" stroke="#444" stroke-width="2"/>',
-        f'<text x="{-radius - 7:.0f}" y="34" font-size="10" text-anchor="middle">L</text>',
-        f'<text x="{radius + 7:.0f}" y="34" font-size="10" text-anchor="middle">R</text>',
+        f'<text x="{-radius - 7:.0f}" y="-26" font-size="10" text-anchor="middle">L</text>',
+        f'<text x="{radius + 7:.0f}" y="-26" font-size="10" text-anchor="middle">R</text>',
     ]
 
     def electrode(name: str, x: float, y: float, note: str) -> str:
