@@ -33,12 +33,11 @@ def flank_bands(f0: float, bw: float) -> list[tuple[float, float]]:
 
 
 def band_power(spec: Spectrum, bands: list[tuple[float, float]]) -> np.ndarray:
-    """Summed power over the bins in any of ``bands``, µV², per channel (C,)."""
-    f = spec.freqs_hz
-    mask = np.zeros(f.shape, dtype=bool)
+    """Summed power over ``bands`` (assumed not to overlap), µV², per channel (C,)."""
+    total = np.zeros(spec.psd_uv2_per_hz.shape[1])
     for lo, hi in bands:
-        mask |= (f >= lo - 1e-9) & (f <= hi + 1e-9)
-    return np.asarray(spec.psd_uv2_per_hz[mask].sum(axis=0) * spec.df_hz)
+        total += spec.band_power(lo, hi)
+    return total
 
 
 def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict[str, np.ndarray]:
@@ -54,12 +53,8 @@ def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict
     p_fund = band_power(spec, bands[:1])
     p_eeg = band_power(spec, [settings.eeg_band_hz])
     flanks = flank_bands(f0, ln.bandwidth_hz)
-    f = spec.freqs_hz
-    n_fund = max(int(((f >= bands[0][0] - 1e-9) & (f <= bands[0][1] + 1e-9)).sum()), 1)
-    fmask = np.zeros(f.shape, dtype=bool)
-    for lo, hi in flanks:
-        fmask |= (f >= lo - 1e-9) & (f <= hi + 1e-9)
-    n_flank = max(int(fmask.sum()), 1)
+    n_fund = max(spec.bins_in(*bands[0]), 1)
+    n_flank = max(sum(spec.bins_in(lo, hi) for lo, hi in flanks), 1)
     p_flank = band_power(spec, flanks)
     return {
         "line_noise_db": 10 * np.log10((p_mains + _TINY) / (p_eeg + _TINY)),

@@ -9,6 +9,8 @@ both ways, the pair is flagged as likely swapped or mislabelled. The rule is our
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from bedside.checks.line_noise import band_power
@@ -31,9 +33,14 @@ def region(name: str) -> str:
     return ""
 
 
+@lru_cache(maxsize=64)
+def regions_of(names: tuple[str, ...]) -> tuple[str, ...]:
+    return tuple(region(n) for n in names)
+
+
 def evaluate(spec: Spectrum, names: tuple[str, ...], valid: np.ndarray, settings: QualitySettings) -> tuple[Finding, ...]:
     ps = settings.placement
-    regions = [region(n) for n in names]
+    regions = regions_of(names)
     front = [i for i, r in enumerate(regions) if r == "frontal" and valid[i]]
     back = [i for i, r in enumerate(regions) if r == "posterior" and valid[i]]
     if not front or not back:

@@ -33,6 +33,33 @@ class Spectrum:
     def df_hz(self) -> float:
         return float(self.freqs_hz[1] - self.freqs_hz[0])
 
+    def _cumulative(self, upto: int) -> np.ndarray:
+        """(C, upto+1) running sums of the PSD over the first ``upto`` bins (grown on
+        demand: the checks only look below a few hundred Hz), so any band costs O(C)."""
+        cache = self.__dict__.get("_cum")
+        if cache is None or cache.shape[1] - 1 < upto:
+            f = self.psd_uv2_per_hz.shape[0]
+            upto = min(f, max(upto, 2 * (cache.shape[1] - 1) if cache is not None else upto))
+            psd_cf = self.psd_uv2_per_hz.T
+            cache = np.zeros((psd_cf.shape[0], upto + 1))
+            np.cumsum(psd_cf[:, :upto], axis=1, out=cache[:, 1:])
+            self.__dict__["_cum"] = cache  # frozen dataclass: cache beside the fields
+        return cache
+
+    def band_power(self, lo_hz: float, hi_hz: float) -> np.ndarray:
+        """Power in µV² over the bins whose centre lies in [lo_hz, hi_hz], per channel (C,)."""
+        f = self.freqs_hz
+        i0 = int(np.searchsorted(f, lo_hz - 1e-9, side="left"))
+        i1 = int(np.searchsorted(f, hi_hz + 1e-9, side="right"))
+        if i1 <= i0:
+            return np.zeros(self.psd_uv2_per_hz.shape[1])
+        c = self._cumulative(max(i1, 256))
+        return (c[:, i1] - c[:, i0]) * self.df_hz
+
+    def bins_in(self, lo_hz: float, hi_hz: float) -> int:
+        f = self.freqs_hz
+        return int(np.searchsorted(f, hi_hz + 1e-9, side="right") - np.searchsorted(f, lo_hz - 1e-9, side="left"))
+
 
 def band_matrix(freqs_hz: np.ndarray, bands: list[tuple[float, float]]) -> np.ndarray:
     """(n_bands, F) weights so that ``M @ psd`` gives each band's power in µV² (bins × df).
@@ -100,14 +127,18 @@ class SpectralAccumulator:
         self.scale = periodogram_scale(self.window, rate_hz)
         self.freqs_hz = np.fft.rfftfreq(segment, 1.0 / rate_hz)
         f = len(self.freqs_hz)
-        # Channel-major halves of the current segment: the previous hop and the one filling.
-        self._prev = np.zeros((n_channels, self.hop))
-        self._cur = np.zeros((n_channels, self.hop))
+        # Channel-major segment buffer: [previous hop | the hop being filled]. All work
+        # arrays are allocated once (fresh large arrays cost page faults every time).
+        self._seg = np.zeros((n_channels, self.segment))
+        self._work = np.zeros((n_channels, self.segment))
+        self._spec_c = np.zeros((n_channels, f), dtype=np.complex128)
+        self._tmp = np.zeros((n_channels, f))
         self._fill = 0
         self._have_prev = False
         self._ring = np.zeros((n_segments, n_channels, f))
         self._ring_start = np.zeros(n_segments, dtype=np.int64)
         self._sum = np.zeros((n_channels, f))
+        self._recent = np.zeros((n_channels, f))
         self.count = 0
         self._since_refresh = 0
         self._sample = 0  # samples seen
@@ -118,28 +149,38 @@ class SpectralAccumulator:
         done = False
         pos = 0
         n = x.shape[0]
+        hop = self.hop
         while pos < n:
-            take = min(self.hop - self._fill, n - pos)
-            self._cur[:, self._fill : self._fill + take] = x[pos : pos + take].T
+            take = min(hop - self._fill, n - pos)
+            self._seg[:, hop + self._fill : hop + self._fill + take] = x[pos : pos + take].T
             self._fill += take
             self._sample += take
             pos += take
-            if self._fill == self.hop:
+            if self._fill == hop:
                 if self._have_prev:
                     self._complete()
                     done = True
-                self._prev, self._cur = self._cur, self._prev
+                self._seg[:, :hop] = self._seg[:, hop:]
                 self._have_prev = True
                 self._fill = 0
         return done
 
     def _complete(self) -> None:
         slot = self.count % self.n_segments
-        seg = np.concatenate((self._prev, self._cur), axis=1)
-        p = _periodogram_cm(seg, self.window, self.scale)
         if self.count >= self.n_segments:
             self._sum -= self._ring[slot]
-        self._ring[slot] = p
+        p = self._ring[slot]
+        seg, work = self._seg, self._work
+        np.subtract(seg, seg.mean(axis=1, keepdims=True), out=work)  # constant detrend
+        work *= self.window
+        spec = np.fft.rfft(work, axis=1, out=self._spec_c)
+        np.square(spec.real, out=p)
+        np.square(spec.imag, out=self._tmp)
+        p += self._tmp
+        p *= 2.0 * self.scale
+        p[:, 0] /= 2.0
+        if self.segment % 2 == 0:
+            p[:, -1] /= 2.0
         self._ring_start[slot] = self._sample - self.segment
         self._sum += p
         self.count += 1
@@ -165,7 +206,11 @@ class SpectralAccumulator:
         key = ("recent", k, self.count)
         if key not in self._cached:
             slots = [(self.count - 1 - j) % self.n_segments for j in range(k)]
-            psd = self._ring[slots].sum(axis=0) / k
+            psd = self._recent
+            np.copyto(psd, self._ring[slots[0]])
+            for sl in slots[1:]:
+                psd += self._ring[sl]
+            psd /= k
             self._cached[key] = self._make(psd, self._ring_start[slots], k)
         return self._cached[key]
 

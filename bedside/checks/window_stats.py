@@ -91,6 +91,9 @@ class BlockStats:
         self._last = np.zeros(c)  # last sample of the previous block (for steps)
         self._have_last = False
         self._since_refresh = 0
+        # Work arrays, allocated once (fresh large arrays cost page faults every block).
+        self._xc = np.zeros((block, c))
+        self._steps = np.zeros((block, c))
 
     @property
     def filled(self) -> int:
@@ -110,14 +113,13 @@ class BlockStats:
         if self.count >= self.n_blocks:
             self.m2_sum -= self.m2[slot]
         mean = total / x.shape[0]
-        xc = x - mean
-        m2 = xc.T @ xc
-        self.m2[slot] = m2
+        xc = np.subtract(x, mean, out=self._xc)
+        m2 = np.matmul(xc.T, xc, out=self.m2[slot])
         self.m2_sum += m2
         mx, mn = x.max(axis=0), x.min(axis=0)
         # Steps between consecutive samples; the very first sample of a stream has none.
         k0 = 0 if self._have_last else 1
-        steps = np.empty_like(x)
+        steps = self._steps
         steps[0] = x[0] - self._last if self._have_last else 0.0
         np.subtract(x[1:], x[:-1], out=steps[1:])
         np.abs(steps, out=steps)
