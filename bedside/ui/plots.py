@@ -52,7 +52,8 @@ def amplitude_spectrum_db(x_uv: np.ndarray, rate_hz: float) -> tuple[np.ndarray,
     n = x.shape[0]
     if n < 8 or rate_hz <= 0:
         return np.zeros(0), np.zeros(0)
-    w = np.hanning(n)
+    # Periodic Hann window (the DFT-even form used for spectra; Harris 1978).
+    w = 0.5 - 0.5 * np.cos(2.0 * np.pi * np.arange(n) / n)
     spec = np.fft.rfft((x - x.mean()) * w)
     amp = 2.0 * np.abs(spec) / max(w.sum(), 1e-12)
     freqs = np.fft.rfftfreq(n, d=1.0 / rate_hz)

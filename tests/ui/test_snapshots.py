@@ -41,11 +41,12 @@ def _watch_app() -> Any:
 
 
 async def _settle(pilot: Any) -> None:
-    for _ in range(40):
+    """Until the first frame is shown and the trace worker has drawn (at most 5 s)."""
+    for _ in range(100):
         await pilot.pause(0.05)
-        if pilot.app.latest_frame is not None:
+        if pilot.app.latest_frame is not None and "as recorded" in si.screen_text(pilot.app):
             break
-    await pilot.pause(0.8)  # the trace worker has drawn
+    await pilot.pause(0.2)
 
 
 @pytest.mark.parametrize("size", [(100, 40), (80, 24)])

@@ -75,17 +75,21 @@ def test_demo_as_a_person_uses_it(tmp_path: Path) -> None:
         assert "bedside-demo-" in shown and "not good yet" in shown
         tmux.keys("n")  # the next electrode to fix
         # Measure: three measurements, typed.
+        # Like a person, look before typing: the form is there, each number shows.
         tmux.keys("F2")
-        tmux.text("36")
-        tmux.keys("Tab")
-        tmux.text("35")
-        tmux.keys("Tab")
-        tmux.text("56")
+        tmux.wait_for(lambda s: "Head measurements" in s, 10)
+        for value, field in (("36", "nasion–inion"), ("35", "ear to ear"), ("56", "around")):
+            tmux.text(value)
+            tmux.wait_for(lambda s, v=value, f=field: any(
+                line.strip().startswith(f) and v in line for line in s.splitlines()), 5)
+            if field != "around":
+                tmux.keys("Tab")
         shown = tmux.wait_for(lambda s: "18.0" in s and "midline" in s, 10)
         # Jasper 1958: Cz at 50 % of the 36 cm nasion–inion arc (by hand: 18.0 cm).
         assert any("Cz" in line and "18.0" in line for line in shown.splitlines())
         # Log: a note, typed and added.
         tmux.keys("F4")
+        tmux.wait_for(lambda s: "initials" in s and "impedance" in s, 10)
         tmux.keys("Tab", "Tab")
         tmux.text("T7 re-seated")
         tmux.keys("Enter")
