@@ -247,6 +247,11 @@ class SessionRecorder:
             self._log.events.append(Event(now, "resumed", detail))
             for change in self._log.timeline:
                 self._last_level[change.electrode] = change.to_level
+            for f in self._log.findings:  # the findings still open when the log was last saved
+                if f.change == "cleared":
+                    self._findings.pop((f.kind, f.electrodes), None)
+                else:
+                    self._findings[(f.kind, f.electrodes)] = (f.level, f.reason)
             log.info("setup log %s resumed (%d timeline entries)", self._path, len(self._log.timeline))
         else:
             self._log = SetupLog(

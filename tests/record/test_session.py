@@ -351,3 +351,16 @@ def test_an_all_zero_file_counts_as_a_damaged_log(tmp_path: Path, clock: FakeClo
     with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
         assert rec.status.notice is not None and "kept as" in rec.status.notice
     assert list(tmp_path.glob("z.yaml.corrupt-*"))[0].read_bytes() == b"\x00" * 4096
+
+
+def test_resume_carries_open_findings_over(tmp_path: Path, clock: FakeClock) -> None:
+    from bedside.checks.types import Finding
+
+    path = tmp_path / "f.yaml"
+    bridge = Finding("bridge", ("O1", "Oz"), Level.BAD, "bridged")
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        rec.on_frame(make_frame(clock.now, {"O1": Level.BAD}, findings=[bridge]))
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        rec.on_frame(make_frame(clock.now + 5, {"O1": Level.BAD}, findings=[bridge]))  # still there
+        rec.on_frame(make_frame(clock.now + 9, {"O1": Level.GOOD}))
+    assert [f.change for f in load_log(path).findings] == ["appeared", "cleared"]
