@@ -5,8 +5,8 @@ Metric (ours, after the live form in FIELD_NOTES): line_noise_db =
 frequency and its harmonics below Nyquist, P_eeg the power in the EEG band;
 mains_uv = amplitude of a sine carrying the power at the fundamental,
 √(2·P(f0 ± bw)); mains_peak_db = fundamental over its flanks. Mains detection:
-the strongest of 50/60 Hz over its flanks in the median channel, when it stands
-≥ detect_prominence_db out (approach of zapline-plus, Klug & Kloosterman 2022).
+the stronger of 50/60 Hz over its flanks in the spectrum summed over the channels,
+when it stands ≥ detect_prominence_db out (approach of zapline-plus, Klug & Kloosterman 2022).
 """
 
 from __future__ import annotations
@@ -64,16 +64,16 @@ def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict
 
 
 def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) -> float | None:
-    """50 or 60 when its peak stands out in the median channel of ``mask``; else None."""
+    """50 or 60 when its peak stands out of the spectrum summed over the channels in
+    ``mask`` (power-weighted: one loose electrode is enough to tell); else None."""
     if not mask.any():
         return None
+    summed = Spectrum(spec.freqs_hz, spec.psd_uv2_per_hz[:, mask].sum(axis=1, keepdims=True),
+                      spec.n_segments, spec.span)
     best, best_db = None, settings.line_noise.detect_prominence_db
     for f0 in MAINS_CANDIDATES_HZ:
-        peak = family_metrics(spec, f0, settings)["mains_peak_db"][mask]
-        if not np.isfinite(peak).any():
-            continue
-        db = float(np.nanmedian(peak))
-        if db >= best_db:
+        db = float(family_metrics(summed, f0, settings)["mains_peak_db"][0])
+        if np.isfinite(db) and db >= best_db:
             best, best_db = f0, db
     return best
 

@@ -232,3 +232,61 @@ def test_burst_of_seconds_at_once_equals_steady_feed() -> None:
         [c.metrics["rms_uv"] for c in steady.channels]
     )
 
+
+
+def test_prep_hf_noise_flags_muscle_as_check_only() -> None:
+    """PREP's HF-noise criterion (robust z of the >50 Hz / EEG-band ratio > 5): a channel
+    with broadband high-frequency activity is 'check' (muscle is advisory, never 'bad')."""
+    x = _clean()
+    rng = np.random.default_rng(8)
+    from scipy.signal import butter, sosfilt
+
+    sos = butter(4, [55.0, 110.0], btype="bandpass", fs=RATE, output="sos")
+    x[:, _idx("T7")] += 12.0 * sosfilt(sos, rng.normal(size=len(x))) / 0.3
+    frame = feed(make_engine(), x)[-1]
+    t7 = by_name(frame, "T7")
+    assert t7.checks["muscle"] == "check" and t7.level is Level.CHECK
+    assert t7.metrics["muscle_z"] > 5
+    assert "relax" in t7.reasons[0]
+    assert all(c.checks["muscle"] == "good" for c in frame.channels if c.name != "T7")
+
+
+def test_swapped_frontal_and_occipital_leads_are_flagged() -> None:
+    """Blinks are largest at Fp1/Fp2 and alpha at O1/O2 (common practice of EEG reading;
+    alpha 8–13 Hz, IFCN glossary). With the Fp1 and O1 leads swapped the pair is named."""
+    n = int(8 * RATE)
+    t = np.arange(n) / RATE
+    x = _clean(8.0)
+    blink = np.zeros(n)
+    for onset in (1.0, 3.1, 5.2, 7.0):
+        blink += 150.0 * np.exp(-0.5 * ((t - onset) / 0.12) ** 2)
+    alpha = 40.0 * np.sin(2 * np.pi * 10.0 * t)
+    for name in ("Fp1", "Fp2"):
+        x[:, _idx(name)] += blink
+    for name in ("O1", "O2"):
+        x[:, _idx(name)] += alpha
+    normal = feed(make_engine(), x)[-1]
+    assert not [f for f in normal.findings if f.kind == "placement"]
+    swapped = x.copy()
+    swapped[:, [_idx("Fp1"), _idx("O1")]] = x[:, [_idx("O1"), _idx("Fp1")]]
+    frame = feed(make_engine(), swapped)[-1]
+    found = [f for f in frame.findings if f.kind == "placement"]
+    assert len(found) == 1 and set(found[0].electrodes) == {"Fp1", "O1"}
+    assert found[0].level is Level.CHECK and "swapped" in found[0].reason
+
+
+def test_confirm_updates_delays_a_worse_level() -> None:
+    """hold.confirm_updates = 3: a worse level shows only after three updates in a row."""
+    import dataclasses
+
+    base = load_quality()
+    settings = dataclasses.replace(base, hold=dataclasses.replace(base.hold, confirm_updates=3))
+    x = _clean(8.0)
+    onset = int(6 * RATE)
+    x[onset:, _idx("Cz")] = 0.0  # lead falls off at 6 s
+    frames = feed(make_engine(settings=settings), x)
+    raw = ["bad" in by_name(f, "Cz").checks.values() for f in frames]
+    shown = [by_name(f, "Cz").level_key for f in frames]
+    first_raw = raw.index(True)
+    assert shown[first_raw] == "good" and shown[first_raw + 1] == "good"
+    assert shown[first_raw + 2] == "bad"
