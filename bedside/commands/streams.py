@@ -49,12 +49,12 @@ def _table(rows: list[dict[str, object]]) -> str:
 
 
 def run(args: argparse.Namespace) -> int:
-    from bedside.stream.discovery import find_streams
+    from bedside.stream.discovery import visible_streams
     from bedside.stream.lsl import prepare_lsl
 
     prepare_lsl()
-    stream_type = None if args.all else "EEG"
-    found = find_streams(wait_s=args.wait, stream_type=stream_type)
+    everything = visible_streams(wait_s=args.wait)
+    found = [s for s in everything if args.all or s.type.strip().casefold() == "eeg"]
     rows = [s.as_dict() for s in found]
     if args.format == "json":
         print(json.dumps(rows, indent=2, ensure_ascii=False))
@@ -62,7 +62,9 @@ def run(args: argparse.Namespace) -> int:
         print(_table(rows))
     if not rows:
         what = "streams" if args.all else "EEG streams"
-        print(f"no {what} visible (looked for {args.wait:g} s)", file=sys.stderr)
+        others = len(everything) - len(found)
+        hint = f"; {others} stream(s) of other types are visible (--all lists them)" if others else ""
+        print(f"no {what} visible (looked for {max(args.wait, 1.0):g} s){hint}", file=sys.stderr)
     elif len({r["name"] for r in rows}) < len(rows):
         print("note: several streams share a name; pin one with --source-id", file=sys.stderr)
     return 0

@@ -72,3 +72,34 @@ def test_bad_options_are_clear_errors(args: list[str], message: str) -> None:
     proc = run(*args)
     assert proc.returncode == 2
     assert message in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_all_lists_other_types_and_the_hint_points_to_it(tmp_path: Path) -> None:
+    """In a private LSL session only our marker stream exists: EEG listing is empty and
+    says other types are there; --all shows it."""
+    cfg = tmp_path / "lsl_api.cfg"
+    session = unique_name()
+    cfg.write_text(
+        f"[multicast]\nResolveScope = machine\n[lab]\nSessionID = {session}\n[log]\nlevel = -3\n",
+        encoding="utf-8",
+    )
+    name = unique_name()
+    outlet_code = (
+        "import pylsl, time\n"
+        f"o = pylsl.StreamOutlet(pylsl.StreamInfo('{name}', 'Markers', 1, 0, 'string', 'm-{name}'))\n"
+        "print('up', flush=True)\n"
+        "time.sleep(20)\n"
+    )
+    env = dict(os.environ, LSLAPICFG=str(cfg))
+    outlet = subprocess.Popen([sys.executable, "-c", outlet_code], stdout=subprocess.PIPE, text=True, env=env)
+    try:
+        assert outlet.stdout is not None and outlet.stdout.readline().strip() == "up"
+        proc = run("--format", "json", "--wait", "1.5", cfg=cfg)
+        assert proc.returncode == 0 and json.loads(proc.stdout) == []
+        assert "1 stream(s) of other types are visible (--all lists them)" in proc.stderr
+        proc = run("--format", "json", "--wait", "1.5", "--all", cfg=cfg)
+        rows = json.loads(proc.stdout)
+        assert [(r["name"], r["type"], r["nominal_rate_hz"]) for r in rows] == [(name, "Markers", 0.0)]
+    finally:
+        outlet.kill()
+        outlet.communicate()
