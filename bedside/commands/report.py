@@ -113,6 +113,11 @@ def text_summary(log: SetupLog) -> str:
             f"{(f'{imp[name]:g} kΩ' if name in imp else ''):>9}  "
             + ("; ".join(final.reasons) if final is not None else "")
         )
+    all_good = log.time_to_all_good_s()
+    lines.append(
+        "  all scalp electrodes good "
+        + (f"{all_good:.1f} s after the first verdict" if all_good is not None else "never at the same time")
+    )
     lines.append("  final   " + ", ".join(f"{LEVEL_STYLE[k][2]} {counts[k]} {LEVEL_STYLE[k][1]}" for k in counts))
     if rows:
         lines.append(f"  {'channel':<8} {'level':<10} {'to good':>9}  {'impedance':>9}  reasons")

@@ -204,6 +204,23 @@ class SetupLog:
                 result[name] = round((change.at - first_live[name]).total_seconds(), 3)
         return result
 
+    def time_to_all_good_s(self) -> float | None:
+        """Seconds from the first live verdict until every scalp electrode was good at
+        the same time (None if that never happened). Non-scalp channels (ECG …) and
+        electrodes never seen do not count."""
+        scalp = {c.name for c in self.stream.channels if c.is_scalp} if self.stream else None
+        current: dict[str, str] = {}
+        first: datetime | None = None
+        for change in self.timeline:
+            if scalp is not None and change.electrode not in scalp:
+                continue
+            current[change.electrode] = change.to_level
+            if first is None and change.to_level != "no_data":
+                first = change.at
+            if first is not None and all(level == "good" for level in current.values()):
+                return round((change.at - first).total_seconds(), 3)
+        return None
+
     def latest_impedances_kohm(self) -> dict[str, float]:
         """The last impedance entered per electrode (kΩ)."""
         latest: dict[str, float] = {}

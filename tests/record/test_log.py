@@ -98,6 +98,9 @@ def test_time_to_good_by_hand() -> None:
         ]
     )
     assert log.time_to_good_s() == {"O1": 12.5, "O2": None}
+    assert log.time_to_all_good_s() is None  # O2 never good
+    log.timeline.append(LevelChange(stamp(t0 + 41), "O2", "check", "good"))
+    assert log.time_to_all_good_s() == 40.0  # first live verdict at +1 s, both good at +41 s
 
 
 def _write(tmp_path: Path, text: str) -> Path:
