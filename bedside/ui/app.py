@@ -107,6 +107,7 @@ class BedsideApp(App[int]):
         self._leaving = False
         self._pending_pick: tuple[list[StreamIdentity], str] | None = None
         self._monitor_error_shown = False
+        self._others_seen: set[StreamIdentity] = set()
 
     # --- start and stop -------------------------------------------------------------
     def on_mount(self) -> None:
@@ -124,9 +125,18 @@ class BedsideApp(App[int]):
             self.discover(force_picker=False)
 
     def on_unmount(self) -> None:
+        # Leaving by any other way than q/Ctrl-C (e.g. an error): still stop and save.
         if self.connection is not None:
             self.connection.stop()
             self.connection = None
+        gate, self.recorder = self.recorder, None
+        if gate is not None and not self._leaving:
+            for method in ("save_now", "close"):
+                try:
+                    gate.call(method)
+                except BedsideError as exc:
+                    log.error("setup log: %s", exc)
+            gate.stop()
 
     def action_leave(self) -> None:
         if self._leaving:
@@ -153,6 +163,7 @@ class BedsideApp(App[int]):
                 except BedsideError as exc:
                     problems.append(f"setup log: {exc}")
             gate.stop()
+            self.recorder = None
         self.post_message(ShutdownDone(problems))
 
     def on_shutdown_done(self, message: ShutdownDone) -> None:
@@ -338,6 +349,14 @@ class BedsideApp(App[int]):
             self._monitor_error_shown = True
             self.status_note = f"checks stopped: {error}"
             self.notify(self.status_note, severity="error", timeout=10)
+        if conn is not None:
+            others = [o for o in conn.tee.other_candidates() if o not in self._others_seen]
+            if others:
+                self._others_seen.update(others)
+                ids = ", ".join(o.source_id for o in others)
+                self.status_note = (f"another stream named {conn.identity.name!r} appeared (id {ids}); "
+                                    "not trusted unless you pick it: press p")
+                self.notify(self.status_note, severity="warning", timeout=10)
         stalled = self.stalled_for()
         if stalled is not None and not self._shown_stalled and self._watch_ready():
             self._shown_stalled = True

@@ -88,6 +88,11 @@ class MeasureScreen(Screen[None]):
                 yield Static(
                     Text("enter the three measurements", style="grey62"), id="measure-message"
                 )
+                yield Static(
+                    Text("Skin preparation, neonates, collodion, infection control: "
+                         "see the cautions (F1). Follow local policy.", style="grey62 italic"),
+                    id="measure-caution",
+                )
             with Vertical(id="measure-results"):
                 yield HeadMap(marks_mode=True, id="marks-map")
                 yield DataTable(id="marks-table", cursor_type="row", zebra_stripes=True)
