@@ -121,6 +121,9 @@ class LslSource:
         mod = pylsl()
         self._mod = mod
         self._closed = False
+        # Held while liblsl reads into the inlet, so close() from another thread (the UI
+        # stopping) never frees the inlet under a pull in progress.
+        self._io_lock = threading.Lock()
         self._inlet: Any = None
         self._resolver: Any = None
         pred = f"source_id={_quote(identity.source_id)} and name={_quote(identity.name)}"
@@ -210,33 +213,38 @@ class LslSource:
     def pull(self, timeout_s: float = 0.0) -> Chunk | None:
         """New samples since the last pull — (n, n_channels) µV and timestamps (n,) on this
         computer's LSL clock — or None if none arrived within ``timeout_s``."""
-        if self._closed:
-            raise StreamError(f"stream '{self._identity.name}' was closed; open it again")
         timeout_s = max(0.0, float(timeout_s))
-        try:
-            _, ts = self._inlet.pull_chunk(
-                timeout=timeout_s,
-                max_samples=self._settings.max_pull_samples,
-                dest_obj=self._raw,
-                min_samples=1 if timeout_s > 0 else None,
-            )
-        except RuntimeError as exc:
-            raise translate(exc, f"reading stream '{self._identity.name}'") from exc
+        with self._io_lock:
+            if self._closed or self._inlet is None:
+                raise StreamError(f"stream '{self._identity.name}' was closed; open it again")
+            try:
+                _, ts = self._inlet.pull_chunk(
+                    timeout=timeout_s,
+                    max_samples=self._settings.max_pull_samples,
+                    dest_obj=self._raw,
+                    min_samples=1 if timeout_s > 0 else None,
+                )
+            except RuntimeError as exc:
+                raise translate(exc, f"reading stream '{self._identity.name}'") from exc
+            n = len(ts)
+            if n:
+                with np.errstate(over="ignore", invalid="ignore"):
+                    samples_uv = np.multiply(self._raw[:n], self._scale, dtype=np.float64)
         now_wall = time.monotonic()
         self._watch(now_wall)
-        n = len(ts)
         if n == 0:
             return None
         timestamps = np.asarray(ts, dtype=np.float64)
-        with np.errstate(over="ignore", invalid="ignore"):
-            samples_uv = np.multiply(self._raw[:n], self._scale, dtype=np.float64)
         self._tracker.observe(timestamps, local_clock(), now_wall)
         if now_wall - self._last_clock_check >= self._settings.clock_check_s:
             self._last_clock_check = now_wall
-            try:
-                self._tracker.set_clock_offset(self._inlet.time_correction(timeout=0.05))
-            except RuntimeError:
-                log.debug("clock offset not available yet")
+            with self._io_lock:
+                inlet = self._inlet
+                try:
+                    if inlet is not None:
+                        self._tracker.set_clock_offset(inlet.time_correction(timeout=0.05))
+                except RuntimeError:
+                    log.debug("clock offset not available yet")
         return Chunk(samples_uv=samples_uv, timestamps=timestamps)
 
     def health(self) -> StreamHealth:
@@ -251,10 +259,13 @@ class LslSource:
         return tuple(self._others.values())
 
     def close(self) -> None:
+        """Release the inlet (idempotent; safe from another thread: waits for a pull in
+        progress, at most its timeout)."""
         if self._closed:
             return
         self._closed = True
-        inlet, self._inlet = self._inlet, None
+        with self._io_lock:
+            inlet, self._inlet = self._inlet, None
         self._resolver = None
         if inlet is not None:
             try:

@@ -188,3 +188,30 @@ def test_settings_limit_the_pull_size(feeders) -> None:  # type: ignore[no-untyp
         time.sleep(0.2)
         chunk = src.pull(0.5)
         assert chunk is not None and chunk.samples_uv.shape == (64, 2)
+
+
+def test_close_from_another_thread_during_a_pull(feeders) -> None:  # type: ignore[no-untyped-def]
+    """The UI may stop while the reading thread waits in pull(): no crash, a clear error after."""
+    import threading
+
+    from bedside.errors import StreamError
+
+    f = feeders(n_channels=2)
+    src = open_source(f)
+    outcome: list[object] = []
+
+    def reader() -> None:
+        try:
+            while True:
+                src.pull(timeout_s=0.3)
+        except StreamError as exc:
+            outcome.append(exc)
+
+    th = threading.Thread(target=reader)
+    th.start()
+    time.sleep(0.2)
+    src.close()
+    th.join(timeout=3.0)
+    assert not th.is_alive()
+    assert outcome and "was closed" in str(outcome[0])
+    assert src.health().state in ("connecting", "live", "stale", "lost")
