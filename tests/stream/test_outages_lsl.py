@@ -47,9 +47,13 @@ def test_outlet_vanishes_and_returns_with_the_same_source_id(feeders) -> None:  
         drain(src, 1.0, f)  # long enough for the resolver to have seen the outlet
         assert src.health().state == "live"
         f.close()
+        t0 = time.monotonic()
+        while src.health().state == "live" and time.monotonic() - t0 < 5.0:
+            src.pull(timeout_s=0.05)
+        assert time.monotonic() - t0 <= 2.5  # "no data" within ~2 s (issue 8)
         took = poll(src, "lost", 4.0)
         h = src.health()
-        assert took <= 3.5 and h.seconds_since_data >= 2.0  # "no data" from ~2 s on
+        assert took <= 3.5 and h.seconds_since_data >= 2.0
         back = feeders(name, n_channels=3)  # same name, same source_id
         poll(src, "live", 10.0, back)
         h = src.health()
