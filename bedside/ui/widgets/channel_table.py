@@ -100,6 +100,7 @@ class ChannelTable(DataTable[object]):
         super().__init__(id=id, cursor_type="row", zebra_stripes=True)
         self._names: tuple[str, ...] = ()
         self._columns: tuple[tuple[str, str, str, float], ...] = ()
+        self._shown: dict[tuple[str, str], tuple[str, str]] = {}
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -120,6 +121,15 @@ class ChannelTable(DataTable[object]):
         for name in names:
             self.add_row(name, "", "—", "", *([""] * len(columns)), key=name)
         self._names, self._columns = names, columns
+        self._shown.clear()
+
+    def _set(self, row: str, column: str, value: Text | str) -> None:
+        """update_cell only when what is shown changes (most cells hold still between frames)."""
+        key = (value.plain, str(value.style)) if isinstance(value, Text) else (value, "")
+        if self._shown.get((row, column)) == key:
+            return
+        self._shown[(row, column)] = key
+        self.update_cell(row, column, value, update_width=False)
 
     def show(self, frame: QualityFrame, live: bool, time_to_good_s: dict[str, float]) -> None:
         """Apply one frame (a batch of cell updates; a new layout rebuilds once)."""
@@ -136,22 +146,21 @@ class ChannelTable(DataTable[object]):
     def _update_row(self, ch: ChannelQuality, live: bool, ttg: float | None) -> None:
         name = ch.name
         label = Text(name, style="bold" if ch.is_scalp else "italic")
-        self.update_cell(name, "name", label, update_width=False)
-        self.update_cell(name, "state", level_cell(ch.level, live), update_width=False)
+        self._set(name, "name", label)
+        self._set(name, "state", level_cell(ch.level, live))
         checks = getattr(ch, "checks", {}) or {}
         for check, key, _, scale in self._columns:
             value = ch.metrics.get(key) if live else None
             shown = None if value is None else float(value) * scale
-            self.update_cell(name, f"m:{key}", check_cell(shown, checks.get(check) if live else None),
-                             update_width=False)
-        self.update_cell(name, "ttg", format_seconds(ttg), update_width=False)
+            self._set(name, f"m:{key}", check_cell(shown, checks.get(check) if live else None))
+        self._set(name, "ttg", format_seconds(ttg))
         if not live:
             reason = "no live data"
         elif ch.reasons:
             reason = ch.reasons[0] + (f" (+{len(ch.reasons) - 1})" if len(ch.reasons) > 1 else "")
         else:
             reason = ""
-        self.update_cell(name, "reason", reason, update_width=False)
+        self._set(name, "reason", reason)
 
     def selected_name(self) -> str | None:
         if not self._names or self.cursor_row < 0 or self.cursor_row >= len(self._names):
