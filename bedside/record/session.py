@@ -771,14 +771,15 @@ def _mains_hz(value: Any) -> float | None:
 
 
 def _clean_metrics(metrics: Any) -> dict[str, float | None]:
-    """Plain floats for the YAML; NaN/±Inf (not computable) become None."""
+    """Plain floats (6 significant digits) for the YAML; NaN/±Inf (not computable) → None."""
     out: dict[str, float | None] = {}
     for key, value in dict(metrics or {}).items():
         try:
             number = float(value)
         except (TypeError, ValueError):
             continue
-        out[str(key)] = number if math.isfinite(number) else None
+        # Six significant digits: more than any check resolves, and a readable file.
+        out[str(key)] = float(f"{number:.6g}") if math.isfinite(number) else None
     return out
 
 
