@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import uuid
 
+from bedside.cautions import CAUTIONS
 from bedside.commands._common import positive_float
 from bedside.commands.watch import add_app_options, app_config, run_app
 
@@ -23,6 +24,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         help="try bedside on the simulated ward stream (no amplifier needed)",
         description="Publish the default demo scenario (an invented ward with scripted "
         "electrode faults) on LSL and open the app on it.",
+        epilog=CAUTIONS,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("scenario", nargs="?", default=None, help="scenario name or file (default: the ward demo)")
     p.add_argument("--speed", metavar="X", type=positive_float("--speed"), default=1.0,
