@@ -25,6 +25,8 @@ import tempfile
 from pathlib import Path
 from typing import Any
 
+from bedside.errors import BedsideError
+
 NAME = "bench"
 ORDER = 90
 FORMATS = ("table", "json")
@@ -126,9 +128,13 @@ def run(args: argparse.Namespace) -> int:
     env = dict(os.environ, **{v: "1" for v in _THREAD_VARS}, **{_CHILD_FLAG: "1"})
     cmd = [sys.executable, "-m", "bedside", "bench", *(["--quick"] if args.quick else [])]
     proc = subprocess.run(cmd, env=env, capture_output=True, text=True, check=False)
-    if proc.returncode != 0:
-        sys.stderr.write(proc.stderr)
-        return proc.returncode
-    report = json.loads(proc.stdout.strip().splitlines()[-1])
+    lines = proc.stdout.strip().splitlines()
+    if proc.returncode != 0 or not lines:
+        last = (proc.stderr.strip().splitlines() or ["no output"])[-1]
+        raise BedsideError(f"the benchmark did not finish (exit {proc.returncode}): {last}")
+    for line in proc.stderr.splitlines():
+        if line.startswith(("WARNING", "error")):
+            print(line, file=sys.stderr)
+    report = json.loads(lines[-1])
     print(json.dumps(report, indent=2) if args.format == "json" else as_table(report))
     return 0
