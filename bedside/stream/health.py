@@ -18,7 +18,8 @@ time-corrected) with the moment they arrived, and is asked for a
 * **bursts** — one pull bringing more than ``burst_s`` of data;
 * **state** — "connecting" before the first sample; "live"; "stale" after
   ``stale_after_s`` without data; "lost" when, in addition, the outlet is no longer
-  visible on the network. Data after "lost" counts as a reconnect.
+  visible on the network (or, when its visibility cannot be known, after
+  ``lost_after_s`` without data). Data after "lost" counts as a reconnect.
 """
 
 from __future__ import annotations
@@ -187,7 +188,11 @@ class HealthTracker:
         if self._last_data_wall is None and silent < self.settings.stale_after_s:
             return "connecting"
         if silent >= self.settings.stale_after_s:
-            return "lost" if self._visible is False else "stale"
+            if self._visible is False:
+                return "lost"
+            if self._visible is None and silent >= self.settings.lost_after_s:
+                return "lost"
+            return "stale"
         return "live"
 
     def snapshot(self, now_wall: float) -> StreamHealth:

@@ -23,6 +23,7 @@ class StreamSettings:
     buffer_s: float = field(default=60.0, metadata={"min": 5.0, "max": 600.0})
     stale_after_s: float = field(default=2.0, metadata={"min": 0.2, "max": 30.0})
     forget_after_s: float = field(default=1.0, metadata={"min": 0.2, "max": 30.0})
+    lost_after_s: float = field(default=5.0, metadata={"min": 0.5, "max": 300.0})
     open_timeout_s: float = field(default=3.0, metadata={"min": 0.1, "max": 60.0})
     max_pull_samples: int = field(default=16384, metadata={"min": 16, "max": 1_000_000})
     gap_tolerance_periods: float = field(default=1.5, metadata={"min": 1.01, "max": 100.0})
@@ -39,6 +40,10 @@ class StreamSettings:
     discovery_min_wait_s: float = field(default=1.0, metadata={"min": 0.0, "max": 60.0})
 
     def __post_init__(self) -> None:
+        if self.lost_after_s < self.stale_after_s:
+            raise ValueError(
+                f"lost_after_s ({self.lost_after_s}) must not be below stale_after_s ({self.stale_after_s})"
+            )
         if self.min_rate_hz >= self.max_rate_hz:
             raise ValueError(
                 f"min_rate_hz ({self.min_rate_hz}) must be below max_rate_hz ({self.max_rate_hz})"

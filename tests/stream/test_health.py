@@ -157,3 +157,15 @@ def test_three_hours_with_a_gap_every_minute_stays_bounded() -> None:
     assert h.dropped_samples == 180 * 50
     assert len(h.notes) == S.max_notes
     assert h.effective_rate_hz == pytest.approx(RATE, rel=1e-6)
+
+
+def test_lost_after_a_longer_silence_when_visibility_is_unknown() -> None:
+    """Visibility never known (resolver never saw the outlet): stale at 2 s, lost at 5 s
+    (stale_after_s, lost_after_s in configs/stream.yaml)."""
+    tr, clk = make()
+    clk.run(0.4)
+    assert tr.snapshot(clk.wall + 2.01).state == "stale"
+    assert tr.snapshot(clk.wall + 4.9).state == "stale"
+    assert tr.snapshot(clk.wall + 5.01).state == "lost"
+    tr.set_visible(True)  # seen after all: merely stale
+    assert tr.snapshot(clk.wall + 6.0).state == "stale"

@@ -22,6 +22,7 @@ def test_shipped_file_matches_the_defaults() -> None:
         ("stream:\n  buffer_s: 1\n", r"'stream.buffer_s' is 1.0; accepted: 5.0 to 600.0"),
         ("stream:\n  max_pull_samples: lots\n", r"'stream.max_pull_samples' must be a whole number"),
         ("stream:\n  min_rate_hz: 500\n  max_rate_hz: 400\n", r"min_rate_hz \(500.0\) must be below max_rate_hz"),
+        ("stream:\n  lost_after_s: 1\n", r"lost_after_s \(1.0\) must not be below stale_after_s"),
         ("stream: [\n", r"not valid YAML"),
         ("other: {}\n", r"missing top-level section 'stream'"),
     ],
