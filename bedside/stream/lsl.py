@@ -154,8 +154,3 @@ def translate(exc: BaseException, what: str) -> StreamError:
     if isinstance(exc, mod.util.TimeoutError):
         return StreamNotFound(f"{what}: the stream did not answer in time")
     return StreamError(f"{what}: LSL reported a problem ({exc})")
-
-
-def lsl_errors() -> tuple[type[BaseException], ...]:
-    """The exception types pylsl raises for stream problems (all RuntimeError subclasses)."""
-    return (RuntimeError,)

@@ -67,10 +67,8 @@ class Feeder:
         if self.values is not None:
             idx = (self.sent + np.arange(n)) % self.values.shape[0]
             return np.ascontiguousarray(self.values[idx])
-        k = self.sent + np.arange(n)[:, None]
-        return np.ascontiguousarray(np.sin(2 * np.pi * 10 * k / self.rate) * 50.0 + 0 * k).astype(
-            np.float64
-        ) * np.ones((1, self.n_channels))
+        k = self.sent + np.arange(n)[:, None]  # a 10 Hz, 50 µV sine on every channel
+        return np.sin(2 * np.pi * 10.0 * k / self.rate) * 50.0 * np.ones((1, self.n_channels))
 
     def push(self, n: int, *, skip_s: float = 0.0) -> None:
         """Push n samples starting ``skip_s`` after the next expected timestamp."""
