@@ -103,3 +103,30 @@ def test_all_lists_other_types_and_the_hint_points_to_it(tmp_path: Path) -> None
     finally:
         outlet.kill()
         outlet.communicate()
+
+
+from hypothesis import given  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@given(st.lists(st.one_of(st.sampled_from(["--format", "--wait", "--all", "json", "table", "-1", "0", "nan", "inf", "1e9", "2"]), st.text(max_size=8)), max_size=5))
+def test_fuzzed_options_parse_or_fail_cleanly(argv: list[str]) -> None:
+    """Fuzzed (issue 8): any option list either parses into a valid request or exits 2
+    with a message — the parser never raises anything else."""
+    import contextlib
+    import io
+    import math
+
+    from bedside.cli import build_parser
+
+    err = io.StringIO()
+    try:
+        with contextlib.redirect_stderr(err), contextlib.redirect_stdout(io.StringIO()):
+            args = build_parser().parse_args(["streams", *argv])
+    except SystemExit as exc:
+        assert exc.code in (0, 2)  # 0: --help-like, 2: a clear usage error
+        if exc.code == 2:
+            assert "error:" in err.getvalue()
+        return
+    assert args.format in ("table", "json")
+    assert math.isfinite(args.wait) and args.wait > 0
