@@ -112,6 +112,7 @@ class Engine:
         self.rate_hz = float(rate_hz)
         self.amplifier_range_uv = amplifier_range_uv
         self.scalp = np.array([ch.is_scalp for ch in channels], dtype=bool)
+        self._scalp_list = [bool(v) for v in self.scalp]
         self.geometry = g = Geometry.of(settings, self.rate_hz)
         self.n_channels = c = len(channels)
         rail = settings.flat.rail_fraction * amplifier_range_uv if amplifier_range_uv else None
@@ -257,13 +258,16 @@ class Engine:
         chans = [
             ChannelQuality(
                 name,
-                shown_levels[i],
-                dict(zip(names, table[i], strict=True)),
-                tuple(shown_reasons[i]),
-                bool(self.scalp[i]),
-                dict(zip(check_names, check_table[i], strict=True)),
+                level,
+                dict(zip(names, row, strict=False)),
+                tuple(why),
+                scalp,
+                dict(zip(check_names, row_checks, strict=False)),
             )
-            for i, name in enumerate(self.names)
+            for name, level, row, why, scalp, row_checks in zip(
+                self.names, shown_levels, table, shown_reasons, self._scalp_list, check_table,
+                strict=True,
+            )
         ]
         return QualityFrame(
             self._last_time, time.time(), tuple(chans), findings, health, self.settings.window_s,

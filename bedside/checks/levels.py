@@ -55,11 +55,13 @@ class LevelHold:
             held = (now_s - self.last_seen[lv]) < self.hold_s
             shown[confirmed | held] = lv
         out_reasons: list[list[str]] = []
-        for i, lv in enumerate(shown):
+        raw_list = raw.tolist()
+        for i, lv in enumerate(shown.tolist()):
             if lv == GOOD:
                 out_reasons.append([])
-                self.reasons[i] = []
-            elif raw[i] >= lv and reasons[i]:
+                if self.reasons[i]:
+                    self.reasons[i] = []
+            elif raw_list[i] >= lv and reasons[i]:
                 self.reasons[i] = reasons[i]
                 out_reasons.append(reasons[i])
             else:

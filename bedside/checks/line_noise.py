@@ -15,7 +15,7 @@ import numpy as np
 
 from bedside.checks.base import GOOD, CheckResult, Context, levels_from
 from bedside.checks.settings import QualitySettings
-from bedside.checks.spectrum import Spectrum
+from bedside.checks.spectrum import Spectrum, band_index
 
 NAME = "line_noise"
 MAINS_CANDIDATES_HZ = (50.0, 60.0)
@@ -34,28 +34,32 @@ def flank_bands(f0: float, bw: float) -> list[tuple[float, float]]:
 
 def band_power(spec: Spectrum, bands: list[tuple[float, float]]) -> np.ndarray:
     """Summed power over ``bands`` (assumed not to overlap), µV², per channel (C,)."""
-    total = np.zeros(spec.psd_uv2_per_hz.shape[1])
-    for lo, hi in bands:
-        total += spec.band_power(lo, hi)
-    return total
+    if not bands:
+        return np.zeros(spec.psd_uv2_per_hz.shape[1])
+    return np.asarray(spec.band_powers(tuple(bands)).sum(axis=1))
 
 
 def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict[str, np.ndarray]:
     """line_noise_db, mains_uv, mains_peak_db for mains frequency f0 (per channel)."""
     ln = settings.line_noise
-    nyq = spec.freqs_hz[-1]
+    nyq = float(spec.freqs_hz[-1])
     bands = mains_bands(f0, ln.bandwidth_hz, ln.harmonics, nyq)
     n_ch = spec.psd_uv2_per_hz.shape[1]
     if not bands:
         nan = np.full(n_ch, np.nan)
         return {"line_noise_db": nan, "mains_uv": nan, "mains_peak_db": nan.copy()}
-    p_mains = band_power(spec, bands)
-    p_fund = band_power(spec, bands[:1])
-    p_eeg = band_power(spec, [settings.eeg_band_hz])
     flanks = flank_bands(f0, ln.bandwidth_hz)
-    n_fund = max(spec.bins_in(*bands[0]), 1)
-    n_flank = max(sum(spec.bins_in(lo, hi) for lo, hi in flanks), 1)
-    p_flank = band_power(spec, flanks)
+    table: tuple[tuple[float, float], ...] = (*bands, settings.eeg_band_hz, *flanks)
+    p = spec.band_powers(table)  # (C, harmonics + 1 + 2)
+    nh = len(bands)
+    i0, i1 = band_index(len(spec.freqs_hz), spec.df_hz, table)
+    bins = i1 - i0
+    n_fund = max(int(bins[0]), 1)
+    n_flank = max(int(bins[nh + 1 :].sum()), 1)
+    p_mains = p[:, :nh].sum(axis=1)
+    p_fund = p[:, 0]
+    p_eeg = p[:, nh]
+    p_flank = p[:, nh + 1 :].sum(axis=1)
     return {
         "line_noise_db": 10 * np.log10((p_mains + _TINY) / (p_eeg + _TINY)),
         "mains_uv": np.sqrt(2.0 * p_fund),

@@ -13,7 +13,6 @@ from functools import lru_cache
 
 import numpy as np
 
-from bedside.checks.line_noise import band_power
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum
 from bedside.checks.types import Finding, Level
@@ -45,8 +44,8 @@ def evaluate(spec: Spectrum, names: tuple[str, ...], valid: np.ndarray, settings
     back = [i for i, r in enumerate(regions) if r == "posterior" and valid[i]]
     if not front or not back:
         return ()
-    blink = band_power(spec, [BLINK_BAND_HZ])
-    alpha = band_power(spec, [ps.alpha_band_hz])
+    both = spec.band_powers((BLINK_BAND_HZ, ps.alpha_band_hz))
+    blink, alpha = both[:, 0], both[:, 1]
     k = ps.min_evidence_ratio
     candidates = []
     for f in front:

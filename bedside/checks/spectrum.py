@@ -13,6 +13,7 @@ Arrays: samples (n_samples, n_channels) µV; PSD (n_freqs, n_channels) µV²/Hz.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from scipy import fft as sp_fft
@@ -46,19 +47,31 @@ class Spectrum:
             self.__dict__["_cum"] = cache  # frozen dataclass: cache beside the fields
         return cache
 
-    def band_power(self, lo_hz: float, hi_hz: float) -> np.ndarray:
-        """Power in µV² over the bins whose centre lies in [lo_hz, hi_hz], per channel (C,)."""
-        f = self.freqs_hz
-        i0 = int(np.searchsorted(f, lo_hz - 1e-9, side="left"))
-        i1 = int(np.searchsorted(f, hi_hz + 1e-9, side="right"))
-        if i1 <= i0:
-            return np.zeros(self.psd_uv2_per_hz.shape[1])
-        c = self._cumulative(max(i1, 256))
+    def band_powers(self, bands: tuple[tuple[float, float], ...]) -> np.ndarray:
+        """Power in µV² of each band (bins whose centre lies in [low, high]): (C, n_bands)."""
+        i0, i1 = band_index(len(self.freqs_hz), self.df_hz, bands)
+        c = self._cumulative(max(int(i1.max()) if len(i1) else 0, 256))
         return (c[:, i1] - c[:, i0]) * self.df_hz
 
+    def band_power(self, lo_hz: float, hi_hz: float) -> np.ndarray:
+        """Power in µV² over the bins whose centre lies in [lo_hz, hi_hz], per channel (C,)."""
+        return self.band_powers(((lo_hz, hi_hz),))[:, 0]
+
     def bins_in(self, lo_hz: float, hi_hz: float) -> int:
-        f = self.freqs_hz
-        return int(np.searchsorted(f, hi_hz + 1e-9, side="right") - np.searchsorted(f, lo_hz - 1e-9, side="left"))
+        i0, i1 = band_index(len(self.freqs_hz), self.df_hz, ((lo_hz, hi_hz),))
+        return int(i1[0] - i0[0])
+
+
+@lru_cache(maxsize=512)
+def band_index(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...]) -> tuple[np.ndarray, np.ndarray]:
+    """(first, end) bin indices of each band on the grid 0, df, 2·df … (cached: the grid
+    and the bands stay the same for a whole session)."""
+    f = np.arange(n_freqs) * df_hz
+    lo = np.array([b[0] for b in bands], dtype=float)
+    hi = np.array([b[1] for b in bands], dtype=float)
+    i0 = np.searchsorted(f, lo - 1e-9, side="left")
+    i1 = np.maximum(np.searchsorted(f, hi + 1e-9, side="right"), i0)
+    return i0, i1
 
 
 def band_matrix(freqs_hz: np.ndarray, bands: list[tuple[float, float]]) -> np.ndarray:
@@ -127,13 +140,14 @@ class SpectralAccumulator:
         self.scale = periodogram_scale(self.window, rate_hz)
         self.freqs_hz = np.fft.rfftfreq(segment, 1.0 / rate_hz)
         f = len(self.freqs_hz)
-        # Channel-major segment buffer: [previous hop | the hop being filled]. All work
+        # Channel-major segment buffer: two halves that take turns. All work
         # arrays are allocated once (fresh large arrays cost page faults every time).
         self._seg = np.zeros((n_channels, self.segment))
         self._work = np.zeros((n_channels, self.segment))
         self._spec_c = np.zeros((n_channels, f), dtype=np.complex128)
         self._tmp = np.zeros((n_channels, f))
         self._fill = 0
+        self._half = 1  # which half of _seg is being filled (the other holds the previous hop)
         self._have_prev = False
         self._ring = np.zeros((n_segments, n_channels, f))
         self._ring_start = np.zeros(n_segments, dtype=np.int64)
@@ -152,7 +166,8 @@ class SpectralAccumulator:
         hop = self.hop
         while pos < n:
             take = min(hop - self._fill, n - pos)
-            self._seg[:, hop + self._fill : hop + self._fill + take] = x[pos : pos + take].T
+            base = self._half * hop + self._fill  # the halves take turns: no shifting
+            self._seg[:, base : base + take] = x[pos : pos + take].T
             self._fill += take
             self._sample += take
             pos += take
@@ -160,7 +175,7 @@ class SpectralAccumulator:
                 if self._have_prev:
                     self._complete()
                     done = True
-                self._seg[:, :hop] = self._seg[:, hop:]
+                self._half ^= 1
                 self._have_prev = True
                 self._fill = 0
         return done
@@ -170,9 +185,12 @@ class SpectralAccumulator:
         if self.count >= self.n_segments:
             self._sum -= self._ring[slot]
         p = self._ring[slot]
-        seg, work = self._seg, self._work
-        np.subtract(seg, seg.mean(axis=1, keepdims=True), out=work)  # constant detrend
-        work *= self.window
+        hop, seg, work, w = self.hop, self._seg, self._work, self.window
+        old, new = (1, 0) if self._half == 0 else (0, 1)  # the just-filled half is the newer
+        mean = seg.mean(axis=1, keepdims=True)  # constant detrend (order does not matter)
+        np.subtract(seg[:, old * hop : old * hop + hop], mean, out=work[:, :hop])
+        np.subtract(seg[:, new * hop : new * hop + hop], mean, out=work[:, hop:])
+        work *= w
         spec = np.fft.rfft(work, axis=1, out=self._spec_c)
         np.square(spec.real, out=p)
         np.square(spec.imag, out=self._tmp)

@@ -124,13 +124,15 @@ class BlockStats:
         np.subtract(x[1:], x[:-1], out=steps[1:])
         np.abs(steps, out=steps)
         st = steps[k0:]
-        still = st == 0.0
-        n_still = still.sum(axis=0)
-        if n_still.any():
+        step_min = st.min(axis=0) if len(st) else np.ones(x.shape[1])
+        if (step_min == 0.0).any():  # some channel repeats a value: count where
+            still = st == 0.0
+            n_still = still.sum(axis=0)
             xs = x[k0:]
             at_edge = (xs == mx) | (xs == mn)
             clipped = (still & at_edge).sum(axis=0)
         else:
+            n_still = np.zeros(x.shape[1], dtype=np.int64)
             clipped = np.zeros(x.shape[1], dtype=np.int64)
         if self.rail_uv is not None:
             clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
