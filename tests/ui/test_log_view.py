@@ -63,8 +63,7 @@ async def test_note_impedance_sign_off_and_save(tmp_path: Path) -> None:
         await pilot.press("ctrl+s")
         await pilot.pause(0.3)
         await pilot.resize_terminal(80, 24)
-        await pilot.pause(0.2)
-        assert "note" in si.screen_text(app)
+        assert await _until(pilot, lambda: app.size == (80, 24) and "note" in si.screen_text(app))
         await pilot.press("ctrl+q")
         await _until(pilot, lambda: app.return_code is not None)
     assert app.return_code == 0

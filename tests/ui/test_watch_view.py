@@ -58,7 +58,7 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         assert "mains 21 dB" in str(app.views["watch"].query_one(ChannelTable).get_cell("T7", "reason"))
         # Still readable at 80×24.
         await pilot.resize_terminal(80, 24)
-        await pilot.pause(0.3)
+        assert await _until(pilot, lambda: app.size == (80, 24) and "✖T7" in si.screen_text(app))
         small = si.screen_text(app)
         assert "✖T7" in small and "✖ fix" in small and "live" in small
 
@@ -69,7 +69,7 @@ async def test_lost_stream_shows_no_data_not_old_colours() -> None:
                    services=si.services(frames=frames))
     async with app.run_test(size=(100, 40)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None and not app.latest_frame.live)
-        await pilot.pause(0.2)
+        assert await _until(pilot, lambda: "lost" in si.screen_text(app) and "no live data" in si.screen_text(app))
         text = si.screen_text(app)
         assert "lost" in text
         map_text = app.views["watch"].query_one(HeadMap).render().plain
@@ -130,9 +130,8 @@ async def test_trace_follows_selection_and_derivation() -> None:
         await pilot.press("v")
         # Bipolar: T7 minus its nearest neighbour further back (P7 on the map).
         assert await _until(pilot, lambda: "T7−P7" in si.screen_text(app))
-        await pilot.press("n")
-        await pilot.pause(0.2)
-        assert app.views["watch"].selected in ("T7", "O2")
+        await pilot.press("n")  # the next electrode that is not good (after T7: O2)
+        assert await _until(pilot, lambda: app.views["watch"].selected == "O2")
 
 
 def _many_channel_frame(n: int) -> tuple[tuple[ChannelInfo, ...], QualityFrame]:
@@ -173,10 +172,13 @@ async def test_256_channels_map_and_paged_table() -> None:
     async with app.run_test(size=(100, 40)) as pilot:
         table = app.views["watch"].query_one(ChannelTable)
         assert await _until(pilot, lambda: table.row_count == 256)
-        await pilot.pause(0.3)
-        rendered = app.views["watch"].query_one(HeadMap).render().plain
-        symbols = sum(rendered.count(s) for s in ("●", "▲", "✖"))
-        assert symbols == 256  # every electrode has its own cell on the map
+        hmap = app.views["watch"].query_one(HeadMap)
+
+        def symbols() -> int:
+            rendered = hmap.render().plain
+            return sum(rendered.count(s) for s in ("●", "▲", "✖"))
+
+        assert await _until(pilot, lambda: symbols() == 256)  # every electrode has its own cell
         await pilot.press("pagedown", "pagedown")
         assert table.cursor_row > 20
         assert isinstance(table, DataTable)
@@ -199,3 +201,15 @@ async def test_selected_electrode_reason_in_full() -> None:
         assert await _until(pilot, lambda: app.latest_frame is not None)
         app.views["watch"].query_one(ChannelTable).select_name("T7")
         assert await _until(pilot, lambda: "▶ T7 ✖ fix: mains 21 dB over EEG band — re-seat" in si.screen_text(app))
+
+
+async def test_trace_toggles_and_is_hidden_at_first_on_short_terminals() -> None:
+    app = make_app(AppConfig(discover=False), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(80, 24)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None)
+        assert "as recorded" not in si.screen_text(app)
+        await pilot.press("t")
+        assert await _until(pilot, lambda: "as recorded" in si.screen_text(app))
+        await pilot.press("t")
+        await pilot.pause(0.2)
+        assert "as recorded" not in si.screen_text(app)

@@ -27,6 +27,7 @@ KEYS = (
     ("Watch", (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),
         ("n", "jump to the next electrode that is not good yet"),
+        ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
         ("v", "trace as recorded → average reference → bipolar"),
         ("p / r", "pick another stream / look for streams again"),
     )),

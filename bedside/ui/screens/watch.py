@@ -30,6 +30,7 @@ if TYPE_CHECKING:
 
 class WatchScreen(Screen[None]):
     BINDINGS = [
+        Binding("t", "toggle_trace", "Trace"),
         Binding("v", "cycle_derivation", "Derivation"),
         Binding("n", "next_not_good", "Next to fix"),
         Binding("p", "pick_stream", "Pick stream"),
@@ -43,6 +44,7 @@ class WatchScreen(Screen[None]):
         self._frame: QualityFrame | None = None
         self._live = False
         self._ready = False  # set once the widgets are mounted (frames may come sooner)
+        self._trace_wanted: bool | None = None  # None: decided by the terminal's height
 
     @property
     def bedside(self) -> BedsideApp:
@@ -70,8 +72,18 @@ class WatchScreen(Screen[None]):
             self.show_frame(self.bedside.latest_frame, self.bedside.progress, live=self.bedside.is_live())
 
     def on_resize(self) -> None:
-        # A short terminal (80×24) keeps the trace small so the map and table stay readable.
-        self.set_class(self.size.height < 32, "-short")
+        # A short terminal (80×24) gives the map and table the room; t shows the trace.
+        short = self.size.height < 32
+        self.set_class(short, "-short")
+        self._apply_trace(self._trace_wanted if self._trace_wanted is not None else not short)
+
+    def _apply_trace(self, show: bool) -> None:
+        self.set_class(not show, "-no-trace")
+
+    def action_toggle_trace(self) -> None:
+        self._trace_wanted = self.has_class("-no-trace")
+        self._apply_trace(self._trace_wanted)
+        self._request_trace()
 
     def on_screen_resume(self) -> None:
         self.set_points(self.bedside.points)
@@ -145,7 +157,7 @@ class WatchScreen(Screen[None]):
         app = self.bedside
         conn = app.connection
         view = self.query_one(TraceView)
-        if conn is None or self.selected is None:
+        if conn is None or self.selected is None or self.has_class("-no-trace"):
             return
         names = [ch.name for ch in conn.channels]
         if self.selected not in names:
