@@ -311,8 +311,8 @@ class Engine:
         nf_level = np.where(bad_nf, BAD, GOOD).astype(np.int8)
         nf_reasons = {
             int(i): (
-                f"{int(stats.nonfinite[i])} samples are not numbers (NaN/Inf) in the last"
-                f" {s.window_s:g} s — check the amplifier channel and its cable"
+                f"{int(stats.nonfinite[i])} samples are not numbers (NaN/Inf) or beyond any EEG"
+                f" value in the last {s.window_s:g} s — check the amplifier channel and its cable"
             )
             for i in np.flatnonzero(bad_nf)
         }

@@ -60,6 +60,11 @@ class WindowStats:
         return np.sqrt(np.maximum(self.var_uv2, 0.0))
 
 
+#: Values beyond this (µV; a kilovolt) are no EEG: counted with NaN/Inf as unusable samples
+#: so that they cannot overflow the window's sums (numeric limits of float32/float64).
+ABSURD_UV = 1e9
+
+
 class BlockStats:
     """Ring of per-block statistics over the last ``n_blocks`` blocks of ``block`` samples."""
 
@@ -101,11 +106,13 @@ class BlockStats:
 
     def add_block(self, x: np.ndarray, start_sample: int) -> np.ndarray:
         """Summarise one block (block, C) µV; returns the block with NaN/Inf replaced by 0."""
-        total = x.sum(axis=0)
-        if np.isfinite(total).all():
+        with np.errstate(over="ignore", invalid="ignore"):
+            total = x.sum(axis=0)
+        if np.isfinite(total).all() and np.abs(total).max(initial=0.0) < ABSURD_UV * x.shape[0]:
             nonfinite = np.zeros(x.shape[1])
-        else:  # NaN/±Inf somewhere (or an overflowing sum): count and zero them
-            finite = np.isfinite(x)
+        else:  # NaN/±Inf or values at the numeric limits somewhere: count and zero them
+            with np.errstate(invalid="ignore"):
+                finite = np.isfinite(x) & (np.abs(x) < ABSURD_UV)
             nonfinite = (~finite).sum(axis=0).astype(float)
             x = np.where(finite, x, 0.0)
             total = x.sum(axis=0)

@@ -80,6 +80,19 @@ def test_nan_and_inf_flag_only_their_channel() -> None:
     assert not [f for f in frame.findings if f.kind in ("ground", "reference")]
 
 
+@pytest.mark.parametrize("value", [1e308, -3.4e38, 1e12])
+def test_numeric_limits_flag_only_their_channel(value: float) -> None:
+    """Samples at the numeric limits cannot overflow the shared sums (issue: bad input)."""
+    x = _clean()
+    x[-500:-400, _idx("F4")] = value
+    frame = feed(make_engine(), x)[-1]
+    f4 = by_name(frame, "F4")
+    assert f4.level is Level.BAD and "beyond any EEG value" in f4.reasons[0]
+    others = [c for c in frame.channels if c.name != "F4"]
+    assert all(c.level is Level.GOOD for c in others)
+    assert all(np.isfinite(c.metrics["rms_uv"]) for c in others)
+
+
 def test_flat_channel_prep_and_ifcn() -> None:
     """PREP calls SD ≈ 0 flat; amplifier noise only (0.2 µV RMS, below twice the IFCN
     1.5 µV p-p limit) is flat too; a suppressed-looking 1.5 µV RMS channel is 'check'."""
