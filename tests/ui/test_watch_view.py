@@ -49,7 +49,8 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         o2 = _state(app, "O2")
         assert o2.plain == "▲ check" and "yellow" in str(o2.style)
         assert _state(app, "Cz").plain == "● good"
-        assert "▲O2" in text and "●Cz" in text
+        # Names sit beside their symbol: left half "●Cz", right half "O2▲" (mirrored).
+        assert "O2▲" in text and "●Cz" in text
         assert "F3═C3" in text  # the bridge finding names both electrodes
         assert "2 of 19 not good yet: T7 O2" in text  # ECG is not a scalp electrode
         assert "250 Hz set / 249.6 Hz seen" in text and "gaps 1" in text

@@ -79,9 +79,15 @@ class HeadMap(Widget):
         self._live = False
         self._bridges: tuple[Bridge, ...] = ()
         self._selected: str | None = None
+        self._spread = 1.0
 
     def set_points(self, points: dict[str, tuple[float, float]]) -> None:
+        """Positions (x, y) in [-1, 1], nose up. The set is spread to fill the outline
+        (largest radius → the rim) so names collide less; relative places are kept."""
         self._points = dict(points)
+        radii = [math.hypot(x, y) for x, y in self._points.values()]
+        top = max(radii, default=0.0)
+        self._spread = 1.0 / top if 0.0 < top < 1.0 else 1.0
         self.refresh()
 
     def show(
@@ -146,7 +152,8 @@ class HeadMap(Widget):
             return Text("")
         cv = _Canvas(w, h)
         self._outline(cv)
-        cells = {n: self.cell_of(x, y, w, h) for n, (x, y) in self._points.items()}
+        k = self._spread
+        cells = {n: self.cell_of(k * x, k * y, w, h) for n, (x, y) in self._points.items()}
         for br in self._bridges if not self.marks_mode else ():
             if br.a in cells and br.b in cells:
                 self._line(cv, cells[br.a], cells[br.b], f"bold {br.level.colour}")
@@ -166,9 +173,15 @@ class HeadMap(Widget):
             _, style = self._style_for(name)
             if name == self._selected:
                 style = f"{style} reverse"
-            if cv.free(col + 1, row, len(label)):
-                for i, ch in enumerate(label):
-                    cv.put(col + 1 + i, row, ch, style, own=True)
+            right_half = col > cv.w // 2
+            # Right-half names sit left of their symbol (a mirror of the left half), so they
+            # stay inside the outline; the other side is the fallback.
+            spots = (col - len(label), col + 1) if right_half else (col + 1, col - len(label))
+            for start in spots:
+                if start >= 0 and start + len(label) <= cv.w and cv.free(start, row, len(label)):
+                    for i, ch in enumerate(label):
+                        cv.put(start + i, row, ch, style, own=True)
+                    break
         return cv.text()
 
     @staticmethod
