@@ -34,6 +34,7 @@ from bedside.ui.screens.picker import StreamPicker
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import Services, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
+from bedside.ui.widgets.stream_status import STATE_LOOK
 
 log = logging.getLogger("bedside")
 
@@ -106,6 +107,7 @@ class BedsideApp(App[int]):
         self._shown_stalled = False
         self._leaving = False
         self._pending_pick: tuple[list[StreamIdentity], str] | None = None
+        self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
 
@@ -115,7 +117,7 @@ class BedsideApp(App[int]):
         for name, screen in self.views.items():
             self.install_screen(screen, name)
         self.push_screen(self.config.start_view)
-        self.sub_title = VIEW_TITLE[self.config.start_view]
+        self._update_subtitle()
         self.set_interval(0.5, self._watchdog)
         if self.config.log_path is not None and self.services.open_recorder is not None:
             self._open_log()
@@ -180,9 +182,26 @@ class BedsideApp(App[int]):
             self.pop_screen()
         if self.screen.name != name:
             self.switch_screen(name)
-        self.sub_title = VIEW_TITLE[name]
+        self._update_subtitle(name)
         if name == "watch":
             self._open_picker()
+
+    def _update_subtitle(self, view: str | None = None) -> None:
+        """The header names the view and, on every view, the pinned stream and its state."""
+        if view is not None:
+            self._view = view
+        view = self._view
+        parts = [VIEW_TITLE.get(view, "")]
+        if self.identity is not None:
+            stalled = self.stalled_for() is not None
+            frame = self.latest_frame
+            state = "stalled" if stalled else (
+                frame.stream_health.state if frame is not None and frame.stream_health else "connecting")
+            sym, _, _ = STATE_LOOK.get(state, STATE_LOOK["connecting"])
+            parts.append(f"{sym} {state} {self.identity.name}")
+        title = " · ".join(p for p in parts if p)
+        if title != self.sub_title:
+            self.sub_title = title
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):
@@ -316,6 +335,7 @@ class BedsideApp(App[int]):
         self._last_frame_at = time.monotonic()
         self._shown_stalled = False
         self.progress = self.tracker.update(frame)
+        self._update_subtitle()
         if self.current_view == "watch":
             self.views["watch"].show_frame(frame, self.progress, live=self.is_live())
 
@@ -343,6 +363,7 @@ class BedsideApp(App[int]):
         return frame is not None and frame.live and self.stalled_for() is None
 
     def _watchdog(self) -> None:
+        self._update_subtitle()
         conn = self.connection
         error = getattr(conn.monitor, "error", None) if conn is not None else None
         if error is not None and not self._monitor_error_shown:

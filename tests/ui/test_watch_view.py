@@ -77,6 +77,9 @@ async def test_lost_stream_shows_no_data_not_old_colours() -> None:
         assert "?T7" in map_text and "✖" not in map_text and "●" not in map_text
         assert _state(app, "T7").plain == "? no data"
         assert "no live data" in text
+        # Other views keep the stream's state in view too.
+        await pilot.press("f2")
+        assert await _until(pilot, lambda: "Measure · ✖ lost standin-bed" in si.screen_text(app))
 
 
 class _OneFrameMonitor(si.ScriptedMonitor):
