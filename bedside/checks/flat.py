@@ -53,5 +53,10 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
             reasons[int(i)] = (
                 f"very low signal: {ptp[i]:.1f} µV peak-to-peak — check the lead is connected"
             )
-    metrics = {"ptp_uv": ptp, "rms_uv": stats.rms_uv, "zero_diff_fraction": zero}
+    metrics = {
+        "ptp_uv": stats.ptp_uv,  # over the window
+        "recent_ptp_uv": ptp,  # over the newest flat_s, what the verdict uses
+        "rms_uv": stats.rms_uv,
+        "zero_diff_fraction": zero,
+    }
     return CheckResult(NAME, metrics, level, reasons)
