@@ -65,7 +65,7 @@ def clipping(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
 def muscle(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
     n = len(ctx.names)
-    nyq = float(spec.freqs_hz[-1])
+    nyq = spec.nyquist
     lo, hi = a.muscle_band_hz[0], min(a.muscle_band_hz[1], 0.9 * nyq)
     if hi <= lo:
         nan = np.full(n, np.nan)

@@ -118,7 +118,8 @@ class Engine:
         rail = settings.flat.rail_fraction * amplifier_range_uv if amplifier_range_uv else None
         self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
         self._spec = SpectralAccumulator(
-            c, self.rate_hz, g.segment, g.n_segments, max(1, round(settings.refresh_s / (settings.segment_s / 2)))
+            c, self.rate_hz, g.segment, g.n_segments,
+            max(1, round(settings.refresh_s / (settings.segment_s / 2))), settings.spectrum_max_hz,
         )
         self._pending = np.zeros((g.block, c))
         self._n_pending = 0
@@ -191,7 +192,10 @@ class Engine:
         g, c = self.geometry, self.n_channels
         rail = self.settings.flat.rail_fraction * self.amplifier_range_uv if self.amplifier_range_uv else None
         self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
-        self._spec = SpectralAccumulator(c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments)
+        self._spec = SpectralAccumulator(
+            c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments,
+            self.settings.spectrum_max_hz,
+        )
         self._n_pending = 0
         self._hold.reset()
         self._fhold.reset()

@@ -42,7 +42,7 @@ def band_power(spec: Spectrum, bands: list[tuple[float, float]]) -> np.ndarray:
 def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict[str, np.ndarray]:
     """line_noise_db, mains_uv, mains_peak_db for mains frequency f0 (per channel)."""
     ln = settings.line_noise
-    nyq = float(spec.freqs_hz[-1])
+    nyq = spec.nyquist
     bands = mains_bands(f0, ln.bandwidth_hz, ln.harmonics, nyq)
     n_ch = spec.psd_uv2_per_hz.shape[1]
     if not bands:
@@ -73,7 +73,7 @@ def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) ->
     if not mask.any():
         return None
     summed = Spectrum(spec.freqs_hz, spec.psd_uv2_per_hz[:, mask].sum(axis=1, keepdims=True),
-                      spec.n_segments, spec.span)
+                      spec.n_segments, spec.span, spec.nyquist)
     best, best_db = None, settings.line_noise.detect_prominence_db
     for f0 in MAINS_CANDIDATES_HZ:
         db = float(family_metrics(summed, f0, settings)["mains_peak_db"][0])

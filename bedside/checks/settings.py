@@ -143,6 +143,7 @@ class QualitySettings:
     min_rate_hz: float = field(default=64.0, metadata=_rng(1.0, 1e6))
     max_rate_hz: float = field(default=20000.0, metadata=_rng(1.0, 1e6))
     eeg_band_hz: tuple[float, float] = (1.0, 40.0)
+    spectrum_max_hz: float = field(default=250.0, metadata=_rng(50.0, 1e5))
     hold: HoldSettings = field(default_factory=HoldSettings)
     line_noise: LineNoiseSettings = field(default_factory=LineNoiseSettings)
     flat: FlatSettings = field(default_factory=FlatSettings)
@@ -160,6 +161,18 @@ class QualitySettings:
         _order("quality", "line_noise.recent_s", self.line_noise.recent_s, "window_s", self.window_s)
         _order("quality", "flat.flat_s", self.flat.flat_s, "window_s", self.window_s)
         _order("quality", "min_rate_hz", self.min_rate_hz, "max_rate_hz", self.max_rate_hz)
+        need_hz = max(
+            self.artifacts.muscle_band_hz[1],
+            self.eeg_band_hz[1],
+            self.placement.alpha_band_hz[1],
+            self.line_noise.harmonics * 60.0 + self.line_noise.bandwidth_hz,
+            60.0 + self.line_noise.bandwidth_hz + 3.0,  # the fundamental's upper flank
+        )
+        if self.spectrum_max_hz < need_hz:
+            raise ValueError(
+                f"'spectrum_max_hz' ({self.spectrum_max_hz:g}) must reach the highest band the "
+                f"checks use ({need_hz:g} Hz: muscle band, mains harmonics)"
+            )
         blocks_per_segment = self.segment_s / self.block_s
         blocks_per_window = self.window_s / self.block_s
         for name, value in (("segment_s", blocks_per_segment), ("window_s", blocks_per_window)):

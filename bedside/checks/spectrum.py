@@ -23,12 +23,18 @@ from scipy.signal import get_window
 @dataclass(frozen=True)
 class Spectrum:
     """PSD of the window. freqs_hz (F,); psd_uv2_per_hz (F, C); n_segments averaged;
-    span: (first_sample, n_samples) of the stream the segments cover."""
+    span: (first_sample, n_samples) of the stream the segments cover; nyquist_hz:
+    half the rate (the bins may stop below it: only what the checks use is kept)."""
 
     freqs_hz: np.ndarray
     psd_uv2_per_hz: np.ndarray
     n_segments: int
     span: tuple[int, int]
+    nyquist_hz: float = 0.0
+
+    @property
+    def nyquist(self) -> float:
+        return self.nyquist_hz if self.nyquist_hz > 0 else float(self.freqs_hz[-1])
 
     @property
     def df_hz(self) -> float:
@@ -72,18 +78,6 @@ def band_index(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...
     i0 = np.searchsorted(f, lo - 1e-9, side="left")
     i1 = np.maximum(np.searchsorted(f, hi + 1e-9, side="right"), i0)
     return i0, i1
-
-
-def band_matrix(freqs_hz: np.ndarray, bands: list[tuple[float, float]]) -> np.ndarray:
-    """(n_bands, F) weights so that ``M @ psd`` gives each band's power in µV² (bins × df).
-
-    A bin belongs to a band when its centre lies in [low, high]. Empty bands get a row of zeros.
-    """
-    df = float(freqs_hz[1] - freqs_hz[0])
-    m = np.zeros((len(bands), len(freqs_hz)))
-    for i, (lo, hi) in enumerate(bands):
-        m[i, (freqs_hz >= lo - 1e-9) & (freqs_hz <= hi + 1e-9)] = df
-    return m
 
 
 def periodogram_scale(window: np.ndarray, rate_hz: float) -> float:
@@ -131,20 +125,24 @@ class SpectralAccumulator:
     """Streaming Welch PSD over the last ``n_segments`` segments (see module docstring)."""
 
     def __init__(self, n_channels: int, rate_hz: float, segment: int, n_segments: int,
-                 refresh_segments: int) -> None:
+                 refresh_segments: int, max_hz: float | None = None) -> None:
         self.segment, self.hop = segment, segment // 2
         self.rate_hz = rate_hz
         self.n_segments = n_segments
         self.refresh_segments = max(1, refresh_segments)
         self.window = get_window("hann", segment)
         self.scale = periodogram_scale(self.window, rate_hz)
-        self.freqs_hz = np.fft.rfftfreq(segment, 1.0 / rate_hz)
-        f = len(self.freqs_hz)
+        full = np.fft.rfftfreq(segment, 1.0 / rate_hz)
+        keep = len(full) if max_hz is None else int(np.searchsorted(full, max_hz, side="right"))
+        self._keep = max(2, min(keep, len(full)))
+        self._has_nyquist_bin = self._keep == len(full) and segment % 2 == 0
+        self.freqs_hz = full[: self._keep]
+        f = self._keep
         # Channel-major segment buffer: two halves that take turns. All work
         # arrays are allocated once (fresh large arrays cost page faults every time).
         self._seg = np.zeros((n_channels, self.segment))
         self._work = np.zeros((n_channels, self.segment))
-        self._spec_c = np.zeros((n_channels, f), dtype=np.complex128)
+        self._spec_c = np.zeros((n_channels, segment // 2 + 1), dtype=np.complex128)
         self._tmp = np.zeros((n_channels, f))
         self._fill = 0
         self._half = 1  # which half of _seg is being filled (the other holds the previous hop)
@@ -191,13 +189,13 @@ class SpectralAccumulator:
         np.subtract(seg[:, old * hop : old * hop + hop], mean, out=work[:, :hop])
         np.subtract(seg[:, new * hop : new * hop + hop], mean, out=work[:, hop:])
         work *= w
-        spec = np.fft.rfft(work, axis=1, out=self._spec_c)
+        spec = np.fft.rfft(work, axis=1, out=self._spec_c)[:, : self._keep]
         np.square(spec.real, out=p)
         np.square(spec.imag, out=self._tmp)
         p += self._tmp
         p *= 2.0 * self.scale
         p[:, 0] /= 2.0
-        if self.segment % 2 == 0:
+        if self._has_nyquist_bin:
             p[:, -1] /= 2.0
         self._ring_start[slot] = self._sample - self.segment
         self._sum += p
@@ -245,4 +243,4 @@ class SpectralAccumulator:
     def _make(self, psd_cf: np.ndarray, starts: np.ndarray, k: int) -> Spectrum:
         first = int(starts.min())
         span = (first, int(starts.max()) + self.segment - first)
-        return Spectrum(self.freqs_hz, psd_cf.T, k, span)
+        return Spectrum(self.freqs_hz, psd_cf.T, k, span, self.rate_hz / 2.0)

@@ -91,3 +91,25 @@ def test_engine_flags_mains_channel_and_detects_50_hz() -> None:
     assert levels["Fp2"] == "good"
     reason = next(c for c in frame.channels if c.name == "Fp1").reasons[0]
     assert "dB over EEG band" in reason and "re-seat" in reason
+
+
+def test_fast_rate_keeps_only_the_bins_the_checks_use() -> None:
+    """At 1024 Hz the spectrum is kept to spectrum_max_hz; the kept bins still equal
+    scipy.signal.welch, and the Nyquist used for the harmonics is the true one."""
+    rate = 1024.0
+    rng = np.random.default_rng(4)
+    n = int(7 * rate)
+    t = np.arange(n) / rate
+    x = rng.normal(0, 5.0, size=(n, 3))
+    x[:, 0] += 20.0 * np.sin(2 * np.pi * 150.0 * t)  # 3rd harmonic of 50 Hz
+    eng = make_engine(["Fz", "Cz", "Pz"], rate_hz=rate)
+    feed(eng, x)
+    spec = eng.spectrum()
+    assert spec is not None
+    assert spec.freqs_hz[-1] <= load_quality().spectrum_max_hz < rate / 2
+    assert spec.nyquist == rate / 2
+    first, m = spec.span
+    _f, ref = welch(x[first : first + m], fs=rate, nperseg=int(rate), axis=0)
+    np.testing.assert_allclose(spec.psd_uv2_per_hz, ref[: len(spec.freqs_hz)], rtol=1e-9, atol=1e-12)
+    m150 = line_noise.family_metrics(spec, 50.0, load_quality())
+    assert m150["line_noise_db"][0] > m150["line_noise_db"][1] + 10  # the harmonic is counted
