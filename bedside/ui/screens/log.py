@@ -16,6 +16,7 @@ from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
+from textual.css.query import NoMatches
 from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Button, DataTable, Footer, Header, Input, Label, Static
@@ -156,6 +157,14 @@ class LogScreen(Screen[None]):
         self.post_message(LogResult("status", True, "", status))
 
     def on_log_result(self, message: LogResult) -> None:
+        if not self.is_mounted:
+            return
+        try:
+            self._show_result(message)
+        except NoMatches:  # the app is closing; the result is in the log file already
+            return
+
+    def _show_result(self, message: LogResult) -> None:
         if message.status is not None:
             self.query_one("#save-status", Static).update(status_words(message.status))
         if message.ok:

@@ -152,9 +152,12 @@ class MeasureScreen(Screen[None]):
         self.query_one("#measure-message", Static).update(Text(text, style=style))
 
     def on_measure_invalid(self, message: MeasureInvalid) -> None:
-        self._message(f"✖ {message.text}", "bold red")
+        if self.is_mounted:
+            self._message(f"✖ {message.text}", "bold red")
 
     def on_plan_ready(self, message: PlanReady) -> None:
+        if not self.is_mounted:
+            return
         plan = message.plan
         self.plan = plan
         n_sites = len({mk.name for mk in plan.marks})

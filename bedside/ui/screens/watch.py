@@ -7,11 +7,14 @@ With no live data (stream stale or lost, or frames stopped) every electrode show
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, cast
+import functools
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any, TypeVar, cast
 
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
+from textual.css.query import NoMatches
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header
 
@@ -26,6 +29,23 @@ from bedside.ui.widgets.trace_view import TraceRequest, TraceView
 
 if TYPE_CHECKING:
     from bedside.ui.app import BedsideApp
+
+F = TypeVar("F", bound=Callable[..., None])
+
+
+def while_mounted(method: F) -> F:
+    """Frames and timers may still arrive while the screen is being taken down: skip them."""
+
+    @functools.wraps(method)
+    def wrapper(self: WatchScreen, *args: Any, **kwargs: Any) -> None:
+        if not self._ready:
+            return
+        try:
+            method(self, *args, **kwargs)
+        except NoMatches:
+            return
+
+    return cast(F, wrapper)
 
 
 class WatchScreen(Screen[None]):
@@ -85,6 +105,9 @@ class WatchScreen(Screen[None]):
         self._apply_trace(self._trace_wanted)
         self._request_trace()
 
+    def on_unmount(self) -> None:
+        self._ready = False
+
     def on_screen_resume(self) -> None:
         self.set_points(self.bedside.points)
         self.refresh_status()
@@ -93,13 +116,12 @@ class WatchScreen(Screen[None]):
             self.show_frame(app.latest_frame, app.progress, live=app.is_live())
 
     # --- fed by the app -------------------------------------------------------
+    @while_mounted
     def set_points(self, points: dict[str, tuple[float, float]]) -> None:
-        if self._ready:
-            self.query_one(HeadMap).set_points(points)
+        self.query_one(HeadMap).set_points(points)
 
+    @while_mounted
     def refresh_status(self, note: str = "") -> None:
-        if not self._ready:
-            return
         app = self.bedside
         frame = app.latest_frame
         health = frame.stream_health if frame is not None else None
@@ -107,10 +129,9 @@ class WatchScreen(Screen[None]):
             app.identity, health, stalled_s=app.stalled_for(), note=note or app.status_note
         )
 
+    @while_mounted
     def show_frame(self, frame: QualityFrame, progress: Progress | None, *, live: bool) -> None:
         self._frame, self._live = frame, live
-        if not self._ready:
-            return
         levels: dict[str, Level | None] = {ch.name: ch.level for ch in frame.channels}
         bridges = tuple(
             Bridge(f.electrodes[0], f.electrodes[1], f.level)
@@ -127,6 +148,7 @@ class WatchScreen(Screen[None]):
         self.query_one(ProgressLine).show(progress)
         self.refresh_status()
 
+    @while_mounted
     def _show_findings(self) -> None:
         frame = self._frame
         if frame is None:
@@ -151,9 +173,8 @@ class WatchScreen(Screen[None]):
             self._show_findings()
         self._request_trace()
 
+    @while_mounted
     def _request_trace(self) -> None:
-        if not self._ready:
-            return
         app = self.bedside
         conn = app.connection
         view = self.query_one(TraceView)

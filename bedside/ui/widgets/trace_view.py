@@ -13,6 +13,7 @@ from rich.text import Text
 from textual import work
 from textual.app import ComposeResult
 from textual.containers import Horizontal
+from textual.css.query import NoMatches
 from textual.message import Message
 from textual.widgets import Static
 
@@ -84,9 +85,18 @@ class TraceView(Horizontal):
         yield Static(id="trace-plot")
         yield Static(id="spectrum-plot")
 
+    def _panes(self) -> tuple[Static, Static] | None:
+        """The two panes, or None while they are not mounted (e.g. the app is closing)."""
+        try:
+            return self.query_one("#trace-plot", Static), self.query_one("#spectrum-plot", Static)
+        except NoMatches:
+            return None
+
     def clear(self, why: str) -> None:
-        self.query_one("#trace-plot", Static).update(Text(why, style="grey50"))
-        self.query_one("#spectrum-plot", Static).update("")
+        panes = self._panes()
+        if panes is not None:
+            panes[0].update(Text(why, style="grey50"))
+            panes[1].update("")
 
     @work(thread=True, exclusive=True, group="trace", exit_on_error=False)
     def request(self, buffer: DisplayBuffer, req: TraceRequest) -> None:
@@ -94,6 +104,10 @@ class TraceView(Horizontal):
         self.post_message(draw(buffer.window(), buffer.rate_hz, req))
 
     def on_trace_ready(self, message: TraceReady) -> None:
+        panes = self._panes()
+        if panes is None:
+            return
+        trace_pane, spectrum_pane = panes
         req = message.request
         title = Text()
         if req.mode == "bipolar" and req.partner_name:
@@ -109,7 +123,7 @@ class TraceView(Horizontal):
         body.append_text(title)
         for line in message.trace:
             body.append("\n" + line, style="cyan")
-        self.query_one("#trace-plot", Static).update(body)
+        trace_pane.update(body)
 
         pic = message.spectrum
         spec = Text(no_wrap=True, overflow="crop")
@@ -126,4 +140,4 @@ class TraceView(Horizontal):
                     spec.append(ch if ch != " " else "┆", style="bold magenta")
                 else:
                     spec.append(ch, style="blue")
-        self.query_one("#spectrum-plot", Static).update(spec)
+        spectrum_pane.update(spec)
