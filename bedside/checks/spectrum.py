@@ -43,9 +43,10 @@ class Spectrum:
     def _cumulative(self, upto: int) -> np.ndarray:
         """(C, upto+1) running sums of the PSD over the first ``upto`` bins (grown on
         demand: the checks only look below a few hundred Hz), so any band costs O(C)."""
+        f = self.psd_uv2_per_hz.shape[0]
+        upto = min(upto, f)
         cache = self.__dict__.get("_cum")
         if cache is None or cache.shape[1] - 1 < upto:
-            f = self.psd_uv2_per_hz.shape[0]
             upto = min(f, max(upto, 2 * (cache.shape[1] - 1) if cache is not None else upto))
             psd_cf = self.psd_uv2_per_hz.T
             cache = np.zeros((psd_cf.shape[0], upto + 1))
