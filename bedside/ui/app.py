@@ -54,6 +54,12 @@ class Connected(Message):
         self.connection, self.points = connection, points
 
 
+class MapPoints(Message):
+    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]]) -> None:
+        super().__init__()
+        self.connection, self.points = connection, points
+
+
 class LogOpened(Message):
     def __init__(self, gate: RecorderGate | None, error: str = "") -> None:
         super().__init__()
@@ -427,6 +433,19 @@ class BedsideApp(App[int]):
         self.plan = plan
         if self.recorder is not None:
             self.recorder.submit("set_plan", (plan,), self._log_done("marks"))
+        if self.connection is not None:
+            self._remap(self.connection)
+
+    @work(thread=True, exclusive=True, group="remap", exit_on_error=False)
+    def _remap(self, conn: Connection) -> None:
+        """The head map follows this head's plan once it is measured."""
+        self.post_message(MapPoints(conn, self._points_for(conn)))
+
+    def on_map_points(self, message: MapPoints) -> None:
+        if message.connection is self.connection:
+            self.points = message.points
+            if self._watch_ready():
+                self.views["watch"].set_points(message.points)
 
     def export_plan(self, plan: PlacementPlan) -> None:
         self._export(plan)

@@ -23,6 +23,7 @@ KEYS = (
         ("type, Enter", "the three measurements; marks appear as soon as they are valid"),
         ("F5", "save the marking sheet as a text file (for printing)"),
         ("F6", "copy the marking sheet to the clipboard"),
+        ("F7", "diagram or table first (they take turns on short terminals)"),
     )),
     ("Watch", (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),

@@ -55,6 +55,7 @@ class MeasureScreen(Screen[None]):
     BINDINGS = [
         Binding("f5", "export", "Save sheet"),
         Binding("f6", "copy_sheet", "Copy sheet"),
+        Binding("f7", "toggle_map", "Diagram/table"),
         Binding("escape", "leave_form", "Leave form", show=False),
     ]
 
@@ -196,6 +197,13 @@ class MeasureScreen(Screen[None]):
 
         self.app.copy_to_clipboard(plan_as_text(self.plan))
         self.notify("marking sheet copied (if the terminal allows clipboard access)")
+
+    def on_resize(self) -> None:
+        # On a short terminal the diagram and the table take turns (F7 switches).
+        self.set_class(self.size.height < 32, "-short")
+
+    def action_toggle_map(self) -> None:
+        self.toggle_class("-map-first")
 
     def action_leave_form(self) -> None:
         self.query_one("#marks-table", DataTable).focus()
