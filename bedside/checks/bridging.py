@@ -34,11 +34,24 @@ def pair_metrics(cov_uv2: np.ndarray, pairs: np.ndarray) -> tuple[np.ndarray, np
     return ed, np.nan_to_num(r, nan=0.0)
 
 
+def window_pair_metrics(stats: WindowStats, pairs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(ED µV², correlation) for index pairs (P, 2) straight from the window's blocks."""
+    if len(pairs) == 0:
+        return np.zeros(0), np.zeros(0)
+    i, j = pairs[:, 0], pairs[:, 1]
+    var = stats.var_uv2
+    cii, cjj, cij = var[i], var[j], stats.pair_cov(i, j)
+    ed = np.maximum(cii + cjj - 2.0 * cij, 0.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        r = cij / np.sqrt(cii * cjj)
+    return ed, np.nan_to_num(r, nan=0.0)
+
+
 def bridged_pairs(stats: WindowStats, ctx: Context, settings: QualitySettings) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """(pairs (P, 2), ED (P,), r (P,), bridged (P,) bool) over the neighbour pairs."""
     bs = settings.bridging
     pairs = ctx.neighbours
-    ed, r = pair_metrics(stats.cov_uv2, pairs)
+    ed, r = window_pair_metrics(stats, pairs)
     if len(pairs) == 0:
         return pairs, ed, r, np.zeros(0, dtype=bool)
     ok = ctx.valid & (stats.rms_uv >= bs.min_rms_uv)

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import BAD, CHECK, GOOD, CheckResult
+from bedside.checks.base import BAD, CHECK, CheckResult
 from bedside.checks.types import Finding
 
 
@@ -40,10 +40,14 @@ class LevelHold:
         self.streak = np.zeros((3, n), dtype=np.int64)  # consecutive updates at ≥ level
         self.last_seen = np.full((3, n), -np.inf)  # last time a confirmed level ≥ L was seen
         self.reasons: list[list[str]] = [[] for _ in range(n)]
+        self._with_reasons: set[int] = set()
 
     def reset(self) -> None:
         self.streak[:] = 0
         self.last_seen[:] = -np.inf
+        for i in self._with_reasons:
+            self.reasons[i] = []
+        self._with_reasons = set()
 
     def apply(self, raw: np.ndarray, reasons: list[list[str]], now_s: float) -> tuple[np.ndarray, list[list[str]]]:
         shown = np.zeros_like(raw)
@@ -54,20 +58,24 @@ class LevelHold:
             self.last_seen[lv][confirmed] = now_s
             held = (now_s - self.last_seen[lv]) < self.hold_s
             shown[confirmed | held] = lv
-        out_reasons: list[list[str]] = []
+        empty: list[str] = []
+        out_reasons: list[list[str]] = [empty] * len(shown)  # shared, never mutated
         raw_list = raw.tolist()
-        for i, lv in enumerate(shown.tolist()):
-            if lv == GOOD:
-                out_reasons.append([])
-                if self.reasons[i]:
-                    self.reasons[i] = []
-            elif raw_list[i] >= lv and reasons[i]:
+        shown_list = shown.tolist()
+        for i in self._with_reasons - set(np.flatnonzero(shown).tolist()):
+            self.reasons[i] = []  # back to good: forget what it was
+        self._with_reasons = set()
+        for i in np.flatnonzero(shown).tolist():
+            lv = shown_list[i]
+            if raw_list[i] >= lv and reasons[i]:
                 self.reasons[i] = reasons[i]
-                out_reasons.append(reasons[i])
+                out_reasons[i] = reasons[i]
             else:
                 # Held: the cause just cleared; keep saying what it was.
-                out_reasons.append([*self.reasons[i], "(clearing — held briefly to avoid flicker)"]
-                                   if self.reasons[i] else reasons[i])
+                out_reasons[i] = ([*self.reasons[i], "(clearing — held briefly to avoid flicker)"]
+                                  if self.reasons[i] else reasons[i])
+            if self.reasons[i]:
+                self._with_reasons.add(i)
         return shown, out_reasons
 
 

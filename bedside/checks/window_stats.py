@@ -18,6 +18,7 @@ Only the samples that arrived since the last update are touched.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -28,7 +29,9 @@ class WindowStats:
 
     n_samples: samples in the window; block_means_uv: (n_blocks, C), oldest first;
     block_times_s: (n_blocks,) centre time of each block on the engine's sample
-    clock; cov_uv2: (C, C) covariance (ddof=1); mean_uv, var_uv2, ptp_uv,
+    clock; within_uv2: (C, C) sum of the blocks' scatter about their own means;
+    block_dev_uv: (n_blocks, C) block means minus the window mean; block: samples
+    per block (cov_uv2 and pair_cov combine these); mean_uv, var_uv2, ptp_uv,
     max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
     change; clip_fraction: share of samples in runs at the block extreme (or at
     the rail when the amplifier range is known); step_max_uv: (n_blocks, C)
@@ -40,7 +43,9 @@ class WindowStats:
     n_samples: int
     block_means_uv: np.ndarray
     block_times_s: np.ndarray
-    cov_uv2: np.ndarray
+    within_uv2: np.ndarray
+    block_dev_uv: np.ndarray
+    block: int
     mean_uv: np.ndarray
     var_uv2: np.ndarray
     ptp_uv: np.ndarray
@@ -53,6 +58,20 @@ class WindowStats:
     nonfinite: np.ndarray
     recent_ptp_uv: np.ndarray
     recent_zero_diff_fraction: np.ndarray
+
+    @cached_property
+    def cov_uv2(self) -> np.ndarray:
+        """(C, C) covariance over the window (ddof=1), combined from the blocks on demand."""
+        return np.asarray(
+            (self.within_uv2 + self.block * (self.block_dev_uv.T @ self.block_dev_uv))
+            / max(self.n_samples - 1, 1)
+        )
+
+    def pair_cov(self, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+        """Covariance (µV²) of the channel pairs (i[k], j[k]) only: O(pairs), not O(C²)."""
+        d = self.block_dev_uv
+        between = np.einsum("kp,kp->p", d[:, i], d[:, j])
+        return np.asarray((self.within_uv2[i, j] + self.block * between) / max(self.n_samples - 1, 1))
 
     @property
     def rms_uv(self) -> np.ndarray:
@@ -184,16 +203,16 @@ class BlockStats:
         means = self.means[order]
         mean = means.mean(axis=0)
         d = means - mean
-        scatter = self.m2_sum + b * (d.T @ d)
-        cov = scatter / max(n - 1, 1)
-        var = np.diag(cov).copy()
+        var = (np.diag(self.m2_sum) + b * np.einsum("kc,kc->c", d, d)) / max(n - 1, 1)
         times = (self.starts[order] + b / 2.0) / self.rate_hz
         maxs, mins = self.maxs[order].max(axis=0), self.mins[order].min(axis=0)
         return WindowStats(
             n_samples=n,
             block_means_uv=means,
             block_times_s=times,
-            cov_uv2=cov,
+            within_uv2=self.m2_sum.copy(),
+            block_dev_uv=d,
+            block=b,
             mean_uv=mean,
             var_uv2=var,
             ptp_uv=maxs - mins,

@@ -12,7 +12,7 @@ import mne
 import numpy as np
 from mne.preprocessing import compute_bridged_electrodes
 
-from bedside.checks.bridging import pair_metrics
+from bedside.checks.bridging import pair_metrics, window_pair_metrics
 
 from .helpers import TEN_TWENTY, eeg_like, feed, make_engine
 
@@ -76,6 +76,10 @@ def test_electrical_distance_is_variance_of_difference() -> None:
     ref_r = [np.corrcoef(window[:, i], window[:, j])[0, 1] for i, j in pairs]
     np.testing.assert_allclose(ed, ref_ed, rtol=1e-8)
     np.testing.assert_allclose(r, ref_r, rtol=1e-8)
+    # The engine's own path (pair entries only, no full matrix) gives the same numbers.
+    ed2, r2 = window_pair_metrics(stats, pairs)
+    np.testing.assert_allclose(ed2, ref_ed, rtol=1e-8)
+    np.testing.assert_allclose(r2, ref_r, rtol=1e-8)
 
 
 def test_two_flat_leads_are_not_a_bridge() -> None:
