@@ -17,6 +17,7 @@ from __future__ import annotations
 import dataclasses
 import difflib
 import hashlib
+import stat
 import types
 import typing
 from pathlib import Path
@@ -30,6 +31,10 @@ T = TypeVar("T")
 
 #: The configs/ folder shipped with the project (and installed beside the package).
 CONFIG_DIR = Path(__file__).resolve().parent.parent / "configs"
+
+#: Larger than any settings file could be (the shipped ones are a few kB): refused unread,
+#: so a device such as /dev/zero given as a config cannot fill the memory.
+MAX_CONFIG_BYTES = 1_000_000
 
 
 class _LineDict(dict):  # type: ignore[type-arg]
@@ -68,6 +73,15 @@ def read_yaml(path: Path | str) -> Any:
     """Parse a YAML file safely; errors name the file and line."""
     path = Path(path)
     try:
+        info = path.stat()
+        if not stat.S_ISREG(info.st_mode):
+            kind = "a folder" if stat.S_ISDIR(info.st_mode) else "not a regular file"
+            raise ConfigError(f"{path}: {kind}; a YAML settings file is needed")
+        if info.st_size > MAX_CONFIG_BYTES:
+            raise ConfigError(
+                f"{path}: {info.st_size} bytes is too large for a settings file "
+                f"(at most {MAX_CONFIG_BYTES} bytes accepted)"
+            )
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError as exc:
         raise ConfigError(f"{path}: file not found") from exc
@@ -75,6 +89,8 @@ def read_yaml(path: Path | str) -> Any:
         raise ConfigError(f"{path}: cannot read ({exc.strerror})") from exc
     except UnicodeDecodeError as exc:
         raise ConfigError(f"{path}: not UTF-8 text ({exc.reason})") from exc
+    except ValueError as exc:  # a path with a NUL byte in it, which no file can have
+        raise ConfigError(f"{str(path)!r}: not a usable file name ({exc})") from exc
     try:
         return yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader is a SafeLoader
     except ConfigError as exc:
