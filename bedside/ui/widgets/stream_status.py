@@ -51,11 +51,7 @@ def status_text(
     nominal = health.nominal_rate_hz if health else identity.nominal_rate_hz
     out.append(f"  rate {nominal:g} Hz set")
     if health is not None:
-        eff = health.effective_rate_hz
-        off = abs(eff - nominal) / nominal if nominal > 0 else 0.0
-        eff_style = "bold yellow" if off > 0.02 else ""
-        out.append(" / ")
-        out.append(f"{eff:.1f} Hz seen", style=eff_style)
+        out.append(f" / {health.effective_rate_hz:.1f} Hz seen")
         out.append(f"  gaps {health.gaps}")
         if health.dropped_samples:
             out.append(f" ({health.dropped_samples} samples)")
@@ -63,6 +59,8 @@ def status_text(
             out.append(f"  last data {health.seconds_since_data:.0f} s ago", style=colour)
         if health.reconnects:
             out.append(f"  reconnects {health.reconnects}")
+    for text in health.notes[-1:] if health is not None else ():
+        out.append(f"  ▲ {text}", style="yellow")  # the stream package's own words
     if note:
         out.append(f"  {note}", style="grey62")
     return out
