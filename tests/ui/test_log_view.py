@@ -59,7 +59,9 @@ async def test_note_impedance_sign_off_and_save(tmp_path: Path) -> None:
         await pilot.press("enter")
         assert await _until(pilot, lambda: "impedance Cz 4.5 kΩ" in si.screen_text(app))
         await pilot.press("ctrl+o")  # sign off (initials JM) and save
-        assert await _until(pilot, lambda: "saved" in si.screen_text(app) and "✖" not in si.screen_text(app))
+        ok = await _until(pilot, lambda: "signed off by JM" in si.screen_text(app))
+        assert ok, si.screen_text(app)
+        assert "✖" not in si.screen_text(app)
         await pilot.press("ctrl+s")
         await pilot.pause(0.3)
         await pilot.resize_terminal(80, 24)
@@ -72,6 +74,7 @@ async def test_note_impedance_sign_off_and_save(tmp_path: Path) -> None:
     assert "Fp1 re-gelled after abrasion check" in text
     assert "W3-017" in text and "JM" in text
     assert "4.5" in text and "Cz" in text
+    assert data.get("sign_off"), "the sign-off reached the file"
 
 
 async def test_bad_subject_id_is_refused_with_the_rule(tmp_path: Path) -> None:

@@ -50,7 +50,7 @@ def parse_kohm(text: str) -> float:
     return value
 
 
-def status_words(status: Any) -> Text:
+def status_words(status: Any, signed: str = "") -> Text:
     """The log's status (bedside.record.session.RecorderStatus) in plain words."""
     if status is None:
         return Text("no setup log is being kept", style="grey62")
@@ -70,6 +70,8 @@ def status_words(status: Any) -> Text:
             out.append(" (newer changes pending)", style="grey62")
     if getattr(status, "closed", False):
         out.append("  closed", style="grey62")
+    if signed:
+        out.append(f"  ✔ signed off by {signed}", style="bold")
     if notice:
         out.append(f"  ▲ {notice}", style="yellow")
     if path:
@@ -88,6 +90,7 @@ class LogScreen(Screen[None]):
         super().__init__(name="log")
         self.notes: list[tuple[str, str]] = []
         self.impedances: dict[str, float] = {}
+        self.signed = ""  # "JM at 20:16:52" once the log accepted the sign-off
 
     @property
     def bedside(self) -> BedsideApp:
@@ -165,8 +168,11 @@ class LogScreen(Screen[None]):
             return
 
     def _show_result(self, message: LogResult) -> None:
+        if message.action == "signed off" and message.ok:
+            initials = self.query_one("#tech", Input).value.strip().upper()
+            self.signed = f"{initials} at {time.strftime('%H:%M:%S')}"
         if message.status is not None:
-            self.query_one("#save-status", Static).update(status_words(message.status))
+            self.query_one("#save-status", Static).update(status_words(message.status, self.signed))
         if message.ok:
             if message.action not in ("status",):
                 self._say(f"● {message.action}", "green")
