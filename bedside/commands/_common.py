@@ -23,8 +23,17 @@ def add_stream_selection(parser: argparse.ArgumentParser) -> None:
     )
 
 
-def positive_float(option: str, *, allow_zero: bool = False):  # type: ignore[no-untyped-def]
-    """An argparse ``type`` that accepts a finite positive number and says so otherwise."""
+#: The slowest playback ``--speed`` accepted: slower than a hundredth of real time a
+#: demo stream looks dead (a sample every few seconds) and a short ``--duration``
+#: would run for hours.
+MIN_SPEED = 0.01
+
+
+def positive_float(  # type: ignore[no-untyped-def]
+    option: str, *, allow_zero: bool = False, minimum: float | None = None
+):
+    """An argparse ``type`` that accepts a finite positive number (at least ``minimum``,
+    when given) and says so otherwise."""
 
     def parse(text: str) -> float:
         try:
@@ -36,6 +45,8 @@ def positive_float(option: str, *, allow_zero: bool = False):  # type: ignore[no
         if not math.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
             bound = "zero or more" if allow_zero else "greater than zero"
             raise argparse.ArgumentTypeError(f"{option} must be {bound}, got {text!r}")
+        if minimum is not None and value < minimum:
+            raise argparse.ArgumentTypeError(f"{option} must be at least {minimum:g}, got {text!r}")
         return value
 
     return parse

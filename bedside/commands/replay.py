@@ -11,7 +11,7 @@ from __future__ import annotations
 import argparse
 import textwrap
 
-from bedside.commands._common import positive_float
+from bedside.commands._common import MIN_SPEED, positive_float
 
 NAME = "replay"
 ORDER = 61
@@ -30,8 +30,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p.add_argument("file", metavar="FILE", help="the recording (.edf, .bdf, .xdf, .xdfz)")
     p.add_argument("--name", metavar="NAME", help="the stream's name (default: bedside-replay-<file>)")
     p.add_argument("--source-id", metavar="ID", help="the stream's source_id (default: from name and host)")
-    p.add_argument("--speed", metavar="X", type=positive_float("--speed"), default=1.0,
-                   help="play X times faster than real time (default 1)")
+    p.add_argument("--speed", metavar="X", type=positive_float("--speed", minimum=MIN_SPEED), default=1.0,
+                   help=f"play X times faster than real time (default 1; at least {MIN_SPEED:g})")
     p.add_argument("--loop", action="store_true", help="start again at the end, until Ctrl-C")
     p.set_defaults(func=run)
 

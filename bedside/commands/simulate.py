@@ -12,7 +12,7 @@ import argparse
 import sys
 import textwrap
 
-from bedside.commands._common import positive_float
+from bedside.commands._common import MIN_SPEED, positive_float
 from bedside.errors import BedsideError
 
 NAME = "simulate"
@@ -37,8 +37,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
                    help="scenario name in demo_streams/ or a .yaml path (default: ward_demo)")
     p.add_argument("--name", metavar="NAME", help="the stream's name (default: the scenario's)")
     p.add_argument("--source-id", metavar="ID", help="the stream's source_id (default: from name and host)")
-    p.add_argument("--speed", metavar="X", type=positive_float("--speed"), default=1.0,
-                   help="play X times faster than real time (default 1)")
+    p.add_argument("--speed", metavar="X", type=positive_float("--speed", minimum=MIN_SPEED), default=1.0,
+                   help=f"play X times faster than real time (default 1; at least {MIN_SPEED:g})")
     p.add_argument("--duration", metavar="S", type=positive_float("--duration"), default=None,
                    help="stop after S seconds of stream time (default: until Ctrl-C)")
     p.add_argument("--list", action="store_true", help="list the scenarios and their faults, then exit")
