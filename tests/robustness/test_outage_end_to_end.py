@@ -82,7 +82,7 @@ async def test_outlet_vanishes_newcomer_is_not_trusted_and_the_same_source_retur
             note = await _until(pilot, lambda: sid_b in app.status_note, 8.0)
             assert note is not None, app.status_note
             assert "not trusted unless you pick it" in app.status_note
-            assert app.connection.identity.source_id == sid_a
+            assert app.connection is not None and app.connection.identity.source_id == sid_a
 
             # 3. A goes away.
             a.stop()
@@ -90,7 +90,7 @@ async def test_outlet_vanishes_newcomer_is_not_trusted_and_the_same_source_retur
             assert took is not None and took <= 3.0, took
             print(f"\n'no data' on screen {took:.2f} s after the outlet closed")
             await pilot.pause(2.0)
-            assert app.connection.identity.source_id == sid_a  # not moved to B by itself
+            assert app.connection is not None and app.connection.identity.source_id == sid_a  # not moved to B
             assert _cell(app, "Cz") == "? no data"
 
             # 4. A comes back (same source_id): reconnects by itself.
