@@ -142,9 +142,16 @@ class SpectralAccumulator:
         # Channel-major segment buffer: two halves that take turns. All work
         # arrays are allocated once (fresh large arrays cost page faults every time).
         self._seg = np.zeros((n_channels, self.segment))
-        self._work = np.zeros((n_channels, self.segment))
-        self._spec_c = np.zeros((n_channels, segment // 2 + 1), dtype=np.complex128)
         self._tmp = np.zeros((n_channels, f))
+        # Hann applied as a three-bin convolution of the plain segment's spectrum
+        # (see _complete); needs the two halves to tile the segment (even length).
+        self._freq_window = segment % 2 == 0 and segment >= 4
+        if self._freq_window:
+            self._ext = np.zeros((n_channels, f + 2), dtype=np.complex128)
+            self._side = np.zeros((n_channels, f), dtype=np.complex128)
+        else:
+            self._work = np.zeros((n_channels, self.segment))
+            self._spec_c = np.zeros((n_channels, segment // 2 + 1), dtype=np.complex128)
         self._fill = 0
         self._half = 1  # which half of _seg is being filled (the other holds the previous hop)
         self._have_prev = False
@@ -184,6 +191,53 @@ class SpectralAccumulator:
         if self.count >= self.n_segments:
             self._sum -= self._ring[slot]
         p = self._ring[slot]
+        if self._freq_window:
+            self._periodogram_freq(p)
+        else:
+            self._periodogram_time(p)
+        self._ring_start[slot] = self._sample - self.segment
+        self._sum += p
+        self.count += 1
+        self._since_refresh += 1
+        self._cached.clear()
+        if self._since_refresh >= self.refresh_segments:
+            self.refresh()
+
+    def _periodogram_freq(self, p: np.ndarray) -> None:
+        """Periodogram of the buffered segment into p (C, F), windowing in frequency.
+
+        The periodic Hann window w[n] = ½ − ½·cos(2πn/N) has a DFT with three
+        non-zero bins, so the windowed spectrum is Xw[k] = ½·X[k] − ¼·(X[k−1] + X[k+1])
+        of the plain segment's X; removing the segment mean (constant detrend) sets
+        X[0] = 0 and leaves every other bin as it is. One FFT straight over the
+        buffer, no detrended and windowed copy. The halves take turns, so the buffer
+        may hold the segment rotated by N/2: that multiplies X[k] by (−1)^k, which
+        flips the sign of the side bins and leaves the power unchanged.
+        """
+        kk = self._keep
+        y = sp_fft.rfft(self._seg, axis=1)  # (C, N/2 + 1)
+        y[:, 0] = 0.0  # constant detrend
+        ext, side = self._ext, self._side
+        ext[:, 1 : kk + 1] = y[:, :kk]
+        np.conjugate(y[:, 1], out=ext[:, 0])  # X[−1] = conj(X[1]) for real input
+        if kk < y.shape[1]:
+            ext[:, kk + 1] = y[:, kk]
+        else:  # the Nyquist bin is kept: X[N/2 + 1] = conj(X[N/2 − 1])
+            np.conjugate(y[:, -2], out=ext[:, kk + 1])
+        np.add(ext[:, :kk], ext[:, 2:], out=side)
+        rotated = self._half == 0  # the newer half is the first: [new | old]
+        side *= 0.5 if rotated else -0.5
+        side += ext[:, 1 : kk + 1]
+        np.square(side.real, out=p)
+        np.square(side.imag, out=self._tmp)
+        p += self._tmp
+        p *= 0.25 * 2.0 * self.scale
+        p[:, 0] /= 2.0
+        if self._has_nyquist_bin:
+            p[:, -1] /= 2.0
+
+    def _periodogram_time(self, p: np.ndarray) -> None:
+        """Periodogram of the buffered segment into p (C, F): detrend, window, FFT."""
         hop, seg, work, w = self.hop, self._seg, self._work, self.window
         old, new = (1, 0) if self._half == 0 else (0, 1)  # the just-filled half is the newer
         mean = seg.mean(axis=1, keepdims=True)  # constant detrend (order does not matter)
@@ -198,13 +252,6 @@ class SpectralAccumulator:
         p[:, 0] /= 2.0
         if self._has_nyquist_bin:
             p[:, -1] /= 2.0
-        self._ring_start[slot] = self._sample - self.segment
-        self._sum += p
-        self.count += 1
-        self._since_refresh += 1
-        self._cached.clear()
-        if self._since_refresh >= self.refresh_segments:
-            self.refresh()
 
     def refresh(self) -> None:
         """Re-sum the running PSD exactly from the ring."""
