@@ -48,8 +48,11 @@ class Connection:
 
 
 def neighbours_from(plan: PlacementPlan | None) -> tuple[tuple[str, str], ...] | None:
-    """The plan's neighbour graph, or None (the engine then uses its own default)."""
-    return tuple(plan.neighbours) if plan is not None else None
+    """Always None: the engine then takes the placement's neighbour graph for the
+    stream's own labels. A plan's graph covers only the plan's system and naming
+    (a 10-20 plan knows no FC1; a classic plan says T3 where the stream says T7), so
+    handing it over would make bridging quietly skip pairs."""
+    return None
 
 
 def connect(
@@ -71,7 +74,19 @@ def connect(
     except BaseException:
         tee.close()
         raise
-    return Connection(ident, source.channels, tee, engine, monitor, neighbours or ())
+    return Connection(ident, source.channels, tee, engine, monitor, engine_neighbours(engine))
+
+
+def engine_neighbours(engine: Any) -> tuple[tuple[str, str], ...]:
+    """The neighbour pairs the engine uses (index pairs into ``engine.names``), by name;
+    () when the engine does not say (the bipolar view then takes the nearest on the map)."""
+    pairs, names = getattr(engine, "neighbours", None), getattr(engine, "names", None)
+    if pairs is None or names is None:
+        return ()
+    try:
+        return tuple((str(names[int(a)]), str(names[int(b)])) for a, b in pairs)
+    except (TypeError, ValueError, IndexError):
+        return ()
 
 
 class RecorderGate:
