@@ -296,7 +296,7 @@ class BedsideApp(App[int]):
                 assert identity is not None
                 source = self.services.open_source(identity)
             feed = FrameFeed(self.post_message, self._frame_recorder)
-            conn = connect(self.services, source, self.config, self.plan, feed)
+            conn = connect(self.services, source, self.config, feed)
             points = self._points_for(conn)
         except BedsideError as exc:
             self.post_message(FeedProblem(f"could not start watching: {exc}"))

@@ -15,7 +15,6 @@ from typing import Any
 
 from bedside.checks.types import QualityFrame
 from bedside.errors import BedsideError
-from bedside.placement.types import PlacementPlan
 from bedside.stream.source import Source
 from bedside.stream.types import ChannelInfo, StreamIdentity
 from bedside.ui.config import AppConfig
@@ -47,19 +46,10 @@ class Connection:
             self.tee.close()
 
 
-def neighbours_from(plan: PlacementPlan | None) -> tuple[tuple[str, str], ...] | None:
-    """Always None: the engine then takes the placement's neighbour graph for the
-    stream's own labels. A plan's graph covers only the plan's system and naming
-    (a 10-20 plan knows no FC1; a classic plan says T3 where the stream says T7), so
-    handing it over would make bridging quietly skip pairs."""
-    return None
-
-
 def connect(
     services: Services,
     source: Source,
     config: AppConfig,
-    plan: PlacementPlan | None,
     on_frame: Callable[[QualityFrame], None],
 ) -> Connection:
     """Wrap ``source`` for display, build the engine and start the monitor thread."""
@@ -67,8 +57,10 @@ def connect(
     try:
         settings = services.load_quality()
         ident = source.identity
-        neighbours = neighbours_from(plan)
-        engine = services.make_engine(settings, source.channels, ident.nominal_rate_hz, neighbours)
+        # No neighbours given: the engine takes the placement's graph for the stream's own
+        # labels. A plan's graph covers only its system and naming (a 10-20 plan knows no
+        # FC1; a classic plan says T3 where the stream says T7): bridging would skip pairs.
+        engine = services.make_engine(settings, source.channels, ident.nominal_rate_hz, None)
         monitor = services.make_monitor(tee, engine, on_frame, config.update_hz)
         monitor.start()
     except BaseException:
