@@ -16,6 +16,9 @@ channel is ``bad`` with a reason that names what is wrong; the duplicate and the
 label are kept under names of their own; the unit is read as it is and said; the
 undamaged channels are still judged (none of them ``bad``) — one bad lead never
 spoils the others.
+
+Also: streams bedside cannot use (1 Hz, 100 kHz, type Markers) are refused at once with
+the reason and what is accepted (exit 2); a one-channel stream is judged, with a note.
 """
 
 from __future__ import annotations
@@ -23,13 +26,14 @@ from __future__ import annotations
 import dataclasses
 import json
 import uuid
+from typing import Any
 
 import numpy as np
 import pytest
 
 from bedside.cli import main
 from bedside.sim.generator import SignalGenerator
-from bedside.sim.publish import StreamPublisher, scenario_spec
+from bedside.sim.publish import OutletSpec, StreamPublisher, scenario_spec
 from bedside.sim.scenario import load_scenario
 
 pytestmark = pytest.mark.lsl
@@ -89,3 +93,46 @@ def test_check_on_a_hostile_stream_names_each_damaged_channel(capsys: pytest.Cap
     others = [c for n, c in chans_out.items() if n not in damaged]
     assert all(c["level"] != "bad" for c in others), [(c["name"], c["level"], c["reasons"]) for c in others]
     assert all(c["level"] in ("good", "check") for c in others)
+
+
+def _spec_with(name: str, **changes: Any) -> OutletSpec:
+    return dataclasses.replace(scenario_spec(load_scenario("clean"), name=name), **changes)
+
+
+@pytest.mark.parametrize(
+    ("changes", "words"),
+    [
+        ({"rate_hz": 1.0}, "accepted: 128 to 20000 Hz"),  # configs/stream.yaml min/max_rate_hz
+        ({"rate_hz": 100_000.0}, "accepted: 128 to 20000 Hz"),
+        ({"stream_type": "Markers"}, "of type 'Markers', not EEG"),
+    ],
+    ids=["1 Hz", "100 kHz", "wrong type"],
+)
+def test_check_refuses_an_unusable_stream_and_says_why(
+    capsys: pytest.CaptureFixture[str], changes: dict[str, Any], words: str
+) -> None:
+    name = f"bedside-test-robust-{uuid.uuid4().hex[:8]}"
+    spec = _spec_with(name, **changes)
+    # A few samples only: the stream must be refused from its metadata, before reading.
+    with StreamPublisher(spec, lambda start, k: np.zeros((k, spec.n_channels)), total_samples=10):
+        code = main(["check", "--stream", name, "--wait", "1", "--seconds", "3"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == "", (out, err)
+    assert err.startswith("error: ") and words in err, err
+
+
+def test_check_on_a_one_channel_stream_judges_it_and_says_so(capsys: pytest.CaptureFixture[str]) -> None:
+    scenario = load_scenario("clean")
+    name = f"bedside-test-robust-{uuid.uuid4().hex[:8]}"
+    full = scenario_spec(scenario, name=name)
+    cz = scenario.channels.index("Cz")
+    spec = dataclasses.replace(full, channels=(full.channels[cz],))
+    gen = SignalGenerator(scenario)
+    with StreamPublisher(spec, lambda start, k: gen.generate(start, k)[:, cz : cz + 1]):
+        code = main(["check", "--stream", name, "--wait", "1", "--seconds", "4", "--format", "json"])
+    out, err = capsys.readouterr()
+    assert code in (0, 1) and "Traceback" not in err, err
+    report = json.loads(out)
+    assert [c["name"] for c in report["channels"]] == ["Cz"]
+    assert report["channels"][0]["level"] in ("good", "check", "bad")  # judged, not "no data"
+    assert any("one channel only" in n for n in report["stream"]["health"]["notes"])
