@@ -62,6 +62,19 @@ class Geometry:
         return cls(block, n_blocks, block * per_segment, n_segments, refresh)
 
 
+_new = object.__new__
+
+
+def _channel(name: str, level: Level, metrics: dict[str, float], reasons: tuple[str, ...],
+             scalp: bool, checks: dict[str, str]) -> ChannelQuality:
+    """ChannelQuality(name, level, metrics, reasons, scalp, checks), built without the
+    frozen dataclass's per-field setattr (the same object; 256 of them every update)."""
+    cq = _new(ChannelQuality)
+    cq.__dict__.update(name=name, level=level, metrics=metrics, reasons=reasons,
+                       is_scalp=scalp, checks=checks)
+    return cq
+
+
 def default_neighbours(names: Sequence[str]) -> list[tuple[str, str]]:
     """The placement's neighbour graph for these names; all pairs when it gives none."""
     pairs: list[tuple[str, str]] = []
@@ -131,6 +144,7 @@ class Engine:
         self._mains_hz: float | None = (
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
         )
+        self._check_proto: dict[tuple[str, ...], dict[int, dict[str, str]]] = {}
         self._cache_key = -1
         self._cache: tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]] | None = None
 
@@ -252,24 +266,13 @@ class Engine:
         findings = self._fhold.apply(findings, now)
         names = list(metrics)
         table = np.vstack([metrics[k] for k in names]).T.tolist() if names else [[]] * self.n_channels
-        check_names = list(per_check)
-        keys = np.array([lv.key for lv in _LEVELS], dtype=object)
-        check_table = (
-            keys[np.vstack([per_check[k] for k in check_names]).T].tolist()
-            if check_names else [[]] * self.n_channels
-        )
+        check_names = tuple(per_check)
+        check_dicts = self._check_dicts(check_names, per_check)
         shown_levels = [_LEVELS[v] for v in shown.tolist()]
         chans = [
-            ChannelQuality(
-                name,
-                level,
-                dict(zip(names, row, strict=False)),
-                tuple(why),
-                scalp,
-                dict(zip(check_names, row_checks, strict=False)),
-            )
-            for name, level, row, why, scalp, row_checks in zip(
-                self.names, shown_levels, table, shown_reasons, self._scalp_list, check_table,
+            _channel(name, level, dict(zip(names, row, strict=False)), tuple(why), scalp, checks.copy())
+            for name, level, row, why, scalp, checks in zip(
+                self.names, shown_levels, table, shown_reasons, self._scalp_list, check_dicts,
                 strict=True,
             )
         ]
@@ -277,6 +280,33 @@ class Engine:
             self._last_time, time.time(), tuple(chans), findings, health, self.settings.window_s,
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
+
+    def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[dict[str, str]]:
+        """Per channel, its {check: level key} (shared prototypes: the caller copies them).
+
+        Channels are grouped by the combination of their checks' levels (one integer
+        code each, base 3), so a dict is built once per combination, not per channel."""
+        n = self.n_channels
+        if not check_names:
+            return [{} for _ in range(n)]
+        code = np.zeros(n, dtype=np.int64)
+        for k in reversed(check_names):
+            code *= 3
+            code += per_check[k]
+        cache = self._check_proto.get(check_names)
+        if cache is None:
+            cache = self._check_proto[check_names] = {}
+        out = []
+        for c in code.tolist():
+            proto = cache.get(c)
+            if proto is None:
+                lv, rest = {}, c
+                for k in check_names:
+                    rest, v = divmod(rest, 3)
+                    lv[k] = _LEVELS[v].key
+                proto = cache[c] = lv
+            out.append(proto)
+        return out
 
     def _compute(self, stats: WindowStats, spec: Spectrum, recent: Spectrum) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]]:
         s = self.settings

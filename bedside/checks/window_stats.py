@@ -181,8 +181,14 @@ class BlockStats:
     def refresh(self) -> None:
         """Re-sum the running scatter exactly from the ring (undoes rounding drift)."""
         k = self.filled
-        order = self._order()[:k]
-        self.m2_sum = self.m2[order].sum(axis=0) if k else np.zeros_like(self.m2_sum)
+        order = self._order()[:k].tolist()
+        total = self.m2_sum
+        if not order:
+            total[:] = 0.0
+        else:  # oldest → newest, in place: no (blocks, C, C) copy of the ring
+            np.copyto(total, self.m2[order[0]])
+            for slot in order[1:]:
+                total += self.m2[slot]
         self._since_refresh = 0
 
     def _order(self) -> np.ndarray:
