@@ -37,6 +37,7 @@ import numpy as np
 from bedside.checks.engine import Engine
 from bedside.checks.settings import QualitySettings, load_quality
 from bedside.checks.simrun import run_scenario, scenario_channels
+from bedside.checks.types import QualityFrame
 from bedside.stream.types import ChannelInfo
 
 log = logging.getLogger("bedside")
@@ -53,6 +54,7 @@ TARGETS = {
     "latency_slow_s": 5.0,  # drift, bridges
     "clear_s": 5.0,
     "rss_growth_mb": 20.0,
+    "ui_frame_ms": 50.0,  # one frame applied and refreshed at 256 channels, headless
 }
 
 
@@ -195,6 +197,39 @@ def speed_table(quick: bool = False, settings: QualitySettings | None = None) ->
                           reference=not quick or (c, r) in ((21, 256.0), (256, 2048.0)))
             )
     return rows
+
+
+def engine_frames(n_channels: int = 256, rate_hz: float = 256.0, n_frames: int = 40,
+                  settings: QualitySettings | None = None, seed: int = 1) -> list[QualityFrame]:
+    """Frames of the real engine over the benchmark data, after the window has filled,
+    with faults that come and go (gel bridges, a drifting lead, pops, a lead that falls
+    off, mains on a few channels), so consecutive frames differ as they do live."""
+    settings = settings or load_quality()
+    rng = np.random.default_rng(seed)
+    names = [f"E{i + 1}" for i in range(n_channels)]
+    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
+    engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
+    step = int(round(rate_hz / settings.update_hz))
+    warm = int(np.ceil((settings.window_s + 1.0) * settings.update_hz))
+    n = (warm + n_frames) * step
+    data = _eeg_like(rng, n, n_channels, rate_hz)
+    t = np.arange(n) / rate_hz
+    for a, b in ((0, 1), (2, 3)):
+        if b < n_channels:
+            data[:, b] = data[:, a] + rng.normal(0.0, 0.5, size=n)
+    c = n_channels
+    data[:, 5 % c] += 40.0 * t  # drift
+    data[:: int(rate_hz * 1.5), 8 % c] += 300.0  # pops
+    data[n // 2 :, 11 % c] = 0.0  # a lead that falls off half-way
+    for k in range(12, min(c, 20)):
+        data[:, k] += 30.0 * np.sin(2 * np.pi * 50.0 * t) * (t > (k - 12) * 0.5)  # mains, spreading
+    frames = []
+    for k in range(warm + n_frames):
+        engine.push(data[k * step : (k + 1) * step], t[k * step : (k + 1) * step])
+        frame = engine.evaluate()
+        if k >= warm:
+            frames.append(frame)
+    return frames
 
 
 # ---------------------------------------------------------------- latency

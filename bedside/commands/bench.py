@@ -4,13 +4,16 @@ Prints, for 21/64/128/256 channels × 256/512/1024/2048 Hz: engine_ms, floor_ms,
 naive_ms, reference_ms (MNE-Python, when installed), the ratios engine/floor,
 naive/engine, reference/engine and core_share; then fault → verdict latency per
 fault kind on the simulator; then RSS over a simulated hour (``--quick``: ten
-simulated minutes, fewer repetitions, MNE only at the two corner sizes).
+simulated minutes, fewer repetitions, MNE only at the two corner sizes); then the
+time for the app to apply one frame at 256 channels and refresh, headless
+(see ui_frame).
 
 Measurements run in a child process with one BLAS thread (OPENBLAS_NUM_THREADS=1
 and friends), so every figure is a share of one core. JSON (``--format json``):
 ``{"machine": {...}, "speed": [rows with channels, rate_hz, engine_ms, floor_ms,
 naive_ms, reference_ms, engine/floor, naive/engine, reference/engine, core_share],
-"latency": [...], "memory": {...}, "targets": {...}}``.
+"latency": [...], "memory": {...}, "ui": {channels, size, frames, ui_frame_ms,
+ui_frame_cpu_ms, handler_ms, max_ms} or null, "targets": {...}}``.
 """
 
 from __future__ import annotations
@@ -37,10 +40,11 @@ _CHILD_FLAG = "BEDSIDE_BENCH_CHILD"
 def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p = sub.add_parser(
         NAME,
-        help="measure the quality engine's speed, latency and memory",
+        help="measure the quality engine's speed, latency and memory, and the UI frame time",
         description="Benchmark the live quality checks: time per update against the "
         "least possible work, a naive full recompute and MNE-Python; fault-to-verdict "
-        "latency on the simulator; memory over a simulated hour. --quick finishes in "
+        "latency on the simulator; memory over a simulated hour; the time to apply one frame "
+        "at 256 channels in the app, headless. --quick finishes in "
         "well under a minute; the full run takes a few minutes.",
     )
     p.add_argument("--quick", action="store_true", help="fewer repetitions, ten simulated minutes")
@@ -61,6 +65,70 @@ def machine() -> dict[str, Any]:
             "platform": platform.platform(), "blas_threads": os.environ.get("OPENBLAS_NUM_THREADS")}
 
 
+UI_CHANNELS = 256
+UI_SIZE = (160, 60)
+
+
+def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] = UI_SIZE) -> dict[str, Any]:
+    """Time to apply one QualityFrame to the app and refresh the screen, headless.
+
+    The real app (make_app, Watch view) runs under Textual's headless test driver at
+    ``size``; frames come from the real engine at ``n_channels`` (benchmark data with
+    faults that come and go, bedside.checks.benchmark.engine_frames) and are handed
+    to the app's own frame handler (what a FrameArrived message runs), then the app
+    is left to settle: layout, render, repaint. Per frame: wall time of handler +
+    settle, the thread's CPU time of the same, and the handler alone. The head map
+    gets a sunflower layout for the invented names E1…En. Medians over the frames.
+    """
+    import asyncio
+    import math
+    import statistics
+    import time
+
+    from bedside.checks.benchmark import engine_frames
+    from bedside.ui.app import make_app
+    from bedside.ui.config import AppConfig
+    from bedside.ui.feed import FrameArrived
+
+    n_frames = 12 if quick else 40
+    frames = engine_frames(n_channels, 256.0, n_frames + 2)
+    names = [ch.name for ch in frames[0].channels]
+    n = len(names)
+    points = {
+        nm: (0.95 * math.sqrt((i + 0.5) / n) * math.cos(i * 2.39996),
+             0.95 * math.sqrt((i + 0.5) / n) * math.sin(i * 2.39996))
+        for i, nm in enumerate(names)
+    }
+    wall: list[float] = []
+    cpu: list[float] = []
+    handler: list[float] = []
+
+    async def drive() -> None:
+        app = make_app(AppConfig(discover=False, start_view="watch"))
+        async with app.run_test(size=size) as pilot:
+            await pilot.pause()
+            app.views["watch"].set_points(points)
+            await pilot.pause()
+            for k, frame in enumerate(frames):
+                c0, t0 = time.thread_time(), time.perf_counter()
+                app.on_frame_arrived(FrameArrived(frame))
+                t1 = time.perf_counter()
+                await pilot.pause()
+                if k >= 2:  # the first two frames build the table
+                    wall.append(time.perf_counter() - t0)
+                    cpu.append(time.thread_time() - c0)
+                    handler.append(t1 - t0)
+
+    asyncio.run(drive())
+    return {
+        "channels": n_channels, "size": list(size), "frames": len(wall),
+        "ui_frame_ms": statistics.median(wall) * 1e3,
+        "ui_frame_cpu_ms": statistics.median(cpu) * 1e3,
+        "handler_ms": statistics.median(handler) * 1e3,
+        "max_ms": max(wall) * 1e3,
+    }
+
+
 def measure(quick: bool) -> dict[str, Any]:
     import numpy as np
 
@@ -76,10 +144,16 @@ def measure(quick: bool) -> dict[str, Any]:
     with tempfile.TemporaryDirectory() as tmp:
         latency = fault_latency(latency_scenario_path(Path(tmp)))
     memory = memory_run(600.0 if quick else 3600.0)
+    try:
+        ui: dict[str, Any] | None = ui_frame(quick)
+    except ImportError as exc:  # the UI's packages are not installed: the rest still counts
+        print(f"WARNING: UI frame not measured: {exc}", file=sys.stderr)
+        ui = None
     import scipy
 
     return {"machine": {**machine(), "numpy": np.__version__, "scipy": scipy.__version__},
-            "quick": quick, "speed": speed, "latency": latency, "memory": memory, "targets": TARGETS}
+            "quick": quick, "speed": speed, "latency": latency, "memory": memory, "ui": ui,
+            "targets": TARGETS}
 
 
 def _f(v: object, spec: str) -> str:
@@ -117,6 +191,14 @@ def as_table(report: dict[str, Any]) -> str:
               f"({mem['channels']} ch @ {mem['rate_hz']:.0f} Hz) in {mem['wall_s']:.1f} s "
               f"({mem['speedup']:.0f}× real time): RSS {mem['rss_after_60s_mb']:.1f} → {mem['rss_end_mb']:.1f} MB "
               f"(growth {mem['rss_growth_mb']:+.1f} MB; target ≤ {t['rss_growth_mb']} MB)"]
+    ui = report.get("ui")
+    if ui:
+        lines += ["", f"UI: one frame applied and the screen refreshed, {ui['channels']} channels, headless "
+                  f"{ui['size'][0]}×{ui['size'][1]}, median of {ui['frames']} frames: "
+                  f"{ui['ui_frame_ms']:.1f} ms wall ({ui['ui_frame_cpu_ms']:.1f} ms CPU; handler alone "
+                  f"{ui['handler_ms']:.1f} ms; max {ui['max_ms']:.0f} ms); target ≤ {t['ui_frame_ms']} ms"]
+    else:
+        lines += ["", "UI: not measured (see the warning above)"]
     return "\n".join(lines)
 
 
