@@ -72,7 +72,7 @@ def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) ->
     ``mask`` (power-weighted: one loose electrode is enough to tell); else None."""
     if not mask.any():
         return None
-    summed = Spectrum(spec.freqs_hz, spec.psd_uv2_per_hz[:, mask].sum(axis=1, keepdims=True),
+    summed = Spectrum(spec.freqs_hz, (spec.psd_uv2_per_hz @ mask.astype(float))[:, None],
                       spec.n_segments, spec.span, spec.nyquist)
     best, best_db = None, settings.line_noise.detect_prominence_db
     for f0 in MAINS_CANDIDATES_HZ:
@@ -91,9 +91,8 @@ def evaluate(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckRe
         # Mains not known yet: judge each channel by the worse of the two families.
         m50 = family_metrics(spec, 50.0, settings)
         m60 = family_metrics(spec, 60.0, settings)
-        use60 = np.nan_to_num(m60["line_noise_db"], nan=-np.inf) > np.nan_to_num(
-            m50["line_noise_db"], nan=-np.inf
-        )
+        d50, d60 = m50["line_noise_db"], m60["line_noise_db"]
+        use60 = (d60 > d50) | (np.isnan(d50) & ~np.isnan(d60))  # NaN counts as the lower
         m = {k: np.where(use60, m60[k], m50[k]) for k in m50}
         f0s = np.where(use60, 60.0, 50.0)
     db = m["line_noise_db"]

@@ -40,25 +40,13 @@ class Spectrum:
     def df_hz(self) -> float:
         return float(self.freqs_hz[1] - self.freqs_hz[0])
 
-    def _cumulative(self, upto: int) -> np.ndarray:
-        """(C, upto+1) running sums of the PSD over the first ``upto`` bins (grown on
-        demand: the checks only look below a few hundred Hz), so any band costs O(C)."""
-        f = self.psd_uv2_per_hz.shape[0]
-        upto = min(upto, f)
-        cache = self.__dict__.get("_cum")
-        if cache is None or cache.shape[1] - 1 < upto:
-            upto = min(f, max(upto, 2 * (cache.shape[1] - 1) if cache is not None else upto))
-            psd_cf = self.psd_uv2_per_hz.T
-            cache = np.zeros((psd_cf.shape[0], upto + 1))
-            np.cumsum(psd_cf[:, :upto], axis=1, out=cache[:, 1:])
-            self.__dict__["_cum"] = cache  # frozen dataclass: cache beside the fields
-        return cache
-
     def band_powers(self, bands: tuple[tuple[float, float], ...]) -> np.ndarray:
-        """Power in µV² of each band (bins whose centre lies in [low, high]): (C, n_bands)."""
-        i0, i1 = band_index(len(self.freqs_hz), self.df_hz, bands)
-        c = self._cumulative(max(int(i1.max()) if len(i1) else 0, 256))
-        return (c[:, i1] - c[:, i0]) * self.df_hz
+        """Power in µV² of each band (bins whose centre lies in [low, high]): (C, n_bands).
+
+        One matrix product with the bands' 0/1 bin table (cached per grid and bands),
+        so all bands of a check cost one pass over the spectrum."""
+        table = band_table(len(self.freqs_hz), self.df_hz, bands)
+        return np.asarray(self.psd_uv2_per_hz.T @ table) * self.df_hz
 
     def band_power(self, lo_hz: float, hi_hz: float) -> np.ndarray:
         """Power in µV² over the bins whose centre lies in [lo_hz, hi_hz], per channel (C,)."""
@@ -79,6 +67,17 @@ def band_index(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...
     i0 = np.searchsorted(f, lo - 1e-9, side="left")
     i1 = np.maximum(np.searchsorted(f, hi + 1e-9, side="right"), i0)
     return i0, i1
+
+
+@lru_cache(maxsize=512)
+def band_table(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...]) -> np.ndarray:
+    """(n_freqs, n_bands) 0/1: bin k belongs to band b (read-only; cached like band_index)."""
+    i0, i1 = band_index(n_freqs, df_hz, bands)
+    table = np.zeros((n_freqs, len(bands)))
+    for b, (lo, hi) in enumerate(zip(i0.tolist(), i1.tolist(), strict=True)):
+        table[lo:hi, b] = 1.0
+    table.flags.writeable = False
+    return table
 
 
 def periodogram_scale(window: np.ndarray, rate_hz: float) -> float:
