@@ -83,11 +83,27 @@ class OutletSpec:
         return len(self.channels)
 
 
+def _check_text(what: str, text: str) -> None:
+    """liblsl takes UTF-8 text without NUL bytes; anything else is refused here, clearly
+    (a NUL or a byte that is not UTF-8 typed on the command line would otherwise fail
+    inside pylsl with a message about its internals)."""
+    if "\x00" in text:
+        raise InputError(f"the stream's {what} {text!r} contains a NUL character; use letters, digits, '-' or '_'")
+    try:
+        text.encode("utf-8")
+    except UnicodeEncodeError:
+        raise InputError(
+            f"the stream's {what} {text!r} is not valid UTF-8 text; use letters, digits, '-' or '_'"
+        ) from None
+
+
 def build_stream_info(spec: OutletSpec) -> Any:
     """A pylsl.StreamInfo (float32) with the full metadata of ``spec``."""
     pylsl = import_pylsl()
     if not spec.source_id:
         raise InputError("a stream needs a source_id (an empty one can never be recovered)")
+    for what, text in (("name", spec.name), ("source_id", spec.source_id)):
+        _check_text(what, text)
     info = pylsl.StreamInfo(
         spec.name, spec.stream_type, spec.n_channels, spec.rate_hz, pylsl.cf_float32, spec.source_id
     )

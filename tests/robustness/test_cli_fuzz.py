@@ -147,7 +147,8 @@ _JUNK = st.one_of(
     st.text(alphabet=st.characters(codec="utf-8"), max_size=6).map(lambda t: (t,)),
 )
 _TEXT = st.one_of(
-    st.sampled_from(["", " ", "a b", "é" * 3, "x" * 300, "../../etc", "-dash", "\t"]),
+    # "\udcff": a byte that is not UTF-8, as Python hands it over from the command line.
+    st.sampled_from(["", " ", "a b", "é" * 3, "x" * 300, "../../etc", "-dash", "\t", "a\udcff"]),
     st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc")), max_size=10),
 )
 
@@ -380,3 +381,18 @@ def test_a_crawling_speed_is_refused_not_run_for_hours(capsys: pytest.CaptureFix
     code, out, err = _run(capsys, argv)
     assert code == 2 and out == ""
     assert "--speed must be at least 0.01, got '0.001'" in err
+
+
+@pytest.mark.parametrize("bad", ["a\x00b", "bed\udcff"])
+@pytest.mark.parametrize("option", ["--name", "--source-id"])
+def test_a_stream_name_liblsl_cannot_take_is_refused_in_plain_words(
+    capsys: pytest.CaptureFixture[str], option: str, bad: str
+) -> None:
+    """Found by this audit: a NUL or a non-UTF-8 byte in --name/--source-id failed inside
+    pylsl ("could not create stream description object", a stray deletion error)."""
+    argv = ["simulate", "clean", "--duration", "0.05", option, bad]
+    code, out, err = _run(capsys, argv)
+    assert code == 2 and out == ""
+    what = "name" if option == "--name" else "source_id"
+    assert err.startswith(f"error: the stream's {what} ") and "use letters, digits" in err, err
+    assert "StreamInfo" not in err
