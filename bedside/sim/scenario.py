@@ -333,6 +333,10 @@ def resolve_scenario_path(path_or_name: str | Path) -> Path:
     candidate = Path(text)
     if candidate.suffix in (".yaml", ".yml") or "/" in text or candidate.exists():
         if not candidate.is_file():
+            if candidate.is_dir():
+                raise ScenarioError(f"{text} is a folder; give a scenario .yaml file or a name ({', '.join(list_scenarios())})")
+            if candidate.exists():
+                raise ScenarioError(f"{text} is not a regular file; give a scenario .yaml file")
             raise ScenarioError(f"scenario file {text} not found")
         return candidate
     path = DEMO_DIR / f"{text}.yaml"

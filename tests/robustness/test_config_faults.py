@@ -318,3 +318,14 @@ def test_a_config_that_is_not_a_file_is_refused_unread(
     out, err = capsys.readouterr()
     assert code == 2 and out == "" and calls == []
     assert err.startswith("error: ") and ("regular file" in err or "folder" in err or "file name" in err), err
+
+
+@pytest.mark.parametrize(("bad", "words"), [("/dev/zero", "is not a regular file"), ("/", "is a folder")])
+def test_a_scenario_path_that_is_not_a_file_says_what_it_is(
+    capsys: pytest.CaptureFixture[str], bad: str, words: str
+) -> None:
+    """It used to say "not found" for a path that exists (a device, a folder)."""
+    code = main(["simulate", bad, "--duration", "0.05"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: {bad} {words}"), err
