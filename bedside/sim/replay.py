@@ -91,6 +91,10 @@ def load_recording(path: str | Path) -> Recording:
             + ", ".join(sorted(FORMATS))
         )
     if not path.is_file():
+        if path.is_dir():
+            raise ScenarioError(f"{path}: is a folder, not a recording")
+        if path.exists():
+            raise ScenarioError(f"{path}: not a regular file (a device or a pipe); give a recording file")
         raise ScenarioError(f"{path}: file not found")
     rec = _load_edf(path) if kind == "EDF" else _load_xdf(path)
     if rec.n_samples == 0:

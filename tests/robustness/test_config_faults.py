@@ -329,3 +329,19 @@ def test_a_scenario_path_that_is_not_a_file_says_what_it_is(
     out, err = capsys.readouterr()
     assert code == 2 and out == ""
     assert err.startswith(f"error: {bad} {words}"), err
+
+
+@pytest.mark.parametrize(("target", "words"), [("/dev/zero", "not a regular file"), ("folder", "is a folder")])
+def test_a_replay_path_that_is_not_a_file_says_what_it_is(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], target: str, words: str
+) -> None:
+    """A recording named .edf that is a device or a folder: said, never read."""
+    path = tmp_path / "night.edf"
+    if target == "folder":
+        path.mkdir()
+    else:
+        path.symlink_to(target)
+    code = main(["replay", str(path)])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    assert err.startswith(f"error: {path}: {words}"), err
