@@ -16,6 +16,7 @@ import math
 import time
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
+from itertools import repeat
 
 import numpy as np
 
@@ -269,15 +270,13 @@ class Engine:
         check_names = tuple(per_check)
         check_dicts = self._check_dicts(check_names, per_check)
         shown_levels = [_LEVELS[v] for v in shown.tolist()]
-        chans = [
-            _channel(name, level, dict(zip(names, row, strict=False)), tuple(why), scalp, checks.copy())
-            for name, level, row, why, scalp, checks in zip(
-                self.names, shown_levels, table, shown_reasons, self._scalp_list, check_dicts,
-                strict=True,
-            )
-        ]
+        # map() over the columns: the same objects as a comprehension, less interpreter work.
+        chans = tuple(map(
+            _channel, self.names, shown_levels, map(dict, map(zip, repeat(names), table)),
+            map(tuple, shown_reasons), self._scalp_list, map(dict.copy, check_dicts),
+        ))
         return QualityFrame(
-            self._last_time, time.time(), tuple(chans), findings, health, self.settings.window_s,
+            self._last_time, time.time(), chans, findings, health, self.settings.window_s,
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
 

@@ -146,7 +146,6 @@ class SpectralAccumulator:
         # (see _complete); needs the two halves to tile the segment (even length).
         self._freq_window = segment % 2 == 0 and segment >= 4
         if self._freq_window:
-            self._ext = np.zeros((n_channels, f + 2), dtype=np.complex128)
             self._side = np.zeros((n_channels, f), dtype=np.complex128)
         else:
             self._work = np.zeros((n_channels, self.segment))
@@ -216,17 +215,15 @@ class SpectralAccumulator:
         kk = self._keep
         y = sp_fft.rfft(self._seg, axis=1)  # (C, N/2 + 1)
         y[:, 0] = 0.0  # constant detrend
-        ext, side = self._ext, self._side
-        ext[:, 1 : kk + 1] = y[:, :kk]
-        np.conjugate(y[:, 1], out=ext[:, 0])  # X[−1] = conj(X[1]) for real input
-        if kk < y.shape[1]:
-            ext[:, kk + 1] = y[:, kk]
-        else:  # the Nyquist bin is kept: X[N/2 + 1] = conj(X[N/2 − 1])
-            np.conjugate(y[:, -2], out=ext[:, kk + 1])
-        np.add(ext[:, :kk], ext[:, 2:], out=side)
+        side = self._side  # X[k − 1] + X[k + 1]
+        m = min(kk, y.shape[1] - 1)  # bins 1 … m−1 have both neighbours in y
+        np.add(y[:, : m - 1], y[:, 2 : m + 1], out=side[:, 1:m])
+        side[:, 0] = 2.0 * y[:, 1].real  # X[−1] + X[1] = conj(X[1]) + X[1] for real input
+        if kk > m:  # the Nyquist bin is kept: X[N/2 + 1] = conj(X[N/2 − 1])
+            side[:, m] = 2.0 * y[:, m - 1].real
         rotated = self._half == 0  # the newer half is the first: [new | old]
         side *= 0.5 if rotated else -0.5
-        side += ext[:, 1 : kk + 1]
+        side += y[:, :kk]
         np.square(side.real, out=p)
         np.square(side.imag, out=self._tmp)
         p += self._tmp
