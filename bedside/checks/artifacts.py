@@ -23,9 +23,18 @@ from bedside.checks.spectrum import Spectrum
 from bedside.checks.window_stats import WindowStats
 
 
+def _median_rows(a: np.ndarray) -> np.ndarray:
+    """np.median(a, axis=0) for a (K, C) without NaN, by one sort (faster on short columns)."""
+    k = a.shape[0]
+    if k == 0:
+        return np.full(a.shape[1], np.nan)
+    s = np.sort(a, axis=0)
+    return s[k // 2] if k % 2 else (s[k // 2 - 1] + s[k // 2]) / 2.0
+
+
 def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
-    typical = np.median(stats.step_rms_uv, axis=0)
+    typical = _median_rows(stats.step_rms_uv)
     # Isolated: far above the window's typical step and above the rest of its own block
     # (muscle makes many large steps; a pop is one).
     limit = np.maximum(

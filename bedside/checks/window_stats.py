@@ -148,10 +148,10 @@ class BlockStats:
         steps = self._steps
         steps[0] = x[0] - self._last if self._have_last else 0.0
         np.subtract(x[1:], x[:-1], out=steps[1:])
-        np.abs(steps, out=steps)
         st = steps[k0:]
-        step_min = st.min(axis=0) if len(st) else np.ones(x.shape[1])
-        if (step_min == 0.0).any():  # some channel repeats a value: count where
+        # Signed steps: max |step| = max(max, −min), no |·| pass; a repeated value is a zero step.
+        step_max = np.maximum(steps.max(axis=0), -steps.min(axis=0))
+        if np.count_nonzero(st) < st.size:  # some channel repeats a value: count where
             still = st == 0.0
             n_still = still.sum(axis=0)
             xs = x[k0:]
@@ -164,7 +164,7 @@ class BlockStats:
             clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
         self.means[slot] = mean
         self.maxs[slot], self.mins[slot] = mx, mn
-        self.step_max[slot] = steps.max(axis=0)
+        self.step_max[slot] = step_max
         self.step_ss[slot] = np.einsum("ij,ij->j", steps, steps)
         self.zero_diffs[slot] = n_still
         self.clipped[slot] = clipped
