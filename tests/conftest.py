@@ -8,10 +8,14 @@ pylsl. The Makefile sets it too.
 from __future__ import annotations
 
 import os
+import tempfile
 from pathlib import Path
 
 _CFG = Path(__file__).with_name("lsl_api.cfg")
 os.environ.setdefault("LSLAPICFG", str(_CFG))
+# Rescue copies of logs that could not be saved go under XDG_STATE_HOME: keep the
+# suite's own (and its subprocesses') out of the user's home.
+os.environ["XDG_STATE_HOME"] = tempfile.mkdtemp(prefix="bedside-test-state-")
 # A fixed hypothesis profile: bounded time on a shared 2-core machine.
 try:
     from hypothesis import HealthCheck, settings
