@@ -146,6 +146,9 @@ class Engine:
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
         )
         self._check_proto: dict[tuple[str, ...], dict[int, dict[str, str]]] = {}
+        self._spec_gen = 0  # bumped by reset(): segment counts restart
+        self._detect_key: tuple[int, int, bytes] | None = None
+        self._spectral: tuple[tuple[object, ...], CheckResult, CheckResult, tuple[Finding, ...]] | None = None
         self._cache_key = -1
         self._cache: tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]] | None = None
 
@@ -214,6 +217,9 @@ class Engine:
         self._n_pending = 0
         self._hold.reset()
         self._fhold.reset()
+        self._spec_gen += 1
+        self._detect_key = None
+        self._spectral = None
         self._cache_key = -1
         self._cache = None
 
@@ -318,7 +324,12 @@ class Engine:
         )
         flat_res = flat.evaluate(stats, all_ctx, s)
         valid = self.scalp & finite & (flat_res.level < BAD)
-        if s.line_noise.mains == "auto" and self._mains_hz is None:
+        # The spectra change only when a segment completes (every other update at the
+        # default sizes): what depends on them alone is reused until then, for the
+        # same channels (valid) and mains — the same inputs give the same results.
+        spec_key = (self._spec_gen, self._spec.count, valid.tobytes())
+        if s.line_noise.mains == "auto" and self._mains_hz is None and self._detect_key != spec_key:
+            self._detect_key = spec_key
             found = line_noise.detect_mains(spec, s, valid)
             if found is not None:
                 self._mains_hz = found
@@ -327,14 +338,23 @@ class Engine:
             self.names, self.scalp, valid, self.neighbours, self.rate_hz,
             s.window_s, self.amplifier_range_uv, self._mains_hz,
         )
+        memo_key = (*spec_key, self._mains_hz)
+        if self._spectral is None or self._spectral[0] != memo_key:
+            self._spectral = (
+                memo_key,
+                line_noise.evaluate(recent, ctx, s),
+                artifacts.muscle(spec, ctx, s),
+                placement_sanity.evaluate(spec, self.names, valid, s),
+            )
+        _key, line_res, muscle_res, placement_findings = self._spectral
         results: dict[str, CheckResult] = {
             "flat": flat_res,
-            "line_noise": line_noise.evaluate(recent, ctx, s),
+            "line_noise": line_res,
             "drift": drift.evaluate(stats, ctx, s),
             "bridging": bridging.evaluate(stats, ctx, s),
             "pops": artifacts.pops(stats, ctx, s),
             "clipping": artifacts.clipping(stats, ctx, s),
-            "muscle": artifacts.muscle(spec, ctx, s),
+            "muscle": muscle_res,
             "amplitude": artifacts.amplitude(stats, ctx, s),
         }
         results, shared = reference.evaluate(results, ctx, finite, s)
@@ -365,5 +385,5 @@ class Engine:
                 metrics.setdefault(k, np.asarray(v, dtype=float))
         findings = [f for res in results.values() for f in res.findings]
         findings.extend(shared)
-        findings.extend(placement_sanity.evaluate(spec, self.names, valid, s))
+        findings.extend(placement_findings)
         return level, reasons, per_check, metrics, tuple(findings)
