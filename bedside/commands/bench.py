@@ -13,7 +13,7 @@ and friends), so every figure is a share of one core. JSON (``--format json``):
 ``{"machine": {...}, "speed": [rows with channels, rate_hz, engine_ms, engine_mean_ms, floor_ms,
 naive_ms, reference_ms, engine/floor, naive/engine, reference/engine, core_share],
 "latency": [...], "memory": {...}, "ui": {channels, size, frames, ui_frame_ms,
-ui_frame_cpu_ms, handler_ms, max_ms} or null, "targets": {...}}``.
+ui_frame_cpu_ms, handler_ms, max_ms, idle_settle_ms} or null, "targets": {...}}``.
 """
 
 from __future__ import annotations
@@ -77,7 +77,8 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
     faults that come and go, bedside.checks.benchmark.engine_frames) and are handed
     to the app's own frame handler (what a FrameArrived message runs), then the app
     is left to settle: layout, render, repaint. Per frame: wall time of handler +
-    settle, the thread's CPU time of the same, and the handler alone. The head map
+    settle, the thread's CPU time of the same, and the handler alone; and, for
+    scale, one more settle with no new frame (what the harness itself costs). The head map
     gets a sunflower layout for the invented names E1…En. Medians over the frames.
     """
     import asyncio
@@ -102,6 +103,7 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
     wall: list[float] = []
     cpu: list[float] = []
     handler: list[float] = []
+    idle: list[float] = []
 
     async def drive() -> None:
         app = make_app(AppConfig(discover=False, start_view="watch"))
@@ -118,6 +120,9 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
                     wall.append(time.perf_counter() - t0)
                     cpu.append(time.thread_time() - c0)
                     handler.append(t1 - t0)
+                    t2 = time.perf_counter()
+                    await pilot.pause()  # settling with no new frame: the harness's own cost
+                    idle.append(time.perf_counter() - t2)
 
     asyncio.run(drive())
     return {
@@ -126,6 +131,7 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
         "ui_frame_cpu_ms": statistics.median(cpu) * 1e3,
         "handler_ms": statistics.median(handler) * 1e3,
         "max_ms": max(wall) * 1e3,
+        "idle_settle_ms": statistics.median(idle) * 1e3,
     }
 
 
@@ -197,7 +203,8 @@ def as_table(report: dict[str, Any]) -> str:
         lines += ["", f"UI: one frame applied and the screen refreshed, {ui['channels']} channels, headless "
                   f"{ui['size'][0]}×{ui['size'][1]}, median of {ui['frames']} frames: "
                   f"{ui['ui_frame_ms']:.1f} ms wall ({ui['ui_frame_cpu_ms']:.1f} ms CPU; handler alone "
-                  f"{ui['handler_ms']:.1f} ms; max {ui['max_ms']:.0f} ms); target ≤ {t['ui_frame_ms']} ms"]
+                  f"{ui['handler_ms']:.1f} ms; max {ui['max_ms']:.0f} ms; settling with no new frame "
+                  f"{ui.get('idle_settle_ms', float('nan')):.1f} ms); target ≤ {t['ui_frame_ms']} ms"]
     else:
         lines += ["", "UI: not measured (see the warning above)"]
     return "\n".join(lines)
