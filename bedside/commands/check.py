@@ -70,6 +70,10 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     )
     p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
     p.add_argument("--config", metavar="PATH", help="a quality.yaml to use instead of the shipped one")
+    log = p.add_argument_group("setup log (the same log the app keeps; an existing one is resumed)")
+    log.add_argument("--log", metavar="PATH", help="record this check into the setup log at PATH (YAML)")
+    log.add_argument("--subject", metavar="ID", default="", help="pseudonymous subject/study ID, e.g. W3-017")
+    log.add_argument("--technologist", metavar="INITIALS", default="", help="e.g. JMK")
     p.set_defaults(func=run)
 
 
@@ -177,10 +181,23 @@ def run(args: argparse.Namespace) -> int:
             f"--seconds must be at least {settings.min_data_s:g} (the checks need that much data; "
             f"min_data_s in quality.yaml), got {args.seconds:g}"
         )
+    from bedside.checks.settings import DEFAULT_PATH
+    from bedside.record.ids import validate_initials, validate_subject_id
+    from bedside.record.session import optional_recorder
+
+    if args.log:  # a bad ID or initials: say so before looking for the stream
+        validate_initials(args.technologist)
+        validate_subject_id(args.subject)
     prepare_lsl()
     identity = resolve_one(args.stream, args.source_id, args.host, wait_s=args.wait)
     consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
-    with LslSource(identity) as source:
+    with optional_recorder(
+        args.log, technologist=args.technologist, subject_id=args.subject,
+        config_paths=[args.config or DEFAULT_PATH],
+    ) as recorder, LslSource(identity) as source:
+        if recorder is not None:
+            recorder.set_stream(source.identity, source.channels)
+            consumers.append(recorder.on_frame)
         frame, lost, error = collect(source, settings, args.seconds, consumers)
         identity = source.identity
     if error is not None:
