@@ -11,7 +11,7 @@ import argparse
 import uuid
 
 from bedside.cautions import CAUTIONS
-from bedside.commands._common import positive_float
+from bedside.commands._common import MIN_SPEED, positive_float
 from bedside.commands.watch import add_app_options, app_config, run_app
 
 NAME = "demo"
@@ -28,8 +28,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("scenario", nargs="?", default=None, help="scenario name or file (default: the ward demo)")
-    p.add_argument("--speed", metavar="X", type=positive_float("--speed"), default=1.0,
-                   help="play the scenario X times faster (default 1)")
+    p.add_argument("--speed", metavar="X", type=positive_float("--speed", minimum=MIN_SPEED),
+                   default=1.0, help=f"play the scenario X times faster (default 1; at least {MIN_SPEED})")
     add_app_options(p)
     p.set_defaults(func=run, no_log=False)
 
@@ -40,10 +40,11 @@ def run(args: argparse.Namespace) -> int:
     from bedside.sim.scenario import load_scenario
     from bedside.stream.lsl import prepare_lsl
 
+    # The scenario first: a bad one is refused before anything is created on disk.
+    scenario = load_scenario(args.scenario) if args.scenario else load_scenario()
     log_file = lsl_log_file()
     log_file.parent.mkdir(parents=True, exist_ok=True)
     prepare_lsl(log_to=log_file)
-    scenario = load_scenario(args.scenario) if args.scenario else load_scenario()
     name = f"bedside-demo-{uuid.uuid4().hex[:6]}"
     if not args.subject:
         args.subject = "DEMO-001"

@@ -396,3 +396,17 @@ def test_a_stream_name_liblsl_cannot_take_is_refused_in_plain_words(
     what = "name" if option == "--name" else "source_id"
     assert err.startswith(f"error: the stream's {what} ") and "use letters, digits" in err, err
     assert "StreamInfo" not in err
+
+
+def test_demo_refuses_a_speed_too_slow_to_ever_send(tmp_path, monkeypatch) -> None:
+    """--speed below the shared minimum is an error, and nothing is created on disk."""
+    import pytest as _pytest
+
+    from bedside.cli import main
+
+    monkeypatch.chdir(tmp_path)
+    with _pytest.raises(SystemExit) as exc:
+        main(["demo", "--speed", "1e-300", "--no-log"])
+    assert exc.value.code == 2
+    assert main(["demo", "no-such-scenario", "--no-log"]) == 2
+    assert not (tmp_path / "bedside-logs").exists()
