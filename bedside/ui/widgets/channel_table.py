@@ -1,14 +1,22 @@
 """The compact per-channel table: state, one value per check, time to good, reason.
 
-Rows are keyed by channel name and columns by metric name; each frame is applied
-as one batch of ``update_cell(..., update_width=False)`` (rebuilding rows per tick is
-twice as slow at 256 channels). The table scrolls and pages (PgUp/PgDn).
+Rows are keyed by channel name and columns by metric name. A frame writes only the
+cells whose shown text or colour changed, and only those cells are rendered again:
+DataTable keys all its render caches on one table-wide update count, so a single
+``update_cell`` would make every visible cell render afresh. Here each changed cell
+gets its own stamp and the render caches are keyed on (layout, stamp) instead — see
+:meth:`ChannelTable._render_cell`. The table scrolls and pages (PgUp/PgDn).
 """
 
 from __future__ import annotations
 
+from typing import Any
+
+from rich.style import Style
 from rich.text import Text
+from textual.coordinate import Coordinate
 from textual.widgets import DataTable
+from textual.widgets.data_table import ColumnKey, RowKey
 
 from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
 
@@ -101,6 +109,13 @@ class ChannelTable(DataTable[object]):
         self._names: tuple[str, ...] = ()
         self._columns: tuple[tuple[str, str, str, float], ...] = ()
         self._shown: dict[tuple[str, str], tuple[str, str]] = {}
+        # Render-cache bookkeeping (see _render_cell): a stamp per changed cell and row,
+        # and how many times show() itself bumped DataTable's update count.
+        self._stamp = 0
+        self._cell_stamp: dict[tuple[Any, Any], int] = {}
+        self._row_stamp: dict[Any, int] = {}
+        self._own_bumps = 0
+        self._dirty_rows: set[str] = set()
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -122,14 +137,92 @@ class ChannelTable(DataTable[object]):
             self.add_row(name, "", "—", "", *([""] * len(columns)), key=name)
         self._names, self._columns = names, columns
         self._shown.clear()
+        self._cell_stamp.clear()
+        self._row_stamp.clear()
 
     def _set(self, row: str, column: str, value: Text | str) -> None:
-        """update_cell only when what is shown changes (most cells hold still between frames)."""
+        """Write a cell only when what is shown changes (most cells hold still between frames).
+
+        The value goes straight into the table's data (what ``get_cell`` reads) and the
+        cell gets a fresh stamp, so only it renders again; :meth:`show` then repaints
+        the changed rows once.
+        """
         key = (value.plain, str(value.style)) if isinstance(value, Text) else (value, "")
         if self._shown.get((row, column)) == key:
             return
         self._shown[(row, column)] = key
-        self.update_cell(row, column, value, update_width=False)
+        row_key, column_key = RowKey(row), ColumnKey(column)
+        self._data[row_key][column_key] = value
+        self._stamp += 1
+        self._cell_stamp[(row_key, column_key)] = self._stamp
+        self._row_stamp[row_key] = self._stamp
+        self._dirty_rows.add(row)
+
+    # --- rendering: per-cell cache stamps -------------------------------------------
+    def _layout_count(self) -> int:
+        """DataTable's update count without show()'s own bumps: it moves when rows,
+        columns, widths, sort order or the widget's size change (then all renders go)."""
+        count: Any = self._update_count
+        if isinstance(count, tuple):  # inside a row render: already swapped
+            return int(count[0])
+        return int(count) - self._own_bumps
+
+    def _render_cell(
+        self,
+        row_index: int,
+        column_index: int,
+        base_style: Style,
+        width: int,
+        cursor: bool = False,
+        hover: bool = False,
+    ) -> Any:
+        """DataTable's own cell render, cached per cell: the update count it keys on is
+        swapped, for this call only, for (layout count, this cell's stamp)."""
+        if column_index < 0:  # row labels (not used here)
+            return super()._render_cell(row_index, column_index, base_style, width, cursor, hover)
+        row_key = self._row_locations.get_key(row_index)
+        column_key = self._column_locations.get_key(column_index)
+        real = self._update_count
+        self._update_count = (self._layout_count(), self._cell_stamp.get((row_key, column_key), 0))  # type: ignore[assignment]
+        try:
+            return super()._render_cell(row_index, column_index, base_style, width, cursor, hover)
+        finally:
+            self._update_count = real
+
+    def _render_line_in_row(
+        self,
+        row_key: RowKey,
+        line_no: int,
+        base_style: Style,
+        cursor_location: Coordinate,
+        hover_location: Coordinate,
+    ) -> Any:
+        """DataTable's own row render, cached per row the same way (row stamp, width);
+        the header row has stamp 0 (it changes only with the layout)."""
+        real = self._update_count
+        self._update_count = (  # type: ignore[assignment]
+            self._layout_count(), self._row_stamp.get(row_key, 0), self.size.width
+        )
+        try:
+            return super()._render_line_in_row(row_key, line_no, base_style, cursor_location, hover_location)
+        finally:
+            self._update_count = real
+
+    def _repaint(self) -> None:
+        """Repaint the rows written since the last repaint (line cache moves on once)."""
+        if not self._dirty_rows:
+            return
+        self._update_count += 1
+        self._own_bumps += 1
+        rows = self._dirty_rows
+        self._dirty_rows = set()
+        if len(rows) * 4 > len(self._names):
+            self.refresh()
+            return
+        for row in rows:
+            index = self._row_locations.get(RowKey(row))
+            if index is not None:
+                self.refresh_row(index)
 
     def show(self, frame: QualityFrame, live: bool, time_to_good_s: dict[str, float]) -> None:
         """Apply one frame (a batch of cell updates; a new layout rebuilds once)."""
@@ -142,6 +235,7 @@ class ChannelTable(DataTable[object]):
             self._rebuild(names, columns)
         for ch in frame.channels:
             self._update_row(ch, live, time_to_good_s.get(ch.name))
+        self._repaint()
 
     def _update_row(self, ch: ChannelQuality, live: bool, ttg: float | None) -> None:
         name = ch.name

@@ -66,13 +66,37 @@ def progress_text(progress: Progress | None, *, show_names: int = 8) -> Text:
     return out
 
 
+def same_text(a: Text | None, b: Text) -> bool:
+    """The same characters in the same styles (then a repaint would show nothing new)."""
+    return a is not None and a.plain == b.plain and a.spans == b.spans and a.style == b.style
+
+
 class Findings(Static):
+    """Height follows the text (up to the CSS max): a new layout only when the line count changes."""
+
+    _shown: Text | None = None
+
     def show(
         self, findings: tuple[Finding, ...], live: bool, selected: ChannelQuality | None = None
     ) -> None:
-        self.update(findings_text(findings, live, selected))
+        text = findings_text(findings, live, selected)
+        if same_text(self._shown, text):
+            return
+        old = self._shown
+        self._shown = text
+        layout = old is None or old.plain.count("\n") != text.plain.count("\n")
+        self.update(text, layout=layout)
 
 
 class ProgressLine(Static):
+    """One line, fixed height (app.tcss): updated in place, no new layout."""
+
+    _shown: Text | None = None
+
     def show(self, progress: Progress | None) -> None:
-        self.update(progress_text(progress))
+        text = progress_text(progress)
+        if same_text(self._shown, text):
+            return
+        first = self._shown is None
+        self._shown = text
+        self.update(text, layout=first)

@@ -98,13 +98,20 @@ class HeadMap(Widget):
         bridges: tuple[Bridge, ...] = (),
         selected: str | None = None,
     ) -> None:
-        self._levels = dict(levels)
+        """Repaint only when something drawn changes (levels, live, bridges, selection):
+        a frame whose levels hold still costs nothing here."""
+        levels = dict(levels)
+        if (levels, live, bridges, selected) == (self._levels, self._live, self._bridges, self._selected):
+            return
+        self._levels = levels
         self._live = live
         self._bridges = bridges
         self._selected = selected
         self.refresh()
 
     def select(self, name: str | None) -> None:
+        if name == self._selected:
+            return
         self._selected = name
         self.refresh()
 

@@ -6,6 +6,7 @@ from rich.text import Text
 from textual.widgets import Static
 
 from bedside.stream.types import StreamHealth, StreamIdentity
+from bedside.ui.widgets.findings import same_text
 
 #: state → (symbol, colour, words). Symbol and word always come with the colour.
 STATE_LOOK = {
@@ -67,7 +68,13 @@ def status_text(
 
 
 class StreamStatus(Static):
-    """Shows :func:`status_text`; the watch screen calls :meth:`show` on every frame."""
+    """Shows :func:`status_text`; the watch screen calls :meth:`show` on every frame.
+
+    Its height is fixed (two lines, app.tcss), so a change repaints in place without
+    a new layout; an unchanged text is not repainted at all.
+    """
+
+    _shown: Text | None = None
 
     def show(
         self,
@@ -77,4 +84,9 @@ class StreamStatus(Static):
         stalled_s: float | None = None,
         note: str = "",
     ) -> None:
-        self.update(status_text(identity, health, stalled_s=stalled_s, note=note))
+        text = status_text(identity, health, stalled_s=stalled_s, note=note)
+        if same_text(self._shown, text):
+            return
+        first = self._shown is None
+        self._shown = text
+        self.update(text, layout=first)
