@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import logging
+import os
 import time
 from collections.abc import Iterator
 from pathlib import Path
@@ -129,6 +130,9 @@ def logs_off_the_screen(path: Path) -> Iterator[None]:
                and not isinstance(h, logging.FileHandler)]
     for h in streams:
         root.removeHandler(h)
+    # Owner-only, like the setup log: log lines can name the subject's stream and files.
+    os.close(os.open(path, os.O_WRONLY | os.O_CREAT | os.O_APPEND, 0o600))
+    os.chmod(path, 0o600)
     file_handler = logging.FileHandler(path, encoding="utf-8")
     file_handler.setFormatter(logging.Formatter("%(asctime)s %(levelname)s %(name)s: %(message)s"))
     root.addHandler(file_handler)

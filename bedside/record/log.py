@@ -20,6 +20,7 @@ import dataclasses
 import difflib
 import json
 import re
+import stat
 import types
 import typing
 from dataclasses import dataclass, field
@@ -418,7 +419,13 @@ def load_log(path: Path | str) -> SetupLog:
     """Read a setup log file; RecordError names the file and what is wrong with it."""
     path = Path(path)
     try:
-        size = path.stat().st_size
+        info = path.stat()
+        if stat.S_ISDIR(info.st_mode):
+            raise RecordError(f"{path}: is a folder, not a log file")
+        if not stat.S_ISREG(info.st_mode):
+            # A device or a pipe (e.g. /dev/zero) would be read without end.
+            raise RecordError(f"{path}: is not a regular file (a device or a pipe?); not a setup log")
+        size = info.st_size
         if size > MAX_LOG_BYTES:
             raise RecordError(
                 f"{path}: {size / 1e6:.0f} MB is far larger than any setup log "

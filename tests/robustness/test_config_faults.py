@@ -345,3 +345,30 @@ def test_a_replay_path_that_is_not_a_file_says_what_it_is(
     out, err = capsys.readouterr()
     assert code == 2 and out == ""
     assert err.startswith(f"error: {path}: {words}"), err
+
+
+def test_a_log_that_is_a_device_is_refused_unread(tmp_path) -> None:
+    """`bedside report /dev/zero` must not read forever (a device has st_size 0)."""
+    import subprocess
+    import sys
+
+    proc = subprocess.run(
+        [sys.executable, "-m", "bedside", "report", "/dev/zero"],
+        capture_output=True, text=True, timeout=30,
+    )
+    assert proc.returncode == 2
+    assert "not a regular file" in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_the_apps_own_log_file_is_owner_only(tmp_path) -> None:
+    """While the screen is up, log lines go to a file: created 0600 like the setup log."""
+    import logging
+    import stat as _stat
+
+    from bedside.commands.watch import logs_off_the_screen
+
+    path = tmp_path / "bedside.log"
+    with logs_off_the_screen(path):
+        logging.getLogger("bedside").warning("stream W3-017 went stale")
+    assert _stat.S_IMODE(path.stat().st_mode) == 0o600
+    assert "went stale" in path.read_text(encoding="utf-8")
