@@ -98,6 +98,7 @@ def frame(
 ) -> QualityFrame:
     """A fixed frame: named channels bad/check, the rest good; optional bridge finding."""
     out = []
+    reasons: tuple[str, ...]
     for ch in channels():
         if ch.name in bad:
             level, reasons = Level.BAD, ("mains 21 dB over EEG band — re-seat or re-prepare the electrode",)
@@ -109,7 +110,7 @@ def frame(
             level, reasons = None, ("no data: stream lost",)  # type: ignore[assignment]
         metrics = {"line_noise_db": 21.0 if ch.name in bad else -12.5, "rms_uv": 14.2, "drift_uv_per_s": 3.1}
         out.append(ChannelQuality(ch.name, level, metrics, reasons, ch.is_scalp))
-    findings = ()
+    findings: tuple[Finding, ...] = ()
     if bridge is not None and state == "live":
         findings = (Finding("bridge", bridge, Level.BAD, "F3 and C3 look bridged — check for gel between them"),)
     return QualityFrame(wall_time, wall_time, tuple(out), findings, health(state), 4.0, {"mains_hz": 50.0})

@@ -106,7 +106,8 @@ async def test_picker_when_several_streams_are_visible() -> None:
     app = make_app(AppConfig(), services=si.services(streams=[a, b]))
     async with app.run_test(size=(100, 40)) as pilot:
         assert await _until(pilot, lambda: isinstance(app.screen, StreamPicker))
-        assert "bed-a" in si.screen_text(app) and "bed-b" in si.screen_text(app)
+        # (the picker is drawn at its first layout, which may come a pause later)
+        assert await _until(pilot, lambda: "bed-a" in si.screen_text(app) and "bed-b" in si.screen_text(app))
         await pilot.press("down", "enter")
         assert await _until(pilot, lambda: app.connection is not None)
         # The stand-in source reports its own identity; what was pinned is b.

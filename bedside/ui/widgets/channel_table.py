@@ -12,6 +12,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from rich.segment import Segment
 from rich.style import Style
 from rich.text import Text
 from textual.coordinate import Coordinate
@@ -19,6 +20,8 @@ from textual.widgets import DataTable
 from textual.widgets.data_table import ColumnKey, RowKey
 
 from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
+
+_NEWLINE = Text("\n")
 
 #: The level words shown on screen (machine keys stay good/check/bad).
 LEVEL_WORD = {"good": "good", "check": "check", "bad": "fix"}
@@ -116,6 +119,9 @@ class ChannelTable(DataTable[object]):
         self._row_stamp: dict[Any, int] = {}
         self._own_bumps = 0
         self._dirty_rows: set[str] = set()
+        self._renderables: dict[tuple[int, int, int], Any] = {}
+        self._columns_cache: tuple[int, list[Any]] | None = None
+        self._row_styles: dict[tuple[Any, ...], Style] = {}
 
     @property
     def names(self) -> tuple[str, ...]:
@@ -165,7 +171,12 @@ class ChannelTable(DataTable[object]):
         count: Any = self._update_count
         if isinstance(count, tuple):  # inside a row render: already swapped
             return int(count[0])
-        return int(count) - self._own_bumps
+        return int(count) - getattr(self, "_own_bumps", 0)  # (DataTable asks during __init__)
+
+    #: Render one-line cells that fit their column straight from the Text's segments
+    #: (what DataTable's Rich pipeline yields for them, character for character —
+    #: tests/ui/test_channel_table_render.py compares the two); off: DataTable's own.
+    fast_cells = True
 
     def _render_cell(
         self,
@@ -176,18 +187,110 @@ class ChannelTable(DataTable[object]):
         cursor: bool = False,
         hover: bool = False,
     ) -> Any:
-        """DataTable's own cell render, cached per cell: the update count it keys on is
+        """DataTable's cell render, cached per cell: the update count it keys on is
         swapped, for this call only, for (layout count, this cell's stamp)."""
         if column_index < 0:  # row labels (not used here)
             return super()._render_cell(row_index, column_index, base_style, width, cursor, hover)
         row_key = self._row_locations.get_key(row_index)
         column_key = self._column_locations.get_key(column_index)
+        stamped = (self._layout_count(), self._cell_stamp.get((row_key, column_key), 0))
+        if self.fast_cells and row_index >= 0:
+            lines = self._fast_cell(row_index, column_index, row_key, column_key, stamped,
+                                    base_style, width, cursor, hover)
+            if lines is not None:
+                return lines
         real = self._update_count
-        self._update_count = (self._layout_count(), self._cell_stamp.get((row_key, column_key), 0))  # type: ignore[assignment]
+        self._update_count = stamped  # type: ignore[assignment]
         try:
             return super()._render_cell(row_index, column_index, base_style, width, cursor, hover)
         finally:
             self._update_count = real
+
+    def _fast_cell(
+        self,
+        row_index: int,
+        column_index: int,
+        row_key: Any,
+        column_key: Any,
+        stamped: tuple[int, int],
+        base_style: Style,
+        width: int,
+        cursor: bool,
+        hover: bool,
+    ) -> list[list[Segment]] | None:
+        """The cell as DataTable renders it (Styled(Padding(text)) through Rich), for a
+        one-line Text that fits: left pad, the Text's own segments, fill, right pad, each
+        styled pre + own + post. None when the cell is not that simple (then DataTable's
+        own path renders it)."""
+        cache_key = (row_key, column_key, base_style, cursor, hover, self._show_hover_cursor,
+                     stamped, self._pseudo_class_state)
+        cache: Any = self._cell_render_cache  # (keys carry stamps where DataTable has a count)
+        if cache_key in cache:
+            return cache[cache_key]  # type: ignore[no-any-return]
+        row = self.rows.get(row_key)
+        if row is None or row.height != 1 or self.fixed_rows or self.fixed_columns:
+            return None
+        cells = self._get_row_renderables(row_index).cells
+        if column_index >= len(cells):
+            return None
+        text = cells[column_index]
+        pad = self.cell_padding
+        inner = width - 2 * pad
+        if (not isinstance(text, Text) or text.justify is not None or inner < 0
+                or "\n" in text.plain or "\t" in text.plain or text.cell_len > inner):
+            return None
+        console = self.app.console
+        pre = base_style + Style.from_meta({"row": row_index, "column": column_index})
+        component, post = self._get_styles_to_render_cell(
+            False, False, False, hover, cursor, self.show_cursor, self._show_hover_cursor,
+            self.cursor_foreground_priority == "css", self.cursor_background_priority == "css",
+        )
+        pre = pre + component
+
+        def styled(own: Style | None) -> Style | None:  # rich.segment.Segment.apply_style
+            out = pre + own if pre else own
+            if post:
+                out = out + post if out else post
+            return out
+
+        blank = styled(Style.null())
+        line: list[Segment] = []
+        if pad:
+            line.append(Segment(" " * pad, blank))
+        # As Text.__rich_console__ does: the lines joined, so the Text's own style is a span.
+        joined = _NEWLINE.join([text])
+        line.extend(Segment(seg.text, styled(seg.style)) for seg in joined.render(console, end="")
+                    if seg.text)
+        fill = inner - text.cell_len + pad
+        if fill:
+            line.append(Segment(" " * fill, blank))
+        lines = [line]
+        cache[cache_key] = lines
+        return lines
+
+    def _get_row_renderables(self, row_index: int) -> Any:
+        """DataTable formats a whole row whenever one of its cells renders afresh; keyed
+        here on the row's stamp, so a row with several changed cells is formatted once."""
+        if row_index < 0:
+            return super()._get_row_renderables(row_index)
+        row_key = self._row_locations.get_key(row_index)
+        key = (self._layout_count(), self._row_stamp.get(row_key, 0), row_index)
+        cached = self._renderables.get(key)
+        if cached is None:
+            if len(self._renderables) > 4 * max(64, len(self._names)):
+                self._renderables.clear()
+            cached = self._renderables[key] = self._compute_row_renderables(row_index)
+        return cached
+
+    @property
+    def ordered_columns(self) -> list[Any]:
+        """DataTable rebuilds this list on every use (several times per row rendered);
+        it changes only with the layout."""
+        key = self._layout_count()
+        cached = getattr(self, "_columns_cache", None)  # (DataTable asks during __init__)
+        if cached is None or cached[0] != key:
+            cached = self._columns_cache = (key, super().ordered_columns)
+        return cached[1]
 
     def _render_line_in_row(
         self,
@@ -200,13 +303,76 @@ class ChannelTable(DataTable[object]):
         """DataTable's own row render, cached per row the same way (row stamp, width);
         the header row has stamp 0 (it changes only with the layout)."""
         real = self._update_count
-        self._update_count = (  # type: ignore[assignment]
-            self._layout_count(), self._row_stamp.get(row_key, 0), self.size.width
-        )
+        stamped = (self._layout_count(), self._row_stamp.get(row_key, 0), self.size.width)
+        self._update_count = stamped  # type: ignore[assignment]
         try:
+            if self.fast_cells:
+                pair = self._fast_row(row_key, line_no, base_style, cursor_location, hover_location, stamped)
+                if pair is not None:
+                    return pair
             return super()._render_line_in_row(row_key, line_no, base_style, cursor_location, hover_location)
         finally:
             self._update_count = real
+
+    def _fast_row(
+        self,
+        row_key: RowKey,
+        line_no: int,
+        base_style: Style,
+        cursor_location: Coordinate,
+        hover_location: Coordinate,
+        stamped: tuple[int, int, int],
+    ) -> Any:
+        """DataTable's row assembly for the plain case here (no row labels, no fixed
+        columns, row cursor), with the zebra/header row style looked up once per style
+        state instead of from the CSS on every row. None otherwise."""
+        cursor_type = self.cursor_type
+        if (cursor_type != "row" or self.fixed_columns or self.fixed_rows
+                or (self._labelled_row_exists and self.show_row_labels)):
+            return None
+        cache_key = (row_key, line_no, base_style, cursor_location, hover_location, cursor_type,
+                     self.show_cursor, self._show_hover_cursor, stamped, self._pseudo_class_state)
+        cache: Any = self._row_render_cache  # (keys carry stamps where DataTable has a count)
+        if cache_key in cache:
+            return cache[cache_key]
+        found = self._row_locations.get(row_key)
+        row_index: int = -1 if found is None else found
+        row_style = self._row_style(row_index, base_style)
+        should_highlight = self._should_highlight
+        columns = self.ordered_columns
+        widths = [column.get_render_width(self) for column in columns]
+        scrollable_row: list[Any] = [
+            self._render_cell(
+                row_index, column_index, row_style, widths[column_index],
+                cursor=should_highlight(cursor_location, Coordinate(row_index, column_index), cursor_type),
+                hover=should_highlight(hover_location, Coordinate(row_index, column_index), cursor_type),
+            )[line_no]
+            for column_index in range(len(columns))
+        ]
+        remaining_space = max(0, self.size.width - (sum(widths) + self._row_label_column_width))
+        extend_style, _ = self._get_styles_to_render_cell(
+            row_index == -1, False, False,
+            should_highlight(hover_location, Coordinate(row_index or 0, 0), cursor_type),
+            row_index == cursor_location.row, self.show_cursor, self._show_hover_cursor, False, False,
+        )
+        extend_style = row_style + extend_style
+        extend_style += Style.from_meta({"row": row_index, "column": 0, "out_of_bounds": True})
+        scrollable_row.append([Segment(" " * remaining_space, extend_style)])
+        pair: tuple[list[Any], list[Any]] = ([], scrollable_row)
+        cache[cache_key] = pair
+        return pair
+
+    def _row_style(self, row_index: int, base_style: Style) -> Style:
+        """DataTable._get_row_style, remembered per (kind of row, base style, pseudo-classes,
+        theme): the CSS lookup it does is the costly part of a row."""
+        kind = -1 if row_index == -1 else (row_index % 2 if self.zebra_stripes else -2)
+        key = (kind, base_style, self._pseudo_class_state, self.app.theme)
+        cached = self._row_styles.get(key)
+        if cached is None:
+            if len(self._row_styles) > 64:
+                self._row_styles.clear()
+            cached = self._row_styles[key] = self._get_row_style(row_index, base_style)
+        return cached
 
     def _repaint(self) -> None:
         """Repaint the rows written since the last repaint (line cache moves on once)."""
