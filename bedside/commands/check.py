@@ -24,6 +24,8 @@ import math
 import sys
 import time
 from collections.abc import Callable
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from bedside.cautions import DISCLAIMER
@@ -39,8 +41,9 @@ if TYPE_CHECKING:
     from bedside.checks.settings import QualitySettings
     from bedside.checks.types import QualityFrame
     from bedside.errors import BedsideError
+    from bedside.record.log import SetupLog
     from bedside.stream.source import Source
-    from bedside.stream.types import StreamIdentity
+    from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
 
 FrameConsumer = Callable[["QualityFrame"], None]
 
@@ -74,7 +77,44 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     log.add_argument("--log", metavar="PATH", help="record this check into the setup log at PATH (YAML)")
     log.add_argument("--subject", metavar="ID", default="", help="pseudonymous subject/study ID, e.g. W3-017")
     log.add_argument("--technologist", metavar="INITIALS", default="", help="e.g. JMK")
+    clip = p.add_argument_group("EDF+ clip (the last seconds of raw data, findings as annotations)")
+    clip.add_argument("--clip", metavar="PATH", help="write the last --clip-seconds of the stream as EDF+ to PATH")
+    clip.add_argument(
+        "--clip-seconds", metavar="S", type=positive_float("--clip-seconds"), default=10.0,
+        help="length of the clip (default 10; at most --seconds)",
+    )
     p.set_defaults(func=run)
+
+
+class _KeepRecent:
+    """A Source that passes everything through and keeps the newest samples for a clip."""
+
+    def __init__(self, inner: Source, seconds: float) -> None:
+        from bedside.stream.ring import RingBuffer
+
+        self._inner = inner
+        self.rate_hz = inner.identity.nominal_rate_hz
+        self.ring = RingBuffer(max(1, int(round(seconds * self.rate_hz))), len(inner.channels))
+
+    @property
+    def identity(self) -> StreamIdentity:
+        return self._inner.identity
+
+    @property
+    def channels(self) -> tuple[ChannelInfo, ...]:
+        return self._inner.channels
+
+    def pull(self, timeout_s: float = 0.0) -> Chunk | None:
+        chunk = self._inner.pull(timeout_s)
+        if chunk is not None:
+            self.ring.extend(chunk.samples_uv, chunk.timestamps)
+        return chunk
+
+    def health(self) -> StreamHealth:
+        return self._inner.health()
+
+    def close(self) -> None:
+        self._inner.close()
 
 
 def collect(
@@ -169,6 +209,33 @@ def exit_code(report: dict[str, Any]) -> int:
     return EXIT_OK if all(lv == "good" for lv in levels) else EXIT_ATTENTION
 
 
+def _write_clip(
+    args: argparse.Namespace, keep: _KeepRecent, log: SetupLog | None, frame: QualityFrame | None
+) -> None:
+    """Write the kept samples as EDF+; findings become annotations (from the log when kept)."""
+    from bedside.record.edf_clip import annotations_for_clip, write_edf_clip
+
+    samples, _ = keep.ring.latest(len(keep.ring))
+    if samples.shape[0] == 0:
+        raise InputError("no samples arrived, so there is no EDF+ clip to write")
+    duration_s = samples.shape[0] / keep.rate_hz
+    start = datetime.now(UTC).astimezone() - timedelta(seconds=duration_s)
+    if log is not None:
+        notes = annotations_for_clip(log, start, duration_s)
+    else:  # no log: the verdicts at the end of the clip
+        notes = []
+        if frame is not None:
+            notes += [(duration_s, None, f"{c.name} {c.level_key}: {'; '.join(c.reasons)}")
+                      for c in frame.channels if c.level is not None and c.level.key != "good"]
+            notes += [(duration_s, None, f"{f.kind} {'-'.join(f.electrodes)}: {f.reason}")
+                      for f in frame.findings]
+    result = write_edf_clip(
+        args.clip, samples, keep.rate_hz, [c.name for c in keep.channels], notes,
+        subject_id=args.subject, start=start,
+    )
+    print(f"wrote EDF+ clip {result.path} ({result.n_samples / keep.rate_hz:.1f} s)", file=sys.stderr)
+
+
 def run(args: argparse.Namespace) -> int:
     from bedside.checks.settings import load_quality
     from bedside.stream.discovery import resolve_one
@@ -188,18 +255,31 @@ def run(args: argparse.Namespace) -> int:
     if args.log:  # a bad ID or initials: say so before looking for the stream
         validate_initials(args.technologist)
         validate_subject_id(args.subject)
+    if args.clip:
+        if args.clip_seconds > args.seconds:
+            raise InputError(
+                f"--clip-seconds ({args.clip_seconds:g}) cannot be longer than --seconds ({args.seconds:g})"
+            )
+        if Path(args.clip).is_dir():
+            raise InputError(f"--clip {args.clip}: is a folder; give a file name such as clip.edf")
     prepare_lsl()
     identity = resolve_one(args.stream, args.source_id, args.host, wait_s=args.wait)
     consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
     with optional_recorder(
         args.log, technologist=args.technologist, subject_id=args.subject,
         config_paths=[args.config or DEFAULT_PATH],
-    ) as recorder, LslSource(identity) as source:
+    ) as recorder, LslSource(identity) as lsl_source:
+        source: Source = lsl_source
+        keep = _KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
+        if keep is not None:
+            source = keep
         if recorder is not None:
             recorder.set_stream(source.identity, source.channels)
             consumers.append(recorder.on_frame)
         frame, lost, error = collect(source, settings, args.seconds, consumers)
         identity = source.identity
+        if keep is not None and error is None:
+            _write_clip(args, keep, recorder.snapshot() if recorder is not None else None, frame)
     if error is not None:
         raise error
     if frame is None:
