@@ -3,7 +3,7 @@
 * pops: a single-sample step far larger than the channel's typical step (median
   over the window's blocks of the RMS step, and the RMS of the other steps in its
   own block) and at least pop_step_min_uv — an
-  abrupt deflection isolated to one electrode (FIELD_NOTES; thresholds ours);
+  abrupt deflection isolated to one electrode (one published detector: Kobler et al. 2019; thresholds ours);
 * clipping: share of samples in runs at the extreme value (or at the rail);
 * muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), as in
   PREP's noisiness ratio (Bigdely-Shamlo et al. 2015: robust z > 5), computed from

@@ -3,7 +3,7 @@
 Slope: least-squares line through the block means over the window (the block
 means carry what changes slower than a block); slow_uv: the spread (SD) of the
 block means, i.e. the wander slower than ~1/(2·block) Hz. Thresholds are ours: no published
-per-channel value exists (FIELD_NOTES). Offset: |mean| as a share of the
+per-channel value exists that we know of. Offset: |mean| as a share of the
 amplifier range, only when the range is known.
 """
 

@@ -1,6 +1,6 @@
 """Line noise: mains power (fundamental and harmonics) against the EEG band.
 
-Metric (ours, after the live form in FIELD_NOTES): line_noise_db =
+Metric (ours; a dB ratio as commonly used): line_noise_db =
 10·log10(P_mains / P_eeg), P_mains the power within ±bandwidth of the mains
 frequency and its harmonics below Nyquist, P_eeg the power in the EEG band;
 mains_uv = amplitude of a sine carrying the power at the fundamental,

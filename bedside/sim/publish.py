@@ -8,7 +8,7 @@
 The outlet carries full channel metadata after the XDF meta-data convention for EEG:
 ``desc/channels/channel/{label, unit, type}``, ``desc/reference``, ``desc/cap/{name,
 size, labelscheme}``, ``desc/acquisition/{manufacturer, model}``, and always a
-source_id (pylsl would otherwise invent one and print it; ECOSYSTEM_NOTES).
+source_id (pylsl would otherwise invent one and print it; pylsl 1.18 behaviour).
 
 Timestamps: sample k carries ``t0 + k / rate_hz`` where t0 is the LSL clock when
 publishing started, so the spacing always matches the nominal rate and the health
@@ -41,7 +41,7 @@ UNIT_FROM_UV = {"microvolts": 1.0, "millivolts": 1e-3, "volts": 1e-6, "nanovolts
 
 
 def import_pylsl() -> Any:
-    """pylsl, or a clear error: liblsl missing makes pylsl raise RuntimeError (ECOSYSTEM_NOTES)."""
+    """pylsl, or a clear error: liblsl missing makes pylsl raise RuntimeError (pylsl 1.18 behaviour)."""
     try:
         import pylsl
     except ImportError as exc:

@@ -1,7 +1,7 @@
 """configs/quality.yaml: every threshold traced to a source, and strict loading.
 
-Outside reference for the sourcing rule: the sources named in FIELD_NOTES (published
-papers/guidelines, MNE-Python, PREP), or the explicit marks "ours", "common
+Outside reference for the sourcing rule: published papers and guidelines
+(with their year), MNE-Python, PREP, or the explicit marks "ours", "common
 practice", "from memory".
 """
 
@@ -17,7 +17,7 @@ from bedside.checks.settings import DEFAULT_PATH, QualitySettings, load_quality
 from bedside.errors import ConfigError
 
 SOURCE = re.compile(
-    r"\bours\b|common practice|from memory|\b(19|20)\d\d\b|MNE-Python|PREP|IFCN|ACNS|FIELD_NOTES"
+    r"\bours\b|common practice|from memory|\b(19|20)\d\d\b|MNE-Python|PREP|IFCN|ACNS"
 )
 SETTING = re.compile(r"^\s*([a-z_]+):\s*(\S.*?)\s*(#.*)?$")
 

@@ -1,6 +1,6 @@
 """``bedside measure``: the table, JSON, CSV and BIDS outputs; clear errors; fuzzed options.
 
-Expected distances are the Jasper 1958 worked example (FIELD_NOTES, hand arithmetic):
+Expected distances are the Jasper 1958 worked example (hand arithmetic):
 Nz–Iz 36 cm -> Fz 10.8 cm; circumference 56 cm -> T7 14.0 cm from Fpz.
 """
 

@@ -145,8 +145,8 @@ def test_spherical_template_reproduced_exactly() -> None:
 
 
 def test_spherical_two_rules_disagree_as_published_angles() -> None:
-    """On the spherical template F3 lies 29.8° from Fp1 and 35.5° from C3 (FIELD_NOTES,
-    computed on MNE's spherical 10-20 template): not midway on Fp1–C3, though exactly
+    """On the spherical template F3 lies 29.8° from Fp1 and 35.5° from C3 (computed
+    on MNE's spherical 10-20 template): not midway on Fp1–C3, though exactly
     midway on F7–Fz. Our F3 (row rule) must show the same angles (±0.2°)."""
     p = _template("spherical_1005")
     r = float(np.linalg.norm(p["Cz"]))
@@ -188,8 +188,8 @@ def _colin() -> tuple[dict[str, np.ndarray], HeadMeasurements]:
 
 
 def test_colin27_arcs_are_adult_sized() -> None:
-    """Sanity of the reference itself: Colin27 is a large adult head (FIELD_NOTES:
-    about 61 cm round at the 10 % level)."""
+    """Sanity of the reference itself: Colin27 is a large adult head (about
+    61 cm round at the 10 % level, measured on MNE's colin27 template)."""
     _, arcs = _colin()
     assert arcs.circumference_cm == pytest.approx(61.0, abs=1.0)
     assert 35.0 < arcs.nasion_inion_cm < 41.0 and 35.0 < arcs.preauricular_cm < 41.0

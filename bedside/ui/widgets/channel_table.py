@@ -10,6 +10,7 @@ gets its own stamp and the render caches are keyed on (layout, stamp) instead â€
 
 from __future__ import annotations
 
+from collections.abc import Callable, Hashable
 from typing import Any
 
 from rich.segment import Segment
@@ -147,18 +148,23 @@ class ChannelTable(DataTable[object]):
         self._row_stamp.clear()
 
     def _set(self, row: str, column: str, value: Text | str) -> None:
-        """Write a cell only when what is shown changes (most cells hold still between frames).
+        """Write a cell only when what is shown changes (most cells hold still between frames)."""
+        key = (value.plain, str(value.style)) if isinstance(value, Text) else (value, "")
+        self._put(row, column, key, lambda: value)
+
+    def _put(self, row: str, column: str, key: Hashable, build: Callable[[], Text | str]) -> None:
+        """Write a cell when ``key`` (all that decides what the cell shows) changed;
+        ``build`` makes the cell's value only then.
 
         The value goes straight into the table's data (what ``get_cell`` reads) and the
         cell gets a fresh stamp, so only it renders again; :meth:`show` then repaints
         the changed rows once.
         """
-        key = (value.plain, str(value.style)) if isinstance(value, Text) else (value, "")
         if self._shown.get((row, column)) == key:
             return
         self._shown[(row, column)] = key
         row_key, column_key = RowKey(row), ColumnKey(column)
-        self._data[row_key][column_key] = value
+        self._data[row_key][column_key] = build()
         self._stamp += 1
         self._cell_stamp[(row_key, column_key)] = self._stamp
         self._row_stamp[row_key] = self._stamp
@@ -404,23 +410,33 @@ class ChannelTable(DataTable[object]):
         self._repaint()
 
     def _update_row(self, ch: ChannelQuality, live: bool, ttg: float | None) -> None:
+        """One row; each cell's key is what decides its look, so an unchanged cell
+        costs a comparison and no Text is built for it."""
         name = ch.name
-        label = Text(name, style="bold" if ch.is_scalp else "italic")
-        self._set(name, "name", label)
-        self._set(name, "state", level_cell(ch.level, live))
-        checks = getattr(ch, "checks", {}) or {}
+        put = self._put
+        put(name, "name", (name, ch.is_scalp),
+            lambda: Text(name, style="bold" if ch.is_scalp else "italic"))
+        level = ch.level if live else None
+        put(name, "state", level, lambda: level_cell(level, live))
+        checks = (getattr(ch, "checks", {}) or {}) if live else {}
+        metrics = ch.metrics
         for check, key, _, scale in self._columns:
-            value = ch.metrics.get(key) if live else None
+            value = metrics.get(key) if live else None
             shown = None if value is None else float(value) * scale
-            self._set(name, f"m:{key}", check_cell(shown, checks.get(check) if live else None))
-        self._set(name, "ttg", format_seconds(ttg))
+            verdict = checks.get(check)
+            text = format_value(shown)
+            flag = verdict if verdict in ("check", "bad") else None
+            put(name, f"m:{key}", (text, flag),
+                lambda shown=shown, verdict=verdict: check_cell(shown, verdict))
+        seconds = format_seconds(ttg)
+        put(name, "ttg", seconds, lambda: seconds)
         if not live:
             reason = "no live data"
         elif ch.reasons:
             reason = ch.reasons[0] + (f" (+{len(ch.reasons) - 1})" if len(ch.reasons) > 1 else "")
         else:
             reason = ""
-        self._set(name, "reason", reason)
+        put(name, "reason", reason, lambda: reason)
 
     def selected_name(self) -> str | None:
         if not self._names or self.cursor_row < 0 or self.cursor_row >= len(self._names):
