@@ -96,6 +96,9 @@ async def test_fast_paths_draw_what_datatable_draws() -> None:
         table = app.query_one(ChannelTable)
         table.show(frame(0), True, {"E3": 12.0})
         await pilot.pause()
+        # E4 has no level in this frame: grey '?' from the very first frame on
+        assert str(table.get_cell("E4", "state")).startswith("?")
+        assert str(table.get_cell("E2", "state")).startswith(Level.CHECK.symbol)
         assert compare(table) == table.size.height
         for j in range(1, 4):  # frames with changed cells: stamps move, caches kept
             table.show(frame(j), True, {"E3": 12.0, "E9": 75.0})

@@ -11,6 +11,7 @@ gets its own stamp and the render caches are keyed on (layout, stamp) instead â€
 from __future__ import annotations
 
 from collections.abc import Callable, Hashable
+from functools import partial
 from typing import Any
 
 from rich.segment import Segment
@@ -23,6 +24,7 @@ from textual.widgets.data_table import ColumnKey, RowKey
 from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
 
 _NEWLINE = Text("\n")
+_UNSET = object()  # no cell written yet (any key differs from it)
 
 #: The level words shown on screen (machine keys stay good/check/bad).
 LEVEL_WORD = {"good": "good", "check": "check", "bad": "fix"}
@@ -112,7 +114,7 @@ class ChannelTable(DataTable[object]):
         super().__init__(id=id, cursor_type="row", zebra_stripes=True)
         self._names: tuple[str, ...] = ()
         self._columns: tuple[tuple[str, str, str, float], ...] = ()
-        self._shown: dict[tuple[str, str], tuple[str, str]] = {}
+        self._shown: dict[tuple[str, str], Hashable] = {}
         # Render-cache bookkeeping (see _render_cell): a stamp per changed cell and row,
         # and how many times show() itself bumped DataTable's update count.
         self._stamp = 0
@@ -147,11 +149,6 @@ class ChannelTable(DataTable[object]):
         self._cell_stamp.clear()
         self._row_stamp.clear()
 
-    def _set(self, row: str, column: str, value: Text | str) -> None:
-        """Write a cell only when what is shown changes (most cells hold still between frames)."""
-        key = (value.plain, str(value.style)) if isinstance(value, Text) else (value, "")
-        self._put(row, column, key, lambda: value)
-
     def _put(self, row: str, column: str, key: Hashable, build: Callable[[], Text | str]) -> None:
         """Write a cell when ``key`` (all that decides what the cell shows) changed;
         ``build`` makes the cell's value only then.
@@ -160,7 +157,7 @@ class ChannelTable(DataTable[object]):
         cell gets a fresh stamp, so only it renders again; :meth:`show` then repaints
         the changed rows once.
         """
-        if self._shown.get((row, column)) == key:
+        if self._shown.get((row, column), _UNSET) == key:
             return
         self._shown[(row, column)] = key
         row_key, column_key = RowKey(row), ColumnKey(column)
@@ -426,8 +423,7 @@ class ChannelTable(DataTable[object]):
             verdict = checks.get(check)
             text = format_value(shown)
             flag = verdict if verdict in ("check", "bad") else None
-            put(name, f"m:{key}", (text, flag),
-                lambda shown=shown, verdict=verdict: check_cell(shown, verdict))
+            put(name, f"m:{key}", (text, flag), partial(check_cell, shown, verdict))
         seconds = format_seconds(ttg)
         put(name, "ttg", seconds, lambda: seconds)
         if not live:
