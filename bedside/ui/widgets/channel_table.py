@@ -122,6 +122,7 @@ class ChannelTable(DataTable[object]):
         self._row_stamp: dict[Any, int] = {}
         self._own_bumps = 0
         self._dirty_rows: set[str] = set()
+        self._keys: dict[tuple[str, str], tuple[RowKey, ColumnKey]] = {}
         self._renderables: dict[tuple[int, int, int], Any] = {}
         self._columns_cache: tuple[int, list[Any]] | None = None
         self._row_styles: dict[tuple[Any, ...], Style] = {}
@@ -148,6 +149,7 @@ class ChannelTable(DataTable[object]):
         self._shown.clear()
         self._cell_stamp.clear()
         self._row_stamp.clear()
+        self._keys.clear()
 
     def _put(self, row: str, column: str, key: Hashable, build: Callable[[], Text | str]) -> None:
         """Write a cell when ``key`` (all that decides what the cell shows) changed;
@@ -160,7 +162,10 @@ class ChannelTable(DataTable[object]):
         if self._shown.get((row, column), _UNSET) == key:
             return
         self._shown[(row, column)] = key
-        row_key, column_key = RowKey(row), ColumnKey(column)
+        keys = self._keys.get((row, column))
+        if keys is None:
+            keys = self._keys[(row, column)] = (RowKey(row), ColumnKey(column))
+        row_key, column_key = keys
         self._data[row_key][column_key] = build()
         self._stamp += 1
         self._cell_stamp[(row_key, column_key)] = self._stamp
