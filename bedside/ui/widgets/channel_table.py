@@ -349,14 +349,23 @@ class ChannelTable(DataTable[object]):
         should_highlight = self._should_highlight
         columns = self.ordered_columns
         widths = [column.get_render_width(self) for column in columns]
-        scrollable_row: list[Any] = [
-            self._render_cell(
-                row_index, column_index, row_style, widths[column_index],
-                cursor=should_highlight(cursor_location, Coordinate(row_index, column_index), cursor_type),
-                hover=should_highlight(hover_location, Coordinate(row_index, column_index), cursor_type),
-            )[line_no]
-            for column_index in range(len(columns))
-        ]
+        layout = stamped[0]
+        cell_stamp = self._cell_stamp
+        scrollable_row: list[Any] = []
+        for column_index, column in enumerate(columns):
+            cursor = should_highlight(cursor_location, Coordinate(row_index, column_index), cursor_type)
+            hover = should_highlight(hover_location, Coordinate(row_index, column_index), cursor_type)
+            lines = None
+            if row_index >= 0:  # the keys are known here: straight to the short path
+                lines = self._fast_cell(
+                    row_index, column_index, row_key, column.key,
+                    (layout, cell_stamp.get((row_key, column.key), 0)),
+                    row_style, widths[column_index], cursor, hover,
+                )
+            if lines is None:
+                lines = self._render_cell(row_index, column_index, row_style, widths[column_index],
+                                          cursor=cursor, hover=hover)
+            scrollable_row.append(lines[line_no])
         remaining_space = max(0, self.size.width - (sum(widths) + self._row_label_column_width))
         extend_style, _ = self._get_styles_to_render_cell(
             row_index == -1, False, False,
