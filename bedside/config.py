@@ -20,12 +20,13 @@ import hashlib
 import stat
 import types
 import typing
+from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any, TypeVar
 
 import yaml
 
-from bedside.errors import ConfigError
+from bedside.errors import BedsideError, ConfigError
 
 T = TypeVar("T")
 
@@ -123,119 +124,176 @@ def load_config(path: Path | str, schema: type[T], section: str | None = None) -
 
 
 def from_mapping(data: Any, schema: type[T], *, source: str = "<config>", prefix: str = "") -> T:
-    """Build ``schema`` (a dataclass) from ``data`` with strict checking."""
-    return typing.cast(T, _build(data, schema, source, prefix, None))
+    """Build ``schema`` (a dataclass) from ``data`` with strict checking (ConfigError)."""
+    return StrictReader(source).read(data, schema, prefix)
 
 
-def _where(source: str, key: str, line: int | None) -> str:
-    loc = f"{source}, line {line}" if line else source
-    return f"{loc}: '{key}'" if key else loc
+Converter = Callable[[Any, str], Any]
 
 
-def _build(data: Any, tp: Any, source: str, key: str, line: int | None) -> Any:
-    if dataclasses.is_dataclass(tp) and isinstance(tp, type):
-        return _build_dataclass(data, tp, source, key, line)
-    origin = typing.get_origin(tp)
-    args = typing.get_args(tp)
-    if origin in (typing.Union, types.UnionType):
-        if data is None and type(None) in args:
-            return None
-        options = [a for a in args if a is not type(None)]
-        errors = []
-        for option in options:
-            try:
-                return _build(data, option, source, key, line)
-            except ConfigError as exc:
-                errors.append(str(exc))
-        raise ConfigError(errors[0] if len(errors) == 1 else " / ".join(errors))
-    if origin is typing.Literal:
-        if data not in args:
-            allowed = ", ".join(repr(a) for a in args)
-            raise ConfigError(f"{_where(source, key, line)} is {data!r}; accepted: {allowed}")
-        return data
-    if origin in (tuple, list):
-        if not isinstance(data, list):
-            raise ConfigError(f"{_where(source, key, line)} must be a list, got {data!r}")
-        item_tp = args[0] if args else Any
-        items = [_build(v, item_tp, source, f"{key}[{i}]", line) for i, v in enumerate(data)]
-        return tuple(items) if origin is tuple else items
-    if origin is dict:
-        if not isinstance(data, dict):
-            raise ConfigError(f"{_where(source, key, line)} must be a mapping, got {data!r}")
-        k_tp, v_tp = args if args else (Any, Any)
-        lines = getattr(data, "lines", {})
-        return {
-            _build(k, k_tp, source, f"{key}.{k}", lines.get(k, line)): _build(
-                v, v_tp, source, f"{key}.{k}", lines.get(k, line)
-            )
-            for k, v in data.items()
-        }
-    if tp is Any:
-        return data
-    if tp is bool:
-        if not isinstance(data, bool):
-            raise ConfigError(f"{_where(source, key, line)} must be true or false, got {data!r}")
-        return data
-    if tp is float:
-        if isinstance(data, bool) or not isinstance(data, int | float):
-            raise ConfigError(f"{_where(source, key, line)} must be a number, got {data!r}")
-        return float(data)
-    if tp is int:
-        if isinstance(data, bool) or not isinstance(data, int):
-            raise ConfigError(f"{_where(source, key, line)} must be a whole number, got {data!r}")
-        return data
-    if tp is str:
-        if not isinstance(data, str):
-            raise ConfigError(f"{_where(source, key, line)} must be text, got {data!r}")
-        return data
-    raise ConfigError(f"{_where(source, key, line)}: unsupported setting type {tp!r}")
-
-
-def _build_dataclass(data: Any, tp: type, source: str, key: str, line: int | None) -> Any:
-    if data is None:
-        data = {}
-    if not isinstance(data, dict):
-        raise ConfigError(f"{_where(source, key, line)} must be a mapping of settings, got {data!r}")
-    hints = typing.get_type_hints(tp)
-    fields = {f.name: f for f in dataclasses.fields(tp) if f.init}
-    lines: dict[Any, int] = getattr(data, "lines", {})
-    for name in data:
-        if name not in fields:
-            close = difflib.get_close_matches(str(name), list(fields), n=1)
-            hint = f"; did you mean '{close[0]}'?" if close else ""
-            full = f"{key}.{name}" if key else str(name)
-            accepted = ", ".join(sorted(fields))
-            raise ConfigError(
-                f"{_where(source, full, lines.get(name, line))} is not a known setting{hint} "
-                f"(accepted here: {accepted})"
-            )
-    values: dict[str, Any] = {}
-    for name, f in fields.items():
-        full = f"{key}.{name}" if key else name
-        if name not in data:
-            if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
-                raise ConfigError(f"{_where(source, full, line)} is required but missing")
-            continue
-        where_line = lines.get(name, line)
-        value = _build(data[name], hints[name], source, full, where_line)
-        _check_range(value, f.metadata, source, full, where_line)
-        values[name] = value
-    try:
-        obj = tp(**values)
-    except (TypeError, ValueError) as exc:
-        raise ConfigError(f"{_where(source, key, line)}: {exc}") from exc
-    return obj
-
-
-def _check_range(value: Any, meta: typing.Mapping[str, Any], source: str, key: str, line: int | None) -> None:
+def describe(value: Any) -> str:
+    """A value as an error message names it."""
     if value is None:
-        return
-    lo, hi = meta.get("min"), meta.get("max")
-    if isinstance(value, int | float) and not isinstance(value, bool):
-        if lo is not None and value < lo:
-            raise ConfigError(f"{_where(source, key, line)} is {value}; accepted: {lo} to {hi if hi is not None else 'any'}")
-        if hi is not None and value > hi:
-            raise ConfigError(f"{_where(source, key, line)} is {value}; accepted: {lo if lo is not None else 'any'} to {hi}")
-    choices = meta.get("choices")
-    if choices is not None and value not in choices:
-        raise ConfigError(f"{_where(source, key, line)} is {value!r}; accepted: {', '.join(map(str, choices))}")
+        return "nothing"
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    if isinstance(value, str):
+        return f"the text {value!r}"
+    return repr(value)
+
+
+class StrictReader:
+    """Turns parsed YAML (or JSON-like data) into frozen dataclasses, strictly.
+
+    Shared by the configs (errors: ConfigError, "setting") and the setup log
+    (errors: RecordError, "key", with a converter for zone-aware times). Field
+    ``metadata`` may give ``min``, ``max`` and ``choices``. Mappings parsed by
+    :func:`read_yaml` carry their keys' lines, which every message then names.
+    """
+
+    def __init__(
+        self,
+        source: str,
+        *,
+        error: type[BedsideError] = ConfigError,
+        noun: str = "setting",
+        converters: Mapping[type, Converter] | None = None,
+        quote_choices: bool = True,
+        none_is_empty: bool = True,
+    ) -> None:
+        self.source = source
+        self.quote_choices = quote_choices
+        self.none_is_empty = none_is_empty
+        self.error = error
+        self.noun = noun
+        self.converters = dict(converters or {})
+        self._hints: dict[type, dict[str, Any]] = {}
+
+    def read(self, data: Any, schema: type[T], key: str = "") -> T:
+        return typing.cast(T, self._build(data, schema, key, None))
+
+    def where(self, key: str, line: int | None = None) -> str:
+        loc = f"{self.source}, line {line}" if line else self.source
+        return f"{loc}: '{key}'" if key else loc
+
+    def _fail(self, message: str) -> BedsideError:
+        return self.error(message)
+
+    def _build(self, data: Any, tp: Any, key: str, line: int | None) -> Any:
+        if dataclasses.is_dataclass(tp) and isinstance(tp, type):
+            return self._build_dataclass(data, tp, key, line)
+        if tp in self.converters:
+            return self.converters[tp](data, self.where(key, line))
+        origin = typing.get_origin(tp)
+        args = typing.get_args(tp)
+        where = self.where(key, line)
+        if origin in (typing.Union, types.UnionType):
+            if data is None and type(None) in args:
+                return None
+            options = [a for a in args if a is not type(None)]
+            if len(options) == 1:
+                return self._build(data, options[0], key, line)
+            errors: list[str] = []
+            for option in options:
+                try:
+                    return self._build(data, option, key, line)
+                except self.error as exc:
+                    if str(exc) not in errors:
+                        errors.append(str(exc))
+            raise self._fail(" / ".join(errors))
+        if origin is typing.Literal:
+            if data not in args:
+                shown = map(repr if self.quote_choices else str, args)
+                raise self._fail(f"{where} is {data!r}; accepted: {', '.join(shown)}")
+            return data
+        if origin in (tuple, list):
+            if not isinstance(data, list):
+                raise self._fail(f"{where} must be a list, got {describe(data)}")
+            if origin is tuple and args and not (len(args) == 2 and args[1] is Ellipsis):
+                if len(data) != len(args):
+                    raise self._fail(f"{where} must have {len(args)} items, got {len(data)}")
+                items = [self._build(v, a, f"{key}[{i}]", line) for i, (v, a) in enumerate(zip(data, args, strict=True))]
+            else:
+                item_tp = args[0] if args else Any
+                items = [self._build(v, item_tp, f"{key}[{i}]", line) for i, v in enumerate(data)]
+            return tuple(items) if origin is tuple else items
+        if origin is dict:
+            if not isinstance(data, dict):
+                raise self._fail(f"{where} must be a mapping, got {describe(data)}")
+            k_tp, v_tp = args if args else (Any, Any)
+            lines = getattr(data, "lines", {})
+            return {
+                self._build(k, k_tp, f"{key}.{k}", lines.get(k, line)): self._build(
+                    v, v_tp, f"{key}.{k}", lines.get(k, line)
+                )
+                for k, v in data.items()
+            }
+        if tp is Any or tp is object:
+            return data
+        if tp is bool:
+            if not isinstance(data, bool):
+                raise self._fail(f"{where} must be true or false, got {describe(data)}")
+            return data
+        if tp is float:
+            if isinstance(data, bool) or not isinstance(data, int | float):
+                raise self._fail(f"{where} must be a number, got {describe(data)}")
+            return float(data)
+        if tp is int:
+            if isinstance(data, bool) or not isinstance(data, int):
+                raise self._fail(f"{where} must be a whole number, got {describe(data)}")
+            return data
+        if tp is str:
+            if not isinstance(data, str):
+                raise self._fail(f"{where} must be text, got {describe(data)}")
+            return data
+        raise self._fail(f"{where}: cannot read a value of type {tp!r}")
+
+    def _build_dataclass(self, data: Any, tp: type, key: str, line: int | None) -> Any:
+        if data is None and self.none_is_empty:
+            data = {}  # an empty section (e.g. "hold:" alone) takes every default
+        if not isinstance(data, dict):
+            raise self._fail(f"{self.where(key, line)} must be a mapping, got {describe(data)}")
+        hints = self._hints.get(tp)
+        if hints is None:
+            hints = self._hints[tp] = typing.get_type_hints(tp)
+        fields = {f.name: f for f in dataclasses.fields(tp) if f.init}
+        lines: dict[Any, int] = getattr(data, "lines", {})
+        for name in data:
+            if name not in fields:
+                close = difflib.get_close_matches(str(name), list(fields), n=1)
+                hint = f"; did you mean '{close[0]}'?" if close else ""
+                full = f"{key}.{name}" if key else str(name)
+                raise self._fail(
+                    f"{self.where(full, lines.get(name, line))} is not a known {self.noun}{hint} "
+                    f"(accepted here: {', '.join(fields)})"
+                )
+        values: dict[str, Any] = {}
+        for name, f in fields.items():
+            full = f"{key}.{name}" if key else name
+            if name not in data:
+                if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
+                    raise self._fail(f"{self.where(full, line)} is missing (it is required)")
+                continue
+            where_line = lines.get(name, line)
+            value = self._build(data[name], hints[name], full, where_line)
+            self._check_range(value, f.metadata, self.where(full, where_line))
+            values[name] = value
+        try:
+            return tp(**values)
+        except (TypeError, ValueError) as exc:
+            raise self._fail(f"{self.where(key, line)}: {exc}") from exc
+
+    def _check_range(self, value: Any, meta: Mapping[str, Any], where: str) -> None:
+        if value is None or not meta:
+            return
+        lo, hi = meta.get("min"), meta.get("max")
+        numeric = isinstance(value, int | float) and not isinstance(value, bool)
+        if numeric and ((lo is not None and value < lo) or (hi is not None and value > hi)):
+            lo_s = lo if lo is not None else "any"
+            hi_s = hi if hi is not None else "any"
+            raise self._fail(f"{where} is {value}; accepted: {lo_s} to {hi_s}")
+        choices = meta.get("choices")
+        if choices is not None and value not in choices:
+            raise self._fail(f"{where} is {value!r}; accepted: {', '.join(map(str, choices))}")

@@ -17,12 +17,9 @@ raises :class:`~bedside.errors.RecordError` naming the file and the key path
 from __future__ import annotations
 
 import dataclasses
-import difflib
 import json
 import re
 import stat
-import types
-import typing
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
@@ -31,6 +28,7 @@ from typing import Any, Literal
 import yaml
 
 from bedside import __version__
+from bedside.config import StrictReader, describe
 from bedside.errors import InputError, RecordError
 from bedside.placement.types import HeadMeasurements, Mark
 from bedside.record.ids import validate_subject_id
@@ -271,7 +269,7 @@ class SetupLog:
     def from_dict(cls, data: Any, *, source: str = "<log>") -> SetupLog:
         """Build a log from :meth:`to_dict` output, strictly (RecordError names the key)."""
         if not isinstance(data, dict):
-            raise RecordError(f"{source}: not a setup log (expected a mapping of keys, got {_kind(data)})")
+            raise RecordError(f"{source}: not a setup log (expected a mapping of keys, got {describe(data)})")
         if data.get("format") != FORMAT_NAME:
             raise RecordError(
                 f"{source}: not a bedside setup log ('format' is {data.get('format')!r}, "
@@ -284,7 +282,7 @@ class SetupLog:
                 f"accepted: {FORMAT_VERSION}"
             )
         body = {k: v for k, v in data.items() if k not in ("format", "format_version", "time_to_good_s")}
-        log = typing.cast(SetupLog, _build_dataclass(body, cls, source, ""))
+        log = _reader(source).read(body, cls)
         # The ID may become part of file names (BIDS, reports): never trust the file.
         try:
             validate_subject_id(log.subject_id, allow_letters_only=True)
@@ -469,123 +467,24 @@ def _plain(value: Any) -> Any:
     raise RecordError(f"cannot store a value of type {type(value).__name__} in the log")
 
 
-def _kind(value: Any) -> str:
-    if value is None:
-        return "nothing"
-    return {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}.get(
-        type(value), f"{type(value).__name__} {value!r}"
-    )
-
-
-def _at(source: str, key: str) -> str:
-    return f"{source}: '{key}'" if key else source
-
-
-def _build(value: Any, tp: Any, source: str, key: str) -> Any:
-    if dataclasses.is_dataclass(tp) and isinstance(tp, type):
-        return _build_dataclass(value, tp, source, key)
-    origin = typing.get_origin(tp)
-    args = typing.get_args(tp)
-    if origin in (typing.Union, types.UnionType):
-        if value is None and type(None) in args:
-            return None
-        options = [a for a in args if a is not type(None)]
-        if len(options) == 1:
-            return _build(value, options[0], source, key)
-        errors = []
-        for option in options:
-            try:
-                return _build(value, option, source, key)
-            except RecordError as exc:
-                errors.append(str(exc))
-        raise RecordError(errors[0])
-    if origin is Literal:
-        if value not in args:
-            raise RecordError(
-                f"{_at(source, key)} is {value!r}; accepted: {', '.join(map(str, args))}"
-            )
-        return value
-    if origin is tuple:
-        if not isinstance(value, list):
-            raise RecordError(f"{_at(source, key)} must be a list, got {_kind(value)}")
-        if len(args) == 2 and args[1] is Ellipsis:
-            return tuple(_build(v, args[0], source, f"{key}[{i}]") for i, v in enumerate(value))
-        if len(value) != len(args):
-            raise RecordError(f"{_at(source, key)} must have {len(args)} items, got {len(value)}")
-        return tuple(_build(v, a, source, f"{key}[{i}]") for i, (v, a) in enumerate(zip(value, args, strict=True)))
-    if origin is list:
-        if not isinstance(value, list):
-            raise RecordError(f"{_at(source, key)} must be a list, got {_kind(value)}")
-        return [_build(v, args[0], source, f"{key}[{i}]") for i, v in enumerate(value)]
-    if origin is dict:
-        if not isinstance(value, dict):
-            raise RecordError(f"{_at(source, key)} must be a mapping, got {_kind(value)}")
-        k_tp, v_tp = args
-        return {
-            _build(k, k_tp, source, f"{key}.{k}"): _build(v, v_tp, source, f"{key}.{k}")
-            for k, v in value.items()
-        }
-    if tp is datetime:
-        if not isinstance(value, str):
-            raise RecordError(f"{_at(source, key)} must be an ISO 8601 time, got {_kind(value)}")
-        try:
-            when = datetime.fromisoformat(value)
-        except ValueError:
-            raise RecordError(
-                f"{_at(source, key)} is {value!r}, not an ISO 8601 time "
-                "(e.g. 2026-12-01T19:30:00.000+01:00)"
-            ) from None
-        if when.tzinfo is None:
-            raise RecordError(f"{_at(source, key)} is {value!r}: it has no UTC offset")
-        return when
-    if tp is bool:
-        if not isinstance(value, bool):
-            raise RecordError(f"{_at(source, key)} must be true or false, got {_kind(value)}")
-        return value
-    if tp is float:
-        if isinstance(value, bool) or not isinstance(value, int | float):
-            raise RecordError(f"{_at(source, key)} must be a number, got {_kind(value)}")
-        return float(value)
-    if tp is int:
-        if isinstance(value, bool) or not isinstance(value, int):
-            raise RecordError(f"{_at(source, key)} must be a whole number, got {_kind(value)}")
-        return value
-    if tp is str:
-        if not isinstance(value, str):
-            raise RecordError(f"{_at(source, key)} must be text, got {_kind(value)}")
-        return value
-    if tp is object or tp is Any:
-        return value
-    raise RecordError(f"{_at(source, key)}: cannot read a value of type {tp!r}")
-
-
-_HINTS: dict[type, dict[str, Any]] = {}
-
-
-def _build_dataclass(value: Any, tp: type, source: str, key: str) -> Any:
-    if not isinstance(value, dict):
-        raise RecordError(f"{_at(source, key)} must be a mapping, got {_kind(value)}")
-    hints = _HINTS.get(tp)
-    if hints is None:
-        hints = _HINTS[tp] = typing.get_type_hints(tp)
-    fields = {f.name: f for f in dataclasses.fields(tp) if f.init}
-    for name in value:
-        if name not in fields:
-            close = difflib.get_close_matches(str(name), list(fields), n=1)
-            hint = f"; did you mean '{close[0]}'?" if close else ""
-            full = f"{key}.{name}" if key else str(name)
-            raise RecordError(
-                f"{_at(source, full)} is not a known key{hint} (accepted here: {', '.join(fields)})"
-            )
-    kwargs: dict[str, Any] = {}
-    for name, f in fields.items():
-        full = f"{key}.{name}" if key else name
-        if name not in value:
-            if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
-                raise RecordError(f"{_at(source, full)} is missing")
-            continue
-        kwargs[name] = _build(value[name], hints[name], source, full)
+def _read_time(value: Any, where: str) -> datetime:
+    """A zone-aware ISO 8601 time, as the log writes them."""
+    if not isinstance(value, str):
+        raise RecordError(f"{where} must be an ISO 8601 time, got {describe(value)}")
     try:
-        return tp(**kwargs)
-    except (TypeError, ValueError) as exc:
-        raise RecordError(f"{_at(source, key)}: {exc}") from exc
+        when = datetime.fromisoformat(value)
+    except ValueError:
+        raise RecordError(
+            f"{where} is {value!r}, not an ISO 8601 time (e.g. 2026-12-01T19:30:00.000+01:00)"
+        ) from None
+    if when.tzinfo is None:
+        raise RecordError(f"{where} is {value!r}: it has no UTC offset")
+    return when
+
+
+def _reader(source: str) -> StrictReader:
+    """The strict reader of bedside.config, with the log's error type and its times."""
+    return StrictReader(
+        source, error=RecordError, noun="key", converters={datetime: _read_time},
+        quote_choices=False, none_is_empty=False,
+    )
