@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from textual import work
-from textual.app import App
+from textual.app import App, ScreenStackError
 from textual.binding import Binding
 from textual.message import Message
 
@@ -220,7 +220,10 @@ class BedsideApp(App[int]):
 
     @property
     def current_view(self) -> View | None:
-        name = self.screen.name
+        try:
+            name = self.screen.name
+        except ScreenStackError:  # shutting down: a last frame may still come in
+            return None
         return name if name in VIEWS else None  # type: ignore[return-value]
 
     # --- stream ------------------------------------------------------------------

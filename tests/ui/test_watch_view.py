@@ -218,3 +218,20 @@ async def test_trace_toggles_and_is_hidden_at_first_on_short_terminals() -> None
         await pilot.press("t")
         await pilot.pause(0.2)
         assert "as recorded" not in si.screen_text(app)
+
+
+async def test_a_frame_arriving_while_the_app_shuts_down_is_taken_quietly() -> None:
+    """The monitor's thread can post one more frame as the screens are taken down
+    (seen as a ScreenStackError at the end of a run): it is kept, nothing raises."""
+    from textual.app import ScreenStackError
+
+    from bedside.ui.feed import FrameArrived
+
+    app = make_app(AppConfig(discover=False), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.latest_frame is not None)
+    with pytest.raises(ScreenStackError):
+        _ = app.screen  # the stack is empty now, as it is during shutdown
+    last = si.frame(state="lost")
+    app.on_frame_arrived(FrameArrived(last))
+    assert app.latest_frame is last and app.current_view is None
