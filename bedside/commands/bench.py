@@ -226,6 +226,9 @@ def as_table(report: dict[str, Any]) -> str:
                   f"{ui['ui_frame_ms']:.1f} ms wall ({ui['ui_frame_cpu_ms']:.1f} ms CPU; handler alone "
                   f"{ui['handler_ms']:.1f} ms; max {ui['max_ms']:.0f} ms; settling with no new frame "
                   f"{ui.get('idle_settle_ms', float('nan')):.1f} ms); target ≤ {t['ui_frame_ms']} ms"]
+        if "pause_frame_ms" in ui:
+            lines += [f"    with Textual's Pilot.pause() instead: {ui['pause_frame_ms']:.1f} ms "
+                      f"({ui.get('pause_idle_settle_ms', float('nan')):.1f} ms of it the test driver's idle wait)"]
     else:
         lines += ["", "UI: not measured (see the warning above)"]
     return "\n".join(lines)
