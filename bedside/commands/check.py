@@ -43,7 +43,8 @@ if TYPE_CHECKING:
     from bedside.errors import BedsideError
     from bedside.record.log import SetupLog
     from bedside.stream.source import Source
-    from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
+    from bedside.stream.tee import KeepRecent
+    from bedside.stream.types import StreamIdentity
 
 FrameConsumer = Callable[["QualityFrame"], None]
 
@@ -84,37 +85,6 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         help="length of the clip (default 10; at most --seconds)",
     )
     p.set_defaults(func=run)
-
-
-class _KeepRecent:
-    """A Source that passes everything through and keeps the newest samples for a clip."""
-
-    def __init__(self, inner: Source, seconds: float) -> None:
-        from bedside.stream.ring import RingBuffer
-
-        self._inner = inner
-        self.rate_hz = inner.identity.nominal_rate_hz
-        self.ring = RingBuffer(max(1, int(round(seconds * self.rate_hz))), len(inner.channels))
-
-    @property
-    def identity(self) -> StreamIdentity:
-        return self._inner.identity
-
-    @property
-    def channels(self) -> tuple[ChannelInfo, ...]:
-        return self._inner.channels
-
-    def pull(self, timeout_s: float = 0.0) -> Chunk | None:
-        chunk = self._inner.pull(timeout_s)
-        if chunk is not None:
-            self.ring.extend(chunk.samples_uv, chunk.timestamps)
-        return chunk
-
-    def health(self) -> StreamHealth:
-        return self._inner.health()
-
-    def close(self) -> None:
-        self._inner.close()
 
 
 def collect(
@@ -210,7 +180,7 @@ def exit_code(report: dict[str, Any]) -> int:
 
 
 def _write_clip(
-    args: argparse.Namespace, keep: _KeepRecent, log: SetupLog | None, frame: QualityFrame | None
+    args: argparse.Namespace, keep: KeepRecent, log: SetupLog | None, frame: QualityFrame | None
 ) -> None:
     """Write the kept samples as EDF+; findings become annotations (from the log when kept)."""
     from bedside.record.edf_clip import annotations_for_clip, write_edf_clip
@@ -241,6 +211,7 @@ def run(args: argparse.Namespace) -> int:
     from bedside.stream.discovery import resolve_one
     from bedside.stream.lsl import prepare_lsl
     from bedside.stream.reader import LslSource
+    from bedside.stream.tee import KeepRecent
 
     settings = load_quality(args.config)
     if args.seconds < settings.min_data_s:
@@ -270,7 +241,7 @@ def run(args: argparse.Namespace) -> int:
         config_paths=[args.config or DEFAULT_PATH],
     ) as recorder, LslSource(identity) as lsl_source:
         source: Source = lsl_source
-        keep = _KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
+        keep = KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
         if keep is not None:
             source = keep
         if recorder is not None:

@@ -24,7 +24,8 @@ from textual.message import Message
 from bedside.checks.types import QualityFrame
 from bedside.errors import BedsideError
 from bedside.stream.source import Source
-from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
+from bedside.stream.tee import PassThrough
+from bedside.stream.types import Chunk
 
 log = logging.getLogger("bedside")
 
@@ -93,50 +94,17 @@ class DisplayBuffer:
             return np.concatenate([self._data[self._head :], self._data[: self._head]])
 
 
-class TeeSource:
+class TeeSource(PassThrough):
     """A Source that passes everything through and keeps a display copy of the samples."""
 
     def __init__(self, inner: Source, seconds: float) -> None:
-        self._inner = inner
+        super().__init__(inner)
         ident = inner.identity
         rate = ident.nominal_rate_hz if ident.nominal_rate_hz > 0 else 250.0
         self.buffer = DisplayBuffer(len(inner.channels), rate, seconds)
 
-    @property
-    def identity(self) -> StreamIdentity:
-        return self._inner.identity
-
-    @property
-    def channels(self) -> tuple[ChannelInfo, ...]:
-        return self._inner.channels
-
-    def pull(self, timeout_s: float = 0.0) -> Chunk | None:
-        chunk = self._inner.pull(timeout_s)
-        if chunk is not None:
-            self.buffer.append(chunk.samples_uv)
-        return chunk
-
-    def health(self) -> StreamHealth:
-        return self._inner.health()
-
-    def other_candidates(self) -> tuple[StreamIdentity, ...]:
-        """Streams with the pinned stream's name but another source_id (never used unasked)."""
-        others = getattr(self._inner, "other_candidates", None)
-        if others is None:
-            return ()
-        try:
-            return tuple(others())
-        except RuntimeError:  # read while the monitor's thread updates it: ask next time
-            return ()
-
-    def close(self) -> None:
-        self._inner.close()
-
-    def __enter__(self) -> TeeSource:
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
+    def on_chunk(self, chunk: Chunk) -> None:
+        self.buffer.append(chunk.samples_uv)
 
 
 class FrameFeed:
