@@ -96,12 +96,16 @@ def read_yaml(path: Path | str) -> Any:
         return yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader is a SafeLoader
     except ConfigError as exc:
         raise ConfigError(f"{path}: {exc}") from exc
-    except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark
-        where = f"line {mark.line + 1}, column {mark.column + 1}" if mark else "somewhere"
-        raise ConfigError(f"{path}: not valid YAML at {where}: {exc.problem}") from exc
     except yaml.YAMLError as exc:
-        raise ConfigError(f"{path}: not valid YAML: {exc}") from exc
+        raise ConfigError(f"{path}: {yaml_problem(exc)}") from exc
+
+
+def yaml_problem(exc: yaml.YAMLError) -> str:
+    """What is wrong with a YAML text, in words, with the line and column where known."""
+    mark = getattr(exc, "problem_mark", None)
+    if isinstance(exc, yaml.MarkedYAMLError) and mark is not None:
+        return f"not valid YAML at line {mark.line + 1}, column {mark.column + 1}: {exc.problem}"
+    return f"not valid YAML: {exc}"
 
 
 def config_hash(*paths: Path | str) -> str:

@@ -28,7 +28,7 @@ from typing import Any, Literal
 import yaml
 
 from bedside import __version__
-from bedside.config import StrictReader, describe
+from bedside.config import StrictReader, describe, yaml_problem
 from bedside.errors import InputError, RecordError
 from bedside.placement.types import HeadMeasurements, Mark
 from bedside.record.ids import validate_subject_id
@@ -404,12 +404,8 @@ def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:
         raise RecordError(f"{source}: the file is empty")
     try:
         data = yaml.load(text, Loader=_SafeLoader)  # noqa: S506 - a SafeLoader
-    except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark
-        where = f"line {mark.line + 1}, column {mark.column + 1}" if mark else "somewhere"
-        raise RecordError(f"{source}: not valid YAML at {where}: {exc.problem}") from exc
     except yaml.YAMLError as exc:
-        raise RecordError(f"{source}: not valid YAML: {exc}") from exc
+        raise RecordError(f"{source}: {yaml_problem(exc)}") from exc
     return SetupLog.from_dict(data, source=source)
 
 
