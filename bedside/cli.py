@@ -10,13 +10,17 @@ Ctrl-C exits 130. No traceback reaches the user.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
 import logging
 import pkgutil
 import sys
 import types
 from collections.abc import Sequence
-from typing import NoReturn
+from typing import TYPE_CHECKING, NoReturn
+
+if TYPE_CHECKING:
+    from _typeshed import SupportsWrite
 
 from bedside import __version__
 from bedside.cautions import DISCLAIMER
@@ -29,14 +33,48 @@ EXIT_ATTENTION = 1  # something needs the technologist's attention (check/bad, s
 EXIT_ERROR = 2
 
 
+def say(text: str, stream: SupportsWrite[str] | None = None) -> None:
+    """Write ``text`` to ``stream`` (default stderr) whatever the stream can encode.
+
+    A command-line argument may hold bytes that are not UTF-8 (Python hands them over
+    as lone surrogates, PEP 383) and a message that echoes it must still print: what
+    the stream cannot encode is written as a backslash escape, never raised."""
+    out = sys.stderr if stream is None else stream
+    encoding = getattr(out, "encoding", None) or "utf-8"
+    try:
+        out.write(text)
+    except UnicodeEncodeError:
+        out.write(text.encode(encoding, "backslashreplace").decode(encoding, "replace"))
+
+
+def make_streams_safe() -> None:
+    """stdout and stderr escape what they cannot encode instead of raising (PEP 383
+    surrogates from argv, a narrow terminal encoding)."""
+    for stream in (sys.stdout, sys.stderr):
+        reconfigure = getattr(stream, "reconfigure", None)
+        if reconfigure is not None:
+            with contextlib.suppress(ValueError, OSError):  # closed or detached: leave it
+                reconfigure(errors="backslashreplace")
+
+
 class _Parser(argparse.ArgumentParser):
-    """argparse that says what is accepted and never prints a traceback."""
+    """argparse that says what is accepted, prints under any text stream and never
+    prints a traceback."""
+
+    def print_usage(self, file: SupportsWrite[str] | None = None) -> None:
+        say(self.format_usage(), file if file is not None else sys.stdout)
+
+    def print_help(self, file: SupportsWrite[str] | None = None) -> None:
+        say(self.format_help(), file if file is not None else sys.stdout)
+
+    def exit(self, status: int = 0, message: str | None = None) -> NoReturn:
+        if message:
+            say(message, sys.stderr)
+        raise SystemExit(status)
 
     def error(self, message: str) -> NoReturn:
         self.print_usage(sys.stderr)
         self.exit(EXIT_ERROR, f"error: {message}\n")
-
-
 
 
 
@@ -70,6 +108,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
+    make_streams_safe()
     parser = build_parser()
     args = parser.parse_args(list(argv) if argv is not None else None)
     logging.basicConfig(
@@ -88,10 +127,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return int(func(args))
     except BedsideError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        say(f"error: {exc}\n")
         return EXIT_ERROR
     except KeyboardInterrupt:
-        print("interrupted", file=sys.stderr)
+        say("interrupted\n")
         return 130
     except BrokenPipeError:
         return EXIT_OK

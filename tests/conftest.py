@@ -16,16 +16,19 @@ os.environ.setdefault("LSLAPICFG", str(_CFG))
 # Rescue copies of logs that could not be saved go under XDG_STATE_HOME: keep the
 # suite's own (and its subprocesses') out of the user's home.
 os.environ["XDG_STATE_HOME"] = tempfile.mkdtemp(prefix="bedside-test-state-")
-# A fixed hypothesis profile: bounded time on a shared 2-core machine.
-try:
-    from hypothesis import HealthCheck, settings
+# Hypothesis profiles: bounded time on a shared 2-core machine. Under CI (CI set, as
+# .ci/run does) examples are derandomised — the same examples every run, so a
+# submission never fails by chance — and no example database is kept; locally they
+# explore at random. HYPOTHESIS_PROFILE picks one by name.
+from hypothesis import HealthCheck, settings  # noqa: E402 - after the environment above
 
-    settings.register_profile(
-        "bedside",
-        max_examples=150,
-        deadline=None,
-        suppress_health_check=[HealthCheck.too_slow],
-    )
-    settings.load_profile("bedside")
-except ImportError:  # pragma: no cover - hypothesis is in the test extra
-    pass
+settings.register_profile(
+    "bedside",
+    max_examples=150,
+    deadline=None,
+    suppress_health_check=[HealthCheck.too_slow],
+)
+settings.register_profile("ci", settings.get_profile("bedside"), derandomize=True, database=None)
+settings.load_profile(
+    os.environ.get("HYPOTHESIS_PROFILE") or ("ci" if os.environ.get("CI") else "bedside")
+)

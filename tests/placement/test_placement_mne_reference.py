@@ -14,12 +14,11 @@ from __future__ import annotations
 import math
 import re
 
+import mne
 import numpy as np
 import pytest
 
 from bedside.placement import HeadMeasurements, plan_placement
-
-mne = pytest.importorskip("mne")
 
 MIDLINE = [
     "Nz",

@@ -99,7 +99,7 @@ def short_look(monkeypatch: pytest.MonkeyPatch) -> None:
 @pytest.fixture(scope="module")
 def files(tmp_path_factory: pytest.TempPathFactory) -> dict[str, str]:
     """Real, damaged and impossible inputs for FILE/--config/scenario options."""
-    pyedflib = pytest.importorskip("pyedflib")
+    import pyedflib
     d = tmp_path_factory.mktemp("fuzz-files")
     edf = Path(pyedflib.__file__).parent / "data" / EDF_TEST_FILE
     (d / "truncated.edf").write_bytes(edf.read_bytes()[:3000])

@@ -67,7 +67,7 @@ def test_ctrl_c_while_checking_a_live_stream_exits_cleanly() -> None:
 
 @pytest.mark.lsl
 def test_ctrl_c_while_replaying_in_a_loop_closes_the_stream() -> None:
-    pyedflib = pytest.importorskip("pyedflib")
+    import pyedflib
     edf = Path(pyedflib.__file__).parent / "data" / EDF_TEST_FILE
     name = f"bedside-test-robust-{uuid.uuid4().hex[:8]}"
     proc = subprocess.Popen(

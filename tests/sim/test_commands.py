@@ -73,7 +73,7 @@ def test_bad_scenario_file_names_the_line(tmp_path: Path, capsys: pytest.Capture
 
 @pytest.mark.lsl
 def test_simulate_publishes_and_stops_cleanly_on_ctrl_c() -> None:
-    pylsl = pytest.importorskip("pylsl")
+    import pylsl
     name = f"bedside-test-cli-{uuid.uuid4().hex[:8]}"
     proc = subprocess.Popen([sys.executable, "-m", "bedside", "simulate", "clean", "--name", name],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT)
@@ -95,7 +95,7 @@ def test_simulate_publishes_and_stops_cleanly_on_ctrl_c() -> None:
 @pytest.mark.lsl
 def test_replay_runs_to_the_end_of_the_file() -> None:
     """pyedflib's shipped test_generator.edf (600 s) at 600x real time: about 1 s."""
-    pyedflib = pytest.importorskip("pyedflib")
+    import pyedflib
     edf = Path(pyedflib.__file__).parent / "data" / "test_generator.edf"
     name = f"bedside-test-cli-{uuid.uuid4().hex[:8]}"
     proc = _run("replay", str(edf), "--speed", "600", "--name", name, timeout=30)

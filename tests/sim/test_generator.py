@@ -211,7 +211,7 @@ def test_bridge_makes_the_electrical_distance_tiny(demo) -> None:  # type: ignor
 def test_bridge_found_by_mne(demo) -> None:  # type: ignore[no-untyped-def]
     """MNE-Python's compute_bridged_electrodes (the reference implementation of the
     Alschuler et al. 2014 method) finds exactly the scripted pair, O1-Oz."""
-    mne = pytest.importorskip("mne")
+    import mne
     gen, x = demo
     scn = gen.scenario
     scalp = [i for i, t in enumerate(scn.channel_types) if t == "EEG"]

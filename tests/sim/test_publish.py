@@ -12,9 +12,8 @@ import time
 import uuid
 
 import numpy as np
+import pylsl
 import pytest
-
-pylsl = pytest.importorskip("pylsl")
 
 from bedside.errors import InputError, ScenarioError  # noqa: E402
 from bedside.sim.publish import Publisher, run_in_background  # noqa: E402

@@ -15,10 +15,9 @@ import uuid
 from pathlib import Path
 
 import numpy as np
+import pyedflib
+import pylsl
 import pytest
-
-pylsl = pytest.importorskip("pylsl")
-pyedflib = pytest.importorskip("pyedflib")
 
 from bedside.errors import ScenarioError  # noqa: E402
 from bedside.sim.replay import load_recording, replay_publisher  # noqa: E402
@@ -87,7 +86,7 @@ def test_recording_matches_pyedflib_whole_file() -> None:
 @pytest.mark.lsl
 def test_loop_wraps_around_to_the_start(tmp_path: Path) -> None:
     """--loop: after the last sample comes the first again, with no gap in timestamps."""
-    edfio = pytest.importorskip("edfio")
+    import edfio
     x = np.arange(200, dtype=float) % 100  # 2 s at 100 Hz, values exactly representable
     edf = edfio.Edf([edfio.EdfSignal(x, 100, label="Cz", physical_dimension="uV", physical_range=(-500, 500))])
     path = tmp_path / "short.edf"
@@ -106,7 +105,7 @@ def test_loop_wraps_around_to_the_start(tmp_path: Path) -> None:
 
 
 def test_mixed_rates_play_the_largest_group_and_warn(tmp_path: Path, caplog: pytest.LogCaptureFixture) -> None:
-    edfio = pytest.importorskip("edfio")
+    import edfio
     sig = [
         edfio.EdfSignal(np.zeros(256), 256, label="EEG Fp1", physical_dimension="uV", physical_range=(-500, 500)),
         edfio.EdfSignal(np.zeros(256), 256, label="EEG Fp2", physical_dimension="uV", physical_range=(-500, 500)),
@@ -178,7 +177,7 @@ def _write_xdf(path: Path, data: np.ndarray, rate_hz: float, labels: list[str]) 
 def test_xdf_recording_read_through_pyxdf(tmp_path: Path) -> None:
     """An XDF file written after the XDF specification is read (by pyxdf) with its
     labels, units, rate and samples intact."""
-    pytest.importorskip("pyxdf")
+    import pyxdf  # noqa: F401 - the reader under test needs it (test extra)
     rng = np.random.default_rng(5)
     data = rng.normal(0, 20, (300, 3)).astype(np.float32)
     path = tmp_path / "rec.xdf"
@@ -202,7 +201,7 @@ def test_xdf_without_pyxdf_says_how_to_get_it(tmp_path: Path, monkeypatch: pytes
 
 def test_bdf_is_read_too(tmp_path: Path) -> None:
     """A 24-bit BDF written by edfio reads back with pyEDFlib's values (pyEDFlib reads BDF)."""
-    edfio = pytest.importorskip("edfio")
+    import edfio
     x = np.sin(2 * np.pi * 10 * np.arange(512) / 256) * 80
     path = tmp_path / "short.bdf"
     edfio.Bdf([edfio.BdfSignal(x, 256, label="Oz", physical_dimension="uV", physical_range=(-200, 200))]).write(path)

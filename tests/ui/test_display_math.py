@@ -39,7 +39,7 @@ def test_spectrum_matches_scipy_periodogram() -> None:
 
 
 def _mne_raw(data_uv: np.ndarray, names: list[str], rate: float):  # type: ignore[no-untyped-def]
-    mne = pytest.importorskip("mne")
+    import mne
     info = mne.create_info(names, rate, ch_types="eeg")
     return mne.io.RawArray(data_uv.T * 1e-6, info, verbose="error")
 
@@ -59,7 +59,7 @@ def test_average_reference_matches_mne() -> None:
 
 
 def test_bipolar_matches_mne() -> None:
-    mne = pytest.importorskip("mne")
+    import mne
     rng = np.random.default_rng(2)
     names = ["T7", "P7", "Cz"]
     x = rng.normal(0, 20, (300, 3))
