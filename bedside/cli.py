@@ -14,6 +14,7 @@ import contextlib
 import importlib
 import logging
 import pkgutil
+import signal
 import sys
 import types
 from collections.abc import Sequence
@@ -109,7 +110,39 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: Sequence[str] | None = None) -> int:
     make_streams_safe()
-    parser = build_parser()
+    try:
+        return _run(argv)
+    except BedsideError as exc:
+        say(f"error: {exc}\n")
+        return EXIT_ERROR
+    except KeyboardInterrupt:
+        return interrupted()
+    except BrokenPipeError:
+        return EXIT_OK
+
+
+def interrupted() -> int:
+    """Ctrl-C: say so once and exit 130 (128 + SIGINT, the shell convention). A second
+    Ctrl-C while bedside closes down is ignored, so the exit stays clean."""
+    with contextlib.suppress(ValueError):  # not the main thread: nothing to ignore
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
+    say("interrupted\n")
+    return 130
+
+
+def _run(argv: Sequence[str] | None) -> int:
+    # Building the parser imports every command (numpy, scipy…). Ctrl-C during those
+    # imports is held until they finish: a KeyboardInterrupt raised inside an
+    # extension module's start-up makes CPython end the process by SIGINT at exit
+    # even when bedside has handled it (seen here as exit -2 after "interrupted").
+    held: list[int] = []
+    previous = signal.signal(signal.SIGINT, lambda signum, _frame: held.append(signum))
+    try:
+        parser = build_parser()
+    finally:
+        signal.signal(signal.SIGINT, previous)
+    if held:
+        raise KeyboardInterrupt
     args = parser.parse_args(list(argv) if argv is not None else None)
     logging.basicConfig(
         level=logging.DEBUG if args.verbose else logging.WARNING,
@@ -124,16 +157,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         else:
             parser.print_help()
             return EXIT_OK
-    try:
-        return int(func(args))
-    except BedsideError as exc:
-        say(f"error: {exc}\n")
-        return EXIT_ERROR
-    except KeyboardInterrupt:
-        say("interrupted\n")
-        return 130
-    except BrokenPipeError:
-        return EXIT_OK
+    return int(func(args))
 
 
 def sub_names(parser: argparse.ArgumentParser) -> list[str]:
