@@ -49,6 +49,27 @@ def _resolve(names: Iterable[str], system: str) -> list[tuple[str, str]]:
     return out
 
 
+#: 10-10 names that the head model has no row for, placed midway between the two sites
+#: they halve (the 10-10 rule: each step of the coarser grid halved; Chatrian 1985,
+#: ACNS Guideline 2, from memory). AF9/AF10, PO9/PO10, O9/O10, I1/I2 are not placed:
+#: callers report them unplaced.
+MIDWAY_SITES: dict[str, tuple[str, str]] = {
+    "AF1": ("AF3", "AFz"), "AF2": ("AFz", "AF4"), "AF5": ("AF7", "AF3"), "AF6": ("AF4", "AF8"),
+    "PO1": ("PO3", "POz"), "PO2": ("POz", "PO4"), "PO5": ("PO7", "PO3"), "PO6": ("PO4", "PO8"),
+}
+_MIDWAY_BY_UPPER = {k.upper(): k for k in MIDWAY_SITES}
+
+
+def _midway(a: tuple[float, float, float], b: tuple[float, float, float]) -> tuple[float, float, float]:
+    """The point halfway along the great circle from a to b, at their mean distance
+    from the centre."""
+    ra, rb = math.dist(a, (0, 0, 0)), math.dist(b, (0, 0, 0))
+    m = [(x / ra + y / rb) / 2.0 for x, y in zip(a, b, strict=True)]
+    rm = math.dist(m, (0, 0, 0)) or 1.0
+    r = (ra + rb) / 2.0
+    return (m[0] / rm * r, m[1] / rm * r, m[2] / rm * r)
+
+
 def positions_for(
     names: Iterable[str], system: str = "10-10"
 ) -> dict[str, tuple[float, float, float]]:
@@ -58,8 +79,16 @@ def positions_for(
     labels that are not 10-20/10-10 sites or references are left out. Classic and
     modern names and any letter case are accepted ("t3" -> the position of T7).
     """
+    names = list(names)
     pos = _average_plan(system).positions_mm
-    return {label: pos[modern] for label, modern in _resolve(names, system)}
+    out = {label: pos[modern] for label, modern in _resolve(names, system)}
+    if system == "10-10":
+        for label in names:
+            site = _MIDWAY_BY_UPPER.get(label.strip().upper()) if isinstance(label, str) else None
+            if site is not None and label not in out:
+                a, b = MIDWAY_SITES[site]
+                out[label] = _midway(pos[a], pos[b])
+    return out
 
 
 def neighbours_for(names: Sequence[str], system: str = "10-10") -> tuple[tuple[str, str], ...]:
