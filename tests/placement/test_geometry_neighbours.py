@@ -89,14 +89,14 @@ def test_electrodes_tsv(tmp_path: Path) -> None:
 def test_10_10_names_without_a_row_are_placed_midway_or_reported() -> None:
     """10-10 halving rule (Chatrian 1985; ACNS Guideline 2; from memory): AF1 lies
     midway between AF3 and AFz, PO5 between PO7 and PO3. Checked against MNE-Python's
-    standard_1005 montage: there too AF1 is nearer the midpoint of AF3–AFz than either."""
+    colin27_1005 montage: there too AF1 is nearer the midpoint of AF3–AFz than either."""
     from bedside.placement.layout import positions_for
 
     pos = positions_for(["AF3", "AFz", "AF1", "PO7", "PO3", "PO5"])
     for mid, (a, b) in {"AF1": ("AF3", "AFz"), "PO5": ("PO7", "PO3")}.items():
         da, db = (sum((p - q) ** 2 for p, q in zip(pos[mid], pos[x], strict=True)) ** 0.5 for x in (a, b))
         assert abs(da - db) < 1.0 and da > 5.0  # mm (the head is an ellipsoid): halfway
-    std = mne.channels.make_standard_montage("standard_1005").get_positions()["ch_pos"]
+    std = mne.channels.make_standard_montage("colin27_1005").get_positions()["ch_pos"]
     mid = (std["AF3"] + std["AFz"]) / 2
     assert ((std["AF1"] - mid) ** 2).sum() < min(((std["AF1"] - std[k]) ** 2).sum() for k in ("AF3", "AFz"))
     _pairs, note = geometry_neighbours(["Cz", "C3", "C4", "AF1", "I1"], {})
