@@ -56,3 +56,54 @@ def check_format(value: str, accepted: tuple[str, ...]) -> str:
     if value not in accepted:
         raise InputError(f"--format {value!r} is not known; accepted: {', '.join(accepted)}")
     return value
+
+
+def add_channel_options(parser: argparse.ArgumentParser) -> None:
+    """How the channels are read: types and names, reference, scale, amplifier, layout."""
+    g = parser.add_argument_group("channels (what bedside infers from the stream can be overridden)")
+    g.add_argument("--channels", metavar="FILE",
+                   help="YAML channel map: channels: {LABEL: {type: EOG, name: LOC}}; saved for this "
+                        "source_id and used again next time")
+    g.add_argument("--reference", metavar="LABEL",
+                   help="what the channels are referred to: an electrode (A1, Cz) or 'average'")
+    g.add_argument("--uv-per-count", metavar="UV", type=positive_float("--uv-per-count"),
+                   help="µV per count, for an amplifier that streams raw integer counts")
+    g.add_argument("--amplifier", metavar="NAME",
+                   help="amplifier profile from configs/amplifiers.yaml (dc-active, dc-passive, ac-passive)")
+    g.add_argument("--layout", metavar="FILE", help="electrode positions: a BIDS electrodes.tsv")
+
+
+def channel_options(args: argparse.Namespace, source_id: str):  # type: ignore[no-untyped-def]
+    """The ChannelOptions of ``add_channel_options``; a ``--channels`` map is saved for
+    ``source_id``, and without one the map saved for it before is used (not strictly)."""
+    from bedside.placement.layout import read_electrodes_tsv
+    from bedside.stream.channel_map import load_channel_map, saved_choices
+    from bedside.stream.channels import ChannelOptions
+
+    choices, where, strict = {}, "the channel map", True
+    if getattr(args, "channels", None):
+        choices = load_channel_map(args.channels)
+        where = f"--channels {args.channels}"
+    else:
+        saved = saved_choices(source_id)
+        if saved:
+            choices, where, strict = saved, "the channel choices saved for this source_id", False
+    layout = read_electrodes_tsv(args.layout) if getattr(args, "layout", None) else {}
+    opts = ChannelOptions(
+        uv_per_count=getattr(args, "uv_per_count", None), reference=getattr(args, "reference", None),
+        amplifier=getattr(args, "amplifier", None), choices=choices, layout_mm=layout,
+        choices_from=where, choices_strict=strict,
+    )
+    if opts.amplifier is not None:
+        from bedside.stream.amplifier import decide_profile
+
+        decide_profile({}, opts.amplifier)  # an unknown name: say so before connecting
+    return opts
+
+
+def remember_choices(args: argparse.Namespace, source_id: str, opts) -> None:  # type: ignore[no-untyped-def]
+    """After the stream accepted the --channels map, save it for this source_id."""
+    from bedside.stream.channel_map import save_choices
+
+    if getattr(args, "channels", None) and opts.choices:
+        save_choices(source_id, opts.choices)

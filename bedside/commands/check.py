@@ -8,11 +8,14 @@ listed so that one can be pinned).
 JSON (``--format json``): one object ::
 
     {"stream": {"identity": {...}, "health": {...}},
-     "channels": [{"name", "level", "reasons", "metrics"}, ...],
+     "channels": [{"name", "label", "type", "level", "reasons", "metrics"}, ...],
+     "channel_setup": {"summary", "reference", "amplifier", "neighbours", "notes"},
      "findings": [{"kind", "electrodes", "level", "reason"}, ...],
      "mains_hz": 50, "window_s": 4.0, "seconds": 10.0, "stream_lost": false}
 
-``level`` is ``good``, ``check``, ``bad`` or ``no_data``; metrics carry their unit in
+``name`` is bedside's normalised name (``FC5`` from ``Fc5.``), ``label`` the stream's own,
+``type`` the BIDS channels.tsv type. ``level`` is ``good``, ``check``, ``bad``,
+``no_data`` or ``not_judged`` (a channel that is not an electrode: trigger, sensor); metrics carry their unit in
 their name; numbers that cannot be computed are null.
 """
 
@@ -29,7 +32,13 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from bedside.cautions import DISCLAIMER
-from bedside.commands._common import add_stream_selection, positive_float
+from bedside.commands._common import (
+    add_channel_options,
+    add_stream_selection,
+    channel_options,
+    positive_float,
+    remember_choices,
+)
 from bedside.errors import InputError
 
 NAME = "check"
@@ -44,7 +53,7 @@ if TYPE_CHECKING:
     from bedside.record.log import SetupLog
     from bedside.stream.source import Source
     from bedside.stream.tee import KeepRecent
-    from bedside.stream.types import StreamIdentity
+    from bedside.stream.types import ChannelInfo, StreamIdentity
 
 FrameConsumer = Callable[["QualityFrame"], None]
 
@@ -68,6 +77,7 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         + DISCLAIMER,
     )
     add_stream_selection(p)
+    add_channel_options(p)
     p.add_argument(
         "--seconds", metavar="S", type=positive_float("--seconds"), default=8.0,
         help="seconds of data to judge (default 8; at least the checks' min_data_s)",
@@ -87,14 +97,32 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p.set_defaults(func=run)
 
 
+def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], str]:
+    """Engine keyword arguments from what the source knows of its channels (bridging
+    neighbours from the geometry, the amplifier's range), and a note on the geometry."""
+    from bedside.placement.layout import geometry_neighbours
+    from bedside.stream.labels import load_labels
+
+    rules = rules or load_labels()
+    scalp = [c for c in source.channels if c.is_scalp]
+    positions = {c.name: c.position_mm for c in scalp if c.position_mm is not None}
+    pairs, note = geometry_neighbours([c.name for c in scalp], positions, rules.local_sites)
+    kwargs: dict[str, Any] = {"neighbours": pairs}
+    profile = getattr(source, "profile", None)
+    if profile is not None and profile.input_range_uv:
+        kwargs["amplifier_range_uv"] = profile.input_range_uv
+    return kwargs, note
+
+
 def collect(
-    source: Source, settings: QualitySettings, seconds: float, consumers: list[FrameConsumer]
+    source: Source, settings: QualitySettings, seconds: float, consumers: list[FrameConsumer],
+    engine_kwargs: dict[str, Any] | None = None,
 ) -> tuple[QualityFrame | None, bool, BedsideError | None]:
     """Run engine + monitor on ``source`` for ``seconds``; returns (last frame, lost?, error)."""
     from bedside.checks.engine import Engine
     from bedside.checks.monitor import Monitor
 
-    engine = Engine(settings, source.channels, source.identity.nominal_rate_hz)
+    engine = Engine(settings, source.channels, source.identity.nominal_rate_hz, **(engine_kwargs or {}))
 
     def on_frame(frame: QualityFrame) -> None:
         for consume in consumers:
@@ -112,10 +140,18 @@ def _num(v: object) -> object:
     return None if isinstance(v, float) and not math.isfinite(v) else v
 
 
-def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool) -> dict[str, Any]:
+def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool,
+            channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None) -> dict[str, Any]:
     chans = []
-    for c in frame.channels:
-        d = c.as_dict()
+    for i, c in enumerate(frame.channels):
+        info = channels[i] if i < len(channels) else None
+        d: dict[str, Any] = {"name": c.name}
+        if info is not None:
+            d["label"] = info.label
+            d["type"] = info.kind
+        d.update({k: v for k, v in c.as_dict().items() if k != "name"})
+        if c.level is None and frame.live and any(r.startswith("not judged") for r in c.reasons):
+            d["level"] = "not_judged"  # a channel that is no electrode (engine's wording)
         d["metrics"] = {k: _num(v) for k, v in c.metrics.items()}
         chans.append(d)
     health = frame.stream_health
@@ -125,6 +161,7 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
             "health": health.as_dict() if health is not None else None,
         },
         "channels": chans,
+        "channel_setup": setup or {},
         "findings": [f.as_dict() for f in frame.findings],
         "mains_hz": frame.extras.get("mains_hz"),
         "window_s": frame.window_s,
@@ -138,11 +175,13 @@ def as_table(report: dict[str, Any]) -> str:
 
     symbol = {lv.key: lv.symbol for lv in Level}
     symbol["no_data"] = NO_DATA_SYMBOL
-    head = ["channel", "verdict", *(h for _k, h in TABLE_METRICS), "reason"]
+    head = ["channel", "type", "verdict", *(h for _k, h in TABLE_METRICS), "reason"]
     rows = []
     for c in report["channels"]:
         m = c["metrics"]
-        cells = [c["name"], f"{symbol[c['level']]} {c['level']}"]
+        level = c["level"]
+        shown = f"{symbol[level]} {level}" if level in symbol else "- not judged"
+        cells = [c["name"], c.get("type", ""), shown]
         for key, _h in TABLE_METRICS:
             v = m.get(key)
             cells.append("-" if v is None else f"{v:.1f}")
@@ -175,7 +214,8 @@ def as_table(report: dict[str, Any]) -> str:
 def exit_code(report: dict[str, Any]) -> int:
     if report["stream_lost"]:
         return EXIT_ATTENTION
-    levels = [c["level"] for c in report["channels"]] + [f["level"] for f in report["findings"]]
+    levels = [c["level"] for c in report["channels"] if c["level"] != "not_judged"]
+    levels += [f["level"] for f in report["findings"]]
     return EXIT_OK if all(lv == "good" for lv in levels) else EXIT_ATTENTION
 
 
@@ -208,6 +248,7 @@ def _write_clip(
 
 def run(args: argparse.Namespace) -> int:
     from bedside.checks.settings import load_quality
+    from bedside.stream.channels import kind_counts
     from bedside.stream.discovery import resolve_one
     from bedside.stream.lsl import prepare_lsl
     from bedside.stream.reader import LslSource
@@ -235,11 +276,20 @@ def run(args: argparse.Namespace) -> int:
             raise InputError(f"--clip {args.clip}: is a folder; give a file name such as clip.edf")
     prepare_lsl()
     identity = resolve_one(args.stream, args.source_id, args.host, wait_s=args.wait)
+    options = channel_options(args, identity.source_id)
     consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
     with optional_recorder(
         args.log, technologist=args.technologist, subject_id=args.subject,
         config_paths=[args.config or DEFAULT_PATH],
-    ) as recorder, LslSource(identity) as lsl_source:
+    ) as recorder, LslSource(identity, options=options) as lsl_source:
+        remember_choices(args, identity.source_id, options)
+        kwargs, geometry_note = engine_options(lsl_source)
+        setup = {
+            "summary": kind_counts(lsl_source.channels),
+            "reference": {"label": lsl_source.reference.label or None, "source": lsl_source.reference.source},
+            "amplifier": lsl_source.profile.as_dict(),
+            "neighbours": geometry_note,
+        }
         source: Source = lsl_source
         keep = KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
         if keep is not None:
@@ -247,15 +297,17 @@ def run(args: argparse.Namespace) -> int:
         if recorder is not None:
             recorder.set_stream(source.identity, source.channels)
             consumers.append(recorder.on_frame)
-        frame, lost, error = collect(source, settings, args.seconds, consumers)
+        frame, lost, error = collect(source, settings, args.seconds, consumers, kwargs)
         identity = source.identity
+        setup["notes"] = [lsl_source.unit_note] if lsl_source.unit_note else []
+        channels = source.channels
         if keep is not None and error is None:
             _write_clip(args, keep, recorder.snapshot() if recorder is not None else None, frame)
     if error is not None:
         raise error
     if frame is None:
         raise InputError("no frame was produced; the stream sent nothing")
-    report = as_json(frame, identity, args.seconds, lost)
+    report = as_json(frame, identity, args.seconds, lost, channels, setup)
     if args.format == "json":
         print(json.dumps(report, indent=2, ensure_ascii=False))
     else:

@@ -10,7 +10,7 @@ and women (57.2 and 55.2 cm, Bushby et al. 1992); the arcs are typical adult val
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from functools import lru_cache
 
 from bedside.placement import systems
@@ -49,6 +49,27 @@ def _resolve(names: Iterable[str], system: str) -> list[tuple[str, str]]:
     return out
 
 
+#: 10-10 names that the head model has no row for, placed midway between the two sites
+#: they halve (the 10-10 rule: each step of the coarser grid halved; Chatrian 1985,
+#: ACNS Guideline 2, from memory). AF9/AF10, PO9/PO10, O9/O10, I1/I2 are not placed:
+#: callers report them unplaced.
+MIDWAY_SITES: dict[str, tuple[str, str]] = {
+    "AF1": ("AF3", "AFz"), "AF2": ("AFz", "AF4"), "AF5": ("AF7", "AF3"), "AF6": ("AF4", "AF8"),
+    "PO1": ("PO3", "POz"), "PO2": ("POz", "PO4"), "PO5": ("PO7", "PO3"), "PO6": ("PO4", "PO8"),
+}
+_MIDWAY_BY_UPPER = {k.upper(): k for k in MIDWAY_SITES}
+
+
+def _midway(a: tuple[float, float, float], b: tuple[float, float, float]) -> tuple[float, float, float]:
+    """The point halfway along the great circle from a to b, at their mean distance
+    from the centre."""
+    ra, rb = math.dist(a, (0, 0, 0)), math.dist(b, (0, 0, 0))
+    m = [(x / ra + y / rb) / 2.0 for x, y in zip(a, b, strict=True)]
+    rm = math.dist(m, (0, 0, 0)) or 1.0
+    r = (ra + rb) / 2.0
+    return (m[0] / rm * r, m[1] / rm * r, m[2] / rm * r)
+
+
 def positions_for(
     names: Iterable[str], system: str = "10-10"
 ) -> dict[str, tuple[float, float, float]]:
@@ -58,8 +79,16 @@ def positions_for(
     labels that are not 10-20/10-10 sites or references are left out. Classic and
     modern names and any letter case are accepted ("t3" -> the position of T7).
     """
+    names = list(names)
     pos = _average_plan(system).positions_mm
-    return {label: pos[modern] for label, modern in _resolve(names, system)}
+    out = {label: pos[modern] for label, modern in _resolve(names, system)}
+    if system == "10-10":
+        for label in names:
+            site = _MIDWAY_BY_UPPER.get(label.strip().upper()) if isinstance(label, str) else None
+            if site is not None and label not in out:
+                a, b = MIDWAY_SITES[site]
+                out[label] = _midway(pos[a], pos[b])
+    return out
 
 
 def neighbours_for(names: Sequence[str], system: str = "10-10") -> tuple[tuple[str, str], ...]:
@@ -99,3 +128,103 @@ def project_2d(
     if horizontal == 0.0:
         return (0.0, 0.0)
     return (r * u[0] / horizontal, r * u[1] / horizontal)
+
+
+def read_electrodes_tsv(path: str) -> dict[str, tuple[float, float, float]]:
+    """Positions (mm) from a BIDS ``electrodes.tsv`` (columns name, x, y, z; BIDS-EEG).
+
+    Units come from the ``*_coordsystem.json`` beside it (``EEGCoordinateUnits``: m, cm
+    or mm); without one, from the size of the head (a median distance from the
+    centre below 1 is metres, below 30 centimetres, else millimetres). Rows whose
+    x/y/z are "n/a" are left out. Problems are InputErrors naming the file."""
+    import csv
+    import json
+    from pathlib import Path
+
+    from bedside.errors import InputError
+
+    p = Path(path)
+    try:
+        text = p.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError, ValueError) as exc:
+        raise InputError(f"--layout {path}: cannot read it ({exc}); a BIDS electrodes.tsv is needed") from exc
+    rows = list(csv.reader(text.splitlines(), delimiter="\t"))
+    if not rows or [h.strip().lower() for h in rows[0][:4]] != ["name", "x", "y", "z"]:
+        raise InputError(f"--layout {path}: the first columns must be name, x, y, z (BIDS electrodes.tsv)")
+    raw: dict[str, tuple[float, float, float]] = {}
+    for n, row in enumerate(rows[1:], start=2):
+        if not row or not row[0].strip():
+            continue
+        if len(row) < 4:
+            raise InputError(f"--layout {path}, line {n}: needs name, x, y and z")
+        if any(v.strip().lower() == "n/a" for v in row[1:4]):
+            continue
+        try:
+            xyz = tuple(float(v) for v in row[1:4])
+        except ValueError:
+            raise InputError(f"--layout {path}, line {n}: x, y, z must be numbers or n/a") from None
+        if not all(math.isfinite(v) for v in xyz):
+            raise InputError(f"--layout {path}, line {n}: x, y, z must be finite numbers")
+        raw[row[0].strip()] = (xyz[0], xyz[1], xyz[2])
+    if not raw:
+        raise InputError(f"--layout {path}: no electrode with a position")
+    factor = None
+    for cs in sorted(p.parent.glob("*coordsystem.json")):
+        try:
+            unit = json.loads(cs.read_text(encoding="utf-8")).get("EEGCoordinateUnits")
+        except (OSError, ValueError, AttributeError):
+            continue
+        factor = {"m": 1000.0, "cm": 10.0, "mm": 1.0}.get(str(unit))
+        if factor is not None:
+            break
+    if factor is None:
+        factor = _guess_mm_factor(list(raw.values()))
+    return {k: (v[0] * factor, v[1] * factor, v[2] * factor) for k, v in raw.items()}
+
+
+def _guess_mm_factor(points: Sequence[tuple[float, float, float]]) -> float:
+    """mm per unit from the size of a head (radius about 0.09 m)."""
+    import numpy as np
+
+    p = np.asarray(points, dtype=float)
+    r = float(np.median(np.linalg.norm(p - p.mean(axis=0), axis=1))) if len(p) > 1 else 0.0
+    return 1000.0 if r < 1.0 else (10.0 if r < 30.0 else 1.0)
+
+
+def geometry_neighbours(
+    names: Sequence[str],
+    positions_mm: Mapping[str, tuple[float, float, float]],
+    site_of: Mapping[str, str] | None = None,
+) -> tuple[tuple[tuple[str, str], ...] | None, str]:
+    """Bridging neighbours for the scalp channels ``names`` and a note on where they came from.
+
+    positions_mm: positions from the stream or a layout file (mm), for some or all
+    names. With at least three placed channels the pairs come from that geometry (its
+    own head size); otherwise from the 10-10 names on the average adult head; with
+    neither, ``(None, note)``: the caller compares all pairs, and the note says so.
+    site_of: a name → the 10-10 site whose position it takes (local names such as
+    the neonatal Fp3 → AF3, configs/labels.yaml)."""
+    placed = {n: positions_mm[n] for n in names if n in positions_mm}
+    if len(placed) >= 3:
+        import numpy as np
+
+        p = np.asarray(list(placed.values()), dtype=float)
+        radius = float(np.median(np.linalg.norm(p - p.mean(axis=0), axis=1)))
+        pairs = neighbour_pairs(placed, 2.0 * math.pi * radius)
+        unplaced = [n for n in names if n not in placed]
+        note = f"bridging neighbours from the electrode positions ({len(pairs)} pairs)"
+        if unplaced:
+            note += f"; no position for {', '.join(unplaced[:8])}{' …' if len(unplaced) > 8 else ''}"
+        return pairs, note
+    lookup = {n: (site_of or {}).get(n, n) for n in names}
+    by_site = positions_for(set(lookup.values()))
+    known = {n: by_site[s] for n, s in lookup.items() if s in by_site}
+    if len(known) >= 2:
+        pairs = neighbour_pairs(known, AVERAGE_ADULT.circumference_cm * 10.0)
+        unplaced = [n for n in names if n not in known]
+        note = f"bridging neighbours from the 10-10 names on an average adult head ({len(pairs)} pairs)"
+        if unplaced:
+            note += f"; unplaced (not 10-10 sites): {', '.join(unplaced[:8])}{' …' if len(unplaced) > 8 else ''}"
+        return pairs, note
+    return None, ("no electrode positions and no 10-20/10-10 names: bridging compares all pairs "
+                  "(give positions with --layout FILE)")

@@ -9,6 +9,12 @@ grid, which can bridge as easily as the sides). "Close" means a chord shorter th
 step of the 10-20 system (20 % of an arc over the vertex, about 0.125 of the
 circumference), so a sparse 10-20 montage keeps its natural neighbours while sites
 on opposite sides of the head never pair.
+
+Sparse montages (the neonatal set of ACNS Guideline 5: Fp1 Fp2 C3 Cz C4 T3 T4 O1 O2)
+have gaps wider than that: there "close" grows with the set's own spacing, to
+``_SPACING_FACTOR`` times the median distance from a site to its nearest one, so
+Fp–C, C–O and T–O, between which no site lies, stay neighbours. Every site keeps at
+least its nearest one (ours).
 """
 
 from __future__ import annotations
@@ -20,6 +26,7 @@ import numpy as np
 
 _BETWEEN_ANGLE_DEG = 110.0
 _MAX_CHORD_FRACTION = 0.14
+_SPACING_FACTOR = 2.0
 
 
 def neighbour_pairs(
@@ -37,7 +44,11 @@ def neighbour_pairs(
     p = np.asarray([positions_mm[k] for k in names], dtype=float)
     diff = p[:, None, :] - p[None, :, :]
     d2 = np.einsum("ijk,ijk->ij", diff, diff)
-    close = d2 <= (_MAX_CHORD_FRACTION * circumference_mm) ** 2
+    others = np.where(np.eye(n, dtype=bool) | (d2 <= 0.0), np.inf, d2)
+    nearest = others.min(axis=1)
+    spacing2 = float(np.median(nearest[np.isfinite(nearest)])) if np.isfinite(nearest).any() else 0.0
+    limit2 = max((_MAX_CHORD_FRACTION * circumference_mm) ** 2, _SPACING_FACTOR**2 * spacing2)
+    close = d2 <= limit2
     i_idx, j_idx = np.nonzero(np.triu(close & (d2 > 0.0), k=1))
     if len(i_idx) == 0:
         return ()
@@ -49,8 +60,10 @@ def neighbour_pairs(
         cos_k = (dik + djk - dij) / (2.0 * np.sqrt(dik * djk))
     cos_limit = math.cos(math.radians(_BETWEEN_ANGLE_DEG))
     blocked = np.any(np.isfinite(cos_k) & (cos_k < cos_limit), axis=1)
-    pairs = []
-    for i, j in zip(i_idx[~blocked], j_idx[~blocked], strict=True):
-        a, b = sorted((names[int(i)], names[int(j)]))
-        pairs.append((a, b))
-    return tuple(sorted(set(pairs)))
+    keep = {(int(i), int(j)) for i, j in zip(i_idx[~blocked], j_idx[~blocked], strict=True)}
+    for i in range(n):  # every site keeps at least its nearest one
+        if np.isfinite(nearest[i]) and not any(i in pair for pair in keep):
+            j = int(np.argmin(others[i]))
+            keep.add((min(i, j), max(i, j)))
+    pairs = [tuple(sorted((names[i], names[j]))) for i, j in keep]
+    return tuple(sorted(set(pairs)))  # type: ignore[arg-type]

@@ -29,14 +29,22 @@ from typing import Any
 
 import numpy as np
 
-from bedside.errors import StreamError, StreamFormatError, StreamNotFound
-from bedside.stream.channels import build_channels
+from bedside.errors import BedsideError, StreamError, StreamFormatError, StreamNotFound
+from bedside.stream.amplifier import AmplifierProfile
+from bedside.stream.channels import (
+    ChannelMetadata,
+    ChannelOptions,
+    Reference,
+    StreamMetadata,
+    setup_channels,
+)
 from bedside.stream.discovery import describe, identity_of
 from bedside.stream.health import HealthTracker
 from bedside.stream.labels import LabelRules, load_labels
 from bedside.stream.lsl import local_clock, pylsl, translate
 from bedside.stream.settings import StreamSettings, load_stream_settings
 from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
+from bedside.stream.units import is_counts, unit_suspicion
 
 log = logging.getLogger("bedside")
 
@@ -78,6 +86,18 @@ def check_rate(identity: StreamIdentity, settings: StreamSettings) -> str:
     return ""
 
 
+def check_channel_count(identity: StreamIdentity, settings: StreamSettings) -> None:
+    """Reject a stream with no channels or more than ``max_channels`` (StreamFormatError)."""
+    n = identity.n_channels
+    if n < 1:
+        raise StreamFormatError(f"{describe(identity)} has no channels")
+    if n > settings.max_channels:
+        raise StreamFormatError(
+            f"{describe(identity)} carries {n} channels; bedside reads at most "
+            f"{settings.max_channels} (max_channels in configs/stream.yaml)"
+        )
+
+
 def read_channel_metadata(info: Any) -> tuple[list[str] | None, list[str], list[str]]:
     """``(labels or None, types, units)`` from ``desc/channels/channel/*`` of a full info.
 
@@ -98,6 +118,51 @@ def read_channel_metadata(info: Any) -> tuple[list[str] | None, list[str], list[
     return (labels if labels else None), types, units
 
 
+def _location(ch: Any) -> tuple[float, float, float] | None:
+    loc = ch.child("location")
+    if loc.empty():
+        return None
+    try:
+        xyz = tuple(float(loc.child_value(k)) for k in ("X", "Y", "Z"))
+    except ValueError:
+        return None
+    if not all(math.isfinite(v) for v in xyz) or xyz == (0.0, 0.0, 0.0):
+        return None
+    return (xyz[0], xyz[1], xyz[2])
+
+
+def _children(node: Any) -> dict[str, str]:
+    out: dict[str, str] = {}
+    if node.empty():
+        return out
+    child = node.first_child()
+    while not child.empty():
+        out.setdefault(child.name(), child.child_value())
+        child = child.next_sibling()
+    return out
+
+
+def read_stream_metadata(info: Any) -> StreamMetadata:
+    """The channel, reference and acquisition description of a full info (XDF EEG
+    meta-data convention: ``desc/channels/channel/{label, unit, type, location/{X,Y,Z}}``
+    with locations in mm, ``desc/reference/{label, subtracted, common_average}``,
+    ``desc/acquisition/*``). A per-channel ``scaling_factor`` is read as µV per count."""
+    labels, types, units = read_channel_metadata(info)
+    scales: list[str] = []
+    locations: list[tuple[float, float, float] | None] = []
+    channels = info.desc().child("channels")
+    ch = channels.child("channel") if not channels.empty() else channels
+    while not ch.empty():
+        scales.append(ch.child_value("scaling_factor"))
+        locations.append(_location(ch))
+        ch = ch.next_sibling("channel")
+    return StreamMetadata(
+        ChannelMetadata(labels, types, units, scales, locations),
+        _children(info.desc().child("reference")),
+        _children(info.desc().child("acquisition")),
+    )
+
+
 class LslSource:
     """One pinned LSL stream, read into µV with continuous health. Use as a context manager."""
 
@@ -106,13 +171,13 @@ class LslSource:
         identity: StreamIdentity,
         settings: StreamSettings | None = None,
         labels: LabelRules | None = None,
+        options: ChannelOptions | None = None,
     ) -> None:
         self._settings = settings or load_stream_settings()
         rules = labels or load_labels()
         s = self._settings
         rate_note = check_rate(identity, s)
-        if identity.n_channels < 1:
-            raise StreamFormatError(f"{describe(identity)} has no channels")
+        check_channel_count(identity, s)
         if not identity.source_id:
             raise StreamFormatError(
                 f"{describe(identity)} has no source_id, so it could never be recognised after a "
@@ -169,10 +234,23 @@ class LslSource:
         except StreamFormatError:
             self.close()
             raise
-        labels_, types_, units_ = read_channel_metadata(full)
-        self._channels, notes = build_channels(
-            self._identity.n_channels, labels_, types_, units_, rules
-        )
+        try:
+            check_channel_count(self._identity, s)
+            setup = setup_channels(
+                self._identity.n_channels, read_stream_metadata(full), rules, options,
+                integer=np.issubdtype(self._dtype, np.integer), what=describe(self._identity),
+            )
+        except BedsideError:
+            self.close()
+            raise
+        self._channels, notes = setup.channels, setup.notes
+        self._reference, self._profile = setup.reference, setup.profile
+        self._unit_mask = np.array(
+            [c.is_scalp and c.scale_to_uv == 1.0 and not is_counts(c.unit) for c in self._channels],
+            dtype=bool)
+        self._unit_seen: list[np.ndarray] = []
+        self._unit_need = max(2, int(s.unit_check_s * self._identity.nominal_rate_hz))
+        self.unit_note = ""
         self._scale = np.array([c.scale_to_uv for c in self._channels], dtype=np.float64)
         self._raw = np.zeros((s.max_pull_samples, self._identity.n_channels), dtype=self._dtype)
         now = time.monotonic()
@@ -180,7 +258,7 @@ class LslSource:
             self._identity.nominal_rate_hz, s, started_wall=now, label=f"stream '{identity.name}'"
         )
         for text in ((rate_note,) if rate_note else ()) + notes:
-            self._tracker.note(text)
+            self._tracker.note(text, level=logging.INFO if text.startswith("channels: ") else logging.WARNING)
         if self._identity.type.strip().casefold() != "eeg":
             self._tracker.note(f"the stream's type is '{self._identity.type}', not EEG; read as EEG")
         if self._identity.n_channels == 1:
@@ -210,6 +288,30 @@ class LslSource:
     def settings(self) -> StreamSettings:
         return self._settings
 
+    @property
+    def reference(self) -> Reference:
+        """What the channels are referred to (``--reference``, metadata or label suffixes)."""
+        return self._reference
+
+    @property
+    def profile(self) -> AmplifierProfile:
+        """The amplifier's coupling and input range, where known."""
+        return self._profile
+
+    def _check_units(self, samples_uv: np.ndarray) -> None:
+        """Once, over the first unit_check_s of data: do µV values look like V or mV?"""
+        self._unit_seen.append(samples_uv)
+        if sum(len(a) for a in self._unit_seen) < self._unit_need:
+            return
+        s = self._settings
+        note = unit_suspicion(np.concatenate(self._unit_seen), self._unit_mask,
+                              s.millivolts_below_uv, s.volts_below_uv)
+        self._unit_seen = []
+        self._unit_need = -1
+        if note:
+            self.unit_note = note
+            self._tracker.note(note, level=logging.WARNING)
+
     def pull(self, timeout_s: float = 0.0) -> Chunk | None:
         """New samples since the last pull — (n, n_channels) µV and timestamps (n,) on this
         computer's LSL clock — or None if none arrived within ``timeout_s``."""
@@ -235,6 +337,8 @@ class LslSource:
         if n == 0:
             return None
         timestamps = np.asarray(ts, dtype=np.float64)
+        if self._unit_need > 0:
+            self._check_units(samples_uv)
         self._tracker.observe(timestamps, local_clock(), now_wall)
         if now_wall - self._last_clock_check >= self._settings.clock_check_s:
             self._last_clock_check = now_wall
@@ -326,6 +430,7 @@ def open_stream(
     wait_s: float = 3.0,
     settings: StreamSettings | None = None,
     labels: LabelRules | None = None,
+    options: ChannelOptions | None = None,
 ) -> LslSource:
     """Select one EEG stream the way every command does (``--stream``, ``--source-id``,
     ``--host``, ``--wait``; see :func:`bedside.stream.discovery.resolve_one`) and open it."""
@@ -333,4 +438,4 @@ def open_stream(
 
     s = settings or load_stream_settings()
     identity = resolve_one(name=name, source_id=source_id, host=host, wait_s=wait_s, settings=s)
-    return LslSource(identity, s, labels)
+    return LslSource(identity, s, labels, options)

@@ -36,6 +36,10 @@ class StreamSettings:
     min_rate_hz: float = field(default=128.0, metadata={"min": 1.0, "max": 100_000.0})
     max_rate_hz: float = field(default=20_000.0, metadata={"min": 1.0, "max": 1_000_000.0})
     low_rate_note_hz: float = field(default=200.0, metadata={"min": 1.0, "max": 100_000.0})
+    max_channels: int = field(default=1024, metadata={"min": 1, "max": 100_000})
+    millivolts_below_uv: float = field(default=0.5, metadata={"min": 0.0, "max": 100.0})
+    volts_below_uv: float = field(default=0.002, metadata={"min": 0.0, "max": 100.0})
+    unit_check_s: float = field(default=2.0, metadata={"min": 0.1, "max": 60.0})
     max_notes: int = field(default=20, metadata={"min": 1, "max": 1000})
     discovery_min_wait_s: float = field(default=1.0, metadata={"min": 0.0, "max": 60.0})
 
@@ -43,6 +47,11 @@ class StreamSettings:
         if self.lost_after_s < self.stale_after_s:
             raise ValueError(
                 f"lost_after_s ({self.lost_after_s}) must not be below stale_after_s ({self.stale_after_s})"
+            )
+        if self.volts_below_uv >= self.millivolts_below_uv:
+            raise ValueError(
+                f"volts_below_uv ({self.volts_below_uv}) must be below millivolts_below_uv "
+                f"({self.millivolts_below_uv})"
             )
         if self.min_rate_hz >= self.max_rate_hz:
             raise ValueError(

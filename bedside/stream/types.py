@@ -39,7 +39,11 @@ class ChannelInfo:
     "EMG", "TRIG", "MISC", "REF"; unit: as sent ("" when missing); scale_to_uv:
     the factor that turns the stream's values into µV; is_scalp: takes part in
     scalp checks; note: what bedside had to assume or change for this channel
-    (unit missing, label empty or repeated), "" when nothing.
+    (unit missing, label empty or repeated), "" when nothing; evidence: what decided
+    the kind ("type", "unit", "label", "EDF+ type", "site", "assumed", "reference",
+    "technologist"); reference: the reference its label names ("A1" in "T3-A1"), ""
+    when none; position_mm: (x, y, z) from the stream's metadata or a layout file, in
+    mm (x right, y front, z up), None when not known.
     """
 
     label: str
@@ -49,6 +53,9 @@ class ChannelInfo:
     scale_to_uv: float
     is_scalp: bool
     note: str = ""
+    evidence: str = ""
+    reference: str = ""
+    position_mm: tuple[float, float, float] | None = None
 
 
 @dataclass(frozen=True)

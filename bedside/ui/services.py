@@ -93,9 +93,14 @@ def _select_stream(
 
 
 def _open_source(identity: StreamIdentity) -> Source:
+    from bedside.stream.channel_map import saved_choices
+    from bedside.stream.channels import ChannelOptions
     from bedside.stream.reader import LslSource
 
-    return LslSource(identity)
+    # The technologist's channel choices saved for this amplifier (source_id), if any.
+    saved = saved_choices(identity.source_id) or {}
+    return LslSource(identity, options=ChannelOptions(
+        choices=saved, choices_from="the channel choices saved for this source_id", choices_strict=False))
 
 
 def _load_quality() -> Any:
@@ -112,6 +117,13 @@ def _make_engine(
 ) -> Any:
     from bedside.checks.engine import Engine
 
+    if neighbours is None:  # from the channels' own positions where the stream gives them
+        from bedside.placement.layout import geometry_neighbours
+        from bedside.stream.labels import load_labels
+
+        scalp = [c for c in channels if c.is_scalp]
+        pos = {c.name: c.position_mm for c in scalp if c.position_mm is not None}
+        neighbours, _note = geometry_neighbours([c.name for c in scalp], pos, load_labels().local_sites)
     return Engine(settings, channels, rate_hz, neighbours)
 
 

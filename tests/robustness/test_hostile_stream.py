@@ -8,7 +8,7 @@ invented "clean" scenario with some channels damaged on the way out:
 * F7: NaN every 50th sample; F8: +Inf every 50th sample (IEEE 754 special values),
 * T7: all zero (a dead channel),
 * T8: constant at the float32 maximum, 3.4028235e38 (numpy.finfo(np.float32).max),
-* P4 labelled "Cz" again (a duplicate), O2 with an empty label, P8 in "counts" (no unit
+* P4 labelled "Cz" again (a duplicate), O2 with an empty label, P8 in "furlongs" (no unit
   bedside knows).
 
 Expected: no crash and no traceback; exit 1 (something needs attention); each damaged
@@ -49,7 +49,7 @@ def test_check_on_a_hostile_stream_names_each_damaged_channel(capsys: pytest.Cap
     chans = list(spec.channels)
     chans[idx["P4"]] = dataclasses.replace(chans[idx["P4"]], label="Cz")
     chans[idx["O2"]] = dataclasses.replace(chans[idx["O2"]], label="")
-    chans[idx["P8"]] = dataclasses.replace(chans[idx["P8"]], unit="counts")
+    chans[idx["P8"]] = dataclasses.replace(chans[idx["P8"]], unit="furlongs")
     spec = dataclasses.replace(spec, channels=tuple(chans))
     gen = SignalGenerator(scenario)
 
@@ -87,7 +87,7 @@ def test_check_on_a_hostile_stream_names_each_damaged_channel(capsys: pytest.Cap
     assert len(report["channels"]) == len(labels)
     notes = " | ".join(report["stream"]["health"]["notes"])
     assert "repeats the name Cz" in notes, notes
-    assert "'counts' is not understood" in notes, notes
+    assert "'furlongs' is not understood" in notes, notes
 
     damaged = {"F7", "F8", "T7", "T8"}
     others = [c for n, c in chans_out.items() if n not in damaged]

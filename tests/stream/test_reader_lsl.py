@@ -15,9 +15,10 @@ import numpy as np
 import pylsl
 import pytest
 from conftest import wait_for_identity
-from outlets import Feeder, drain, unique_name
+from outlets import Feeder, drain, make_info, unique_name
 
 from bedside.errors import StreamFormatError
+from bedside.stream.channels import ChannelOptions
 from bedside.stream.discovery import resolve_one
 from bedside.stream.reader import LslSource
 from bedside.stream.settings import StreamSettings
@@ -128,13 +129,62 @@ def test_channel_count_differing_from_metadata_and_duplicate_labels(feeders) -> 
         assert x.shape[1] == 4
 
 
-def test_unknown_units_are_read_as_is_and_noted(feeders) -> None:  # type: ignore[no-untyped-def]
-    f = feeders(n_channels=2, units="counts")
+def test_counts_without_a_scale_are_refused(feeders) -> None:  # type: ignore[no-untyped-def]
+    """Issue 11.6: an int16 stream with no unit is raw converter counts; no scale, no µV."""
+    f = feeders(n_channels=2, fmt="int16", units=None, labels=["Cz", "Pz"])
+    ident = wait_for_identity(f.info.name())
+    with pytest.raises(StreamFormatError, match=r"integer samples with no unit\) for 2 channel.*--uv-per-count"):
+        LslSource(ident, FAST)
+
+
+def test_counts_are_scaled_by_uv_per_count(feeders) -> None:  # type: ignore[no-untyped-def]
+    """Issue 11.6: --uv-per-count turns counts into µV (here 0.5 µV per count)."""
+    f = feeders(n_channels=2, fmt="int16", units="counts", labels=["Cz", "Pz"])
     f.values = np.full((10, 2), 12.0)
-    with open_source(f) as src:
+    ident = wait_for_identity(f.info.name())
+    with LslSource(ident, FAST, options=ChannelOptions(uv_per_count=0.5)) as src:
         x, _ = drain(src, 0.3, f)
-        np.testing.assert_array_equal(x, 12.0)
-        assert any("'counts' is not understood" in n for n in src.health().notes)
+        np.testing.assert_array_equal(x, 6.0)
+
+
+def test_values_in_volts_labelled_microvolts_are_named(feeders) -> None:  # type: ignore[no-untyped-def]
+    """Issue 11.6: a 10 Hz sine of 50 µV amplitude sent as volts (5e-5) but labelled µV."""
+    f = feeders(n_channels=3, units="microvolts", labels=["Cz", "Pz", "Oz"])
+    k = np.arange(250)[:, None]
+    f.values = np.sin(2 * np.pi * 10.0 * k / 250.0) * 50e-6 * np.ones((1, 3))
+    with open_source(f, dataclasses.replace(FAST, unit_check_s=0.5)) as src:
+        drain(src, 1.0, f)
+        assert "values look like volts" in src.unit_note
+        assert any("values look like volts" in n for n in src.health().notes)
+
+
+def test_too_many_channels_are_refused(feeders) -> None:  # type: ignore[no-untyped-def]
+    """Issue 11 bad input: 2,000 channels (more than max_channels in configs/stream.yaml)."""
+    f = feeders(n_channels=2000, labels=[f"E{i}" for i in range(2000)])
+    ident = wait_for_identity(f.info.name())
+    with pytest.raises(StreamFormatError, match="2000 channels; bedside reads at most 1024"):
+        LslSource(ident, FAST)
+
+
+def test_reference_and_acquisition_metadata_are_read(feeders) -> None:  # type: ignore[no-untyped-def]
+    """XDF EEG meta-data convention: desc/reference/{label, subtracted}; desc/acquisition;
+    the reference electrode streamed as zeros is the reference (kind REF)."""
+    info = make_info(unique_name(), n_channels=3, labels=["C3", "Cz", "C4"])
+    ref = info.desc().append_child("reference")
+    ref.append_child_value("label", "Cz")
+    ref.append_child_value("subtracted", "true")
+    acq = info.desc().append_child("acquisition")
+    acq.append_child_value("coupling", "DC")
+    acq.append_child_value("input_range_uv", "400000")
+    f = Feeder(info)
+    try:
+        ident = wait_for_identity(info.name())
+        with LslSource(ident, FAST) as src:
+            assert [c.kind for c in src.channels] == ["EEG", "REF", "EEG"]
+            assert src.reference.label == "Cz" and src.reference.subtracted is True
+            assert src.profile.coupling == "dc" and src.profile.input_range_uv == 400000.0
+    finally:
+        f.close()
 
 
 @pytest.mark.parametrize("rate", [1.0, 100_000.0, 0.0])
