@@ -119,3 +119,30 @@ async def test_export_writes_a_printable_sheet(tmp_path: Path) -> None:
     cz = [ln for ln in sheet.splitlines() if ln.split()[:1] == ["Cz"]]
     assert cz and "18.0" in cz[0]
     assert "does not diagnose" in sheet
+
+
+async def test_invalid_input_clears_the_marks_and_refuses_f5(tmp_path: Path) -> None:
+    """After 36/35/56 cm, nasion–inion changed to 0: the old marks leave the screen and F5
+    saves nothing, so a sheet never shows measurements that are no longer typed.
+    (A 0-cm head is outside any published head size — INTERGROWTH-21st, WHO.)"""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        screen = app.screen
+        table = screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        screen.query_one("#ni", Input).value = "0"
+        assert await _settle(pilot, app, lambda: "✖" in screen_text(app))
+        assert table.row_count == 0
+        assert screen.query_one("#marks-map", HeadMap).points == {}
+        await pilot.press("escape", "f5")
+        await pilot.pause(0.3)
+        assert not list(tmp_path.glob("marks-*.txt"))
+        # An emptied field clears them too.
+        screen.query_one("#ni", Input).value = "36"
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        screen.query_one("#circ", Input).value = ""
+        assert await _settle(pilot, app, lambda: table.row_count == 0)
+        await pilot.press("escape", "f5")
+        await pilot.pause(0.3)
+        assert not list(tmp_path.glob("marks-*.txt"))
