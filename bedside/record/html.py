@@ -272,6 +272,14 @@ def render_report(log_: SetupLog) -> str:
             if stream
             else "—",
         ),
+        *(
+            (
+                "Earlier stream",
+                f"{sec.stream.identity.name}, source_id {sec.stream.identity.source_id}, until "
+                f"{_t(sec.ended_at)} — its verdicts are kept in the log, apart from this report's",
+            )
+            for sec in log_.earlier_streams
+        ),
         ("Reference / ground", f"{log_.reference or '—'} / {log_.ground or '—'}"),
         ("Mains", f"{log_.power_line_hz:g} Hz" if log_.power_line_hz else "—"),
         (

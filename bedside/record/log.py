@@ -159,6 +159,19 @@ class StreamRecord:
     channels: tuple[ChannelInfo, ...]
 
 
+@dataclass(frozen=True)
+class StreamSection:
+    """What was recorded for a stream the session left for another (``p`` in the app):
+    its stream, when it was left, and its own timeline, findings and final state, kept
+    apart so two streams' verdicts never mix (a switch starts a new section)."""
+
+    stream: StreamRecord
+    ended_at: datetime
+    timeline: tuple[LevelChange, ...] = ()
+    findings: tuple[FindingChange, ...] = ()
+    final: dict[str, ChannelFinal] = field(default_factory=dict)
+
+
 @dataclass
 class SetupLog:
     """The whole setup log. Mutable: the :class:`~bedside.record.session.SessionRecorder`
@@ -186,6 +199,9 @@ class SetupLog:
     impedances: list[ImpedanceEntry] = field(default_factory=list)
     notes: list[Note] = field(default_factory=list)
     sign_off: SignOff | None = None
+    #: Streams checked before the current one, oldest first; ``stream``, ``timeline``,
+    #: ``findings`` and ``final`` always belong to the current stream alone.
+    earlier_streams: list[StreamSection] = field(default_factory=list)
 
     # -- derived views ------------------------------------------------------------
 
@@ -393,7 +409,7 @@ def shallow_copy(log: SetupLog) -> SetupLog:
     """A copy whose lists and mappings are new but whose (frozen) entries are shared:
     cheap, and safe to read while the original grows."""
     copied = dataclasses.replace(log)
-    for name in (*_APPEND_ONLY, "final"):
+    for name in (*_APPEND_ONLY, "final", "earlier_streams"):
         setattr(copied, name, type(getattr(log, name))(getattr(log, name)))
     return copied
 

@@ -73,6 +73,7 @@ from bedside.record.log import (
     SetupLog,
     SignOff,
     StreamRecord,
+    StreamSection,
     dump_yaml,
     parse_yaml,
     shallow_copy,
@@ -407,9 +408,25 @@ class SessionRecorder:
                 f"{identity.source_id!r}, {identity.n_channels} channels at {identity.nominal_rate_hz:g} Hz"
             )
             kind = "stream" if old is None else "stream_changed"
+            if old is not None:
+                self._start_section(old, record.at)
             self._log.stream = record
             self._log.events.append(Event(record.at, kind, detail))
             self._touch()
+
+    def _start_section(self, old: StreamRecord, at: datetime) -> None:
+        """Another stream: file the old one's verdicts under its own section and start
+        afresh, so the final table, time to good and findings are the new stream's only."""
+        self._log.earlier_streams.append(
+            StreamSection(old, at, tuple(self._log.timeline), tuple(self._log.findings), dict(self._log.final))
+        )
+        self._log.timeline = []
+        self._log.findings = []
+        self._log.final = {}
+        self._last_level = {}
+        self._findings = {}
+        self._health_state = None
+        self._health_gaps = self._health_reconnects = self._health_jumps = 0
 
     def on_frame(self, frame: Any) -> None:
         """Record one QualityFrame: level changes, findings, stream state (any thread)."""
@@ -435,7 +452,10 @@ class SessionRecorder:
             health = getattr(frame, "stream_health", None)
             if health is not None:
                 changed |= self._record_health(at, health)
-            if getattr(frame, "live", True):
+            # No channel judged (the checks are starting, e.g. after re-picking the same
+            # stream or looking again): no verdict is not a finding that cleared.
+            judged = any(ch.level is not None for ch in frame.channels)
+            if getattr(frame, "live", True) and judged:
                 changed |= self._record_findings(at, frame.findings)
             extras = getattr(frame, "extras", None) or {}
             for key_name in _FRAME_EXTRA_MAINS_KEYS:
