@@ -370,9 +370,7 @@ def render_report(log_: SetupLog) -> str:
                         _td(mk.line),
                         _td(mk.name + (f" ({mk.other_name})" if mk.other_name else "")),
                         _td(mk.start),
-                        _td(f"{mk.distance_cm:.1f}", num=True),
-                        _td(f"{mk.step_cm:.1f}", num=True),
-                        _td(f"{mk.percent:g}", num=True),
+                        *(_td(cell, num=mk.measured) for cell in mk.distance_cells()),
                     ]
                     for mk in log_.plan.marks
                 ),

@@ -192,9 +192,8 @@ class MeasureScreen(Screen[None]):
                     Text(mk.name, style="bold"),
                     mk.other_name,
                     mk.start,
-                    f"{mk.distance_cm:.1f}",
-                    f"{mk.step_cm:.1f}",
-                    f"{mk.percent:.0f}",
+                    # A reference site: "—" here and "not measured" in its how-to text.
+                    *(mk.distance_cells() if mk.measured else (Text("—", style="grey62"), "", "")),
                     mk.how,
                 )
         self.bedside.plan_changed(plan)
