@@ -190,7 +190,7 @@ def test_readme_example_runs(example: str, stream: str, tmp_path: Path) -> None:
         _in_the_app(cmd, tmp_path)
         if example == "bedside demo":
             # The README says where the demo's log goes.
-            assert list((tmp_path / "bedside-logs").glob("*.yaml")), list(tmp_path.rglob("*"))
+            assert list((tmp_path / "bedside-logs").glob("DEMO-001-*.yaml")), list(tmp_path.rglob("*"))
         return
     if example == "bedside bench":
         cmd += " --quick"  # the full run takes minutes; --quick is the same figures, fewer rounds
