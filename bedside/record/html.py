@@ -84,7 +84,7 @@ def _td(text: object, *, num: bool = False) -> str:
 def _positions(log_: SetupLog, names: list[str]) -> tuple[dict[str, tuple[float, float, float]], str]:
     """Positions (mm, x right, y front, z up) for the names, and where they came from."""
     if log_.plan is not None and log_.plan.positions_mm:
-        return dict(log_.plan.positions_mm), "positions from this patient's head measurements"
+        return log_.plan_positions_mm(), "positions from this patient's head measurements"
     try:
         from bedside.placement import systems
         from bedside.placement.calculator import plan_placement

@@ -236,6 +236,25 @@ class SetupLog:
                 return round((change.at - first).total_seconds(), 3)
         return None
 
+    def plan_positions_mm(self) -> dict[str, tuple[float, float, float]]:
+        """The plan's positions keyed by the names this log's electrodes go by: a plan
+        made with classic names (T3) places the stream's or the impedance list's T7 (the
+        same site, Jasper 1958 / ACNS 2016 renaming), so no export loses it."""
+        if self.plan is None:
+            return {}
+        from bedside.placement.systems import canonical_name
+
+        used: list[str] = [c.name for c in self.stream.channels] if self.stream is not None else []
+        used += [e.electrode for e in self.impedances] + list(self.final)
+        used_set = set(used)
+        planned = {canonical_name(k) or k: k for k in self.plan.positions_mm}
+        rename: dict[str, str] = {}
+        for name in used:
+            key = planned.get(canonical_name(name) or name)
+            if key is not None and key != name and key not in used_set and key not in rename:
+                rename[key] = name
+        return {rename.get(k, k): v for k, v in self.plan.positions_mm.items()}
+
     def latest_impedances_kohm(self) -> dict[str, float]:
         """The last impedance entered per electrode (kΩ)."""
         latest: dict[str, float] = {}
