@@ -188,6 +188,8 @@ class SessionRecorder:
         self._seen_untrusted: set[str] = set()
         self._lock_fd: int | None = None
         self._closed = False
+        self._resumed = False
+        self._discarded = False
         self._stop = threading.Event()
         self._wake = threading.Event()
         self._thread: threading.Thread | None = None
@@ -227,6 +229,7 @@ class SessionRecorder:
                 self._aside_pending = reason
                 existing = None
         if existing is not None:
+            self._resumed = True
             if subject and existing.subject_id and subject != existing.subject_id:
                 raise RecordError(
                     f"{self._path} is the log of subject {existing.subject_id}, not {subject}; "
@@ -707,8 +710,11 @@ class SessionRecorder:
 
     # -- closing -------------------------------------------------------------------
 
-    def close(self) -> None:
+    def close(self, discard_if_empty: bool = False) -> None:
         """Stamp the end time, stop autosaving and save a last time.
+
+        discard_if_empty: a new log that recorded nothing (no measurements, stream,
+        verdicts, impedances, notes or sign-off) is removed instead (see :attr:`discarded`).
 
         If that save fails, a copy is written to a rescue folder and LogSaveError
         names both places; the log also stays readable via :meth:`dump_text`.
@@ -721,11 +727,21 @@ class SessionRecorder:
             self._log.ended_at = now
             self._log.events.append(Event(now, "closed", ""))
             self._touch()
+            empty = discard_if_empty and not self._resumed and self._records_nothing()
         self._stop.set()
         self._wake.set()
         if self._thread is not None and self._thread is not threading.current_thread():
             self._thread.join(timeout=10.0)
         _OPEN.discard(self)
+        if empty:
+            # Opened and left before anything was measured, watched or written: a file
+            # holding only its own opening would be mistaken for a setup that happened.
+            with contextlib.suppress(FileNotFoundError):
+                self._path.unlink()
+            self._discarded = True
+            self._release_file_lock()
+            log.info("setup log %s: nothing was recorded, no file kept", self._path)
+            return
         try:
             self._save()
         except LogSaveError as exc:
@@ -734,6 +750,16 @@ class SessionRecorder:
             raise LogSaveError(f"the setup log could not be saved to {self._path}: {exc}; {where}") from exc
         finally:
             self._release_file_lock()
+
+    def _records_nothing(self) -> bool:
+        lg = self._log
+        return not (lg.plan or lg.stream or lg.timeline or lg.findings or lg.impedances
+                    or lg.notes or lg.sign_off or lg.earlier_streams)
+
+    @property
+    def discarded(self) -> bool:
+        """True when the session closed with nothing recorded and its file was removed."""
+        return self._discarded
 
     def _write_rescue_copy(self) -> Path | None:
         text = self.dump_text()

@@ -117,6 +117,8 @@ class BedsideApp(App[int]):
         self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
+        #: What became of the setup log, said once the app has closed (the CLI prints it).
+        self.log_outcome = ""
 
     # --- start and stop -------------------------------------------------------------
     def on_mount(self) -> None:
@@ -144,11 +146,10 @@ class BedsideApp(App[int]):
             self.connection = None
         gate, self.recorder = self.recorder, None
         if gate is not None and not self._leaving:
-            for method in ("save_now", "close"):
-                try:
-                    gate.call(method)
-                except BedsideError as exc:
-                    log.error("setup log: %s", exc)
+            try:
+                self._close_log(gate)
+            except BedsideError as exc:
+                log.error("setup log: %s", exc)
             gate.stop()
 
     def action_leave(self) -> None:
@@ -170,14 +171,25 @@ class BedsideApp(App[int]):
         gate = self.recorder
         if gate is not None:
             gate.drain(3.0)
-            for method in ("save_now", "close"):
-                try:
-                    gate.call(method)
-                except BedsideError as exc:
-                    problems.append(f"setup log: {exc}")
+            try:
+                self._close_log(gate)
+            except BedsideError as exc:
+                problems.append(f"setup log: {exc}")
             gate.stop()
             self.recorder = None
         self.post_message(ShutdownDone(problems))
+
+    def _close_log(self, gate: RecorderGate) -> None:
+        gate.call("save_now")
+        if self.config.discard_empty_log:
+            gate.call("close", True)
+        else:
+            gate.call("close")
+        if getattr(gate.recorder, "discarded", False):
+            self.log_outcome = "nothing was recorded, so no setup log was kept"
+        else:
+            path = getattr(gate.recorder, "path", None) or self.config.log_path
+            self.log_outcome = f"setup log saved to {path}"
 
     def on_shutdown_done(self, message: ShutdownDone) -> None:
         if message.problems:

@@ -103,3 +103,31 @@ async def test_unwritable_log_is_reported_not_hidden(tmp_path: Path) -> None:
         assert await _until(pilot, lambda: "not saved" in si.screen_text(app))
         await pilot.press("f3")
         assert app.screen.name == "watch"
+
+
+async def test_opened_and_left_keeps_no_empty_log_and_says_where_a_log_went(tmp_path: Path) -> None:
+    """`bedside`, Esc, q with nothing measured, watched or written: the log bedside named
+    itself is not left behind empty; once something is recorded, the app says where it went."""
+    empty = tmp_path / "setup-20261203-090000.yaml"
+    app = make_app(AppConfig(discover=False, start_view="watch", log_path=empty, discard_empty_log=True))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("escape", "q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert app.return_code == 0
+    assert not empty.exists() and not list(tmp_path.glob("*.yaml"))
+    assert app.log_outcome == "nothing was recorded, so no setup log was kept"
+
+    kept = tmp_path / "W3-017-20261203-090100.yaml"
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=kept, subject_id="W3-017",
+                             discard_empty_log=True))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("tab", "tab")
+        await _type(pilot, "cap applied")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "cap applied" in si.screen_text(app))
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert kept.exists() and "cap applied" in kept.read_text(encoding="utf-8")
+    assert app.log_outcome == f"setup log saved to {kept}"
