@@ -31,7 +31,7 @@ from bedside.ui.progress import GoodTracker, Progress
 from bedside.ui.screens.help import HelpScreen
 from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
-from bedside.ui.screens.picker import StreamPicker
+from bedside.ui.screens.picker import StreamPicker, streams_visible
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import Services, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
@@ -103,7 +103,7 @@ class BedsideApp(App[int]):
         self.identity: StreamIdentity | None = source.identity if source is not None else None
         self.connection: Connection | None = None
         self.recorder: RecorderGate | None = None
-        self._log_error = "" if config.log_path else "started without a log file (--log)"
+        self._log_error = "" if config.log_path else "no setup log is kept in this session (it was started without one)"
         self.latest_frame: QualityFrame | None = None
         self.progress: Progress | None = None
         self.tracker = GoodTracker()
@@ -259,7 +259,8 @@ class BedsideApp(App[int]):
             pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
         except AmbiguousStream as exc:
             cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
-            self.post_message(StreamsFound(cands, True, None, str(exc)))
+            # The picker says it in the app's terms (the error's text names command options).
+            self.post_message(StreamsFound(cands, True, None, ""))
             return
         except StreamNotFound as exc:
             self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
@@ -281,7 +282,7 @@ class BedsideApp(App[int]):
             if self.current_view == "watch":
                 self._open_picker()
             else:
-                self.status_note = f"{len(message.streams)} streams visible: choose one in Watch (F3)"
+                self.status_note = f"{streams_visible(len(message.streams))}: choose one in Watch (F3)"
                 self.notify(self.status_note, timeout=6)
         self._refresh_watch_status()
 
@@ -290,7 +291,7 @@ class BedsideApp(App[int]):
             return
         streams, note = self._pending_pick
         self._pending_pick = None
-        self.push_screen(StreamPicker(streams, note), self._picked)
+        self.push_screen(StreamPicker(streams, note, current=self.identity), self._picked)
 
     def _picked(self, identity: StreamIdentity | None) -> None:
         if identity is not None:
@@ -424,7 +425,7 @@ class BedsideApp(App[int]):
         value = frame.extras.get("mains_hz") if frame is not None else None
         if isinstance(value, int | float) and math.isfinite(value) and value > 0:
             return (float(value),)
-        return (50.0, 60.0)
+        return ()  # not detected (yet, or none there): the spectrum marks nothing
 
     def bipolar_partner(self, name: str) -> str | None:
         """The electrode behind ``name`` for a bipolar view: its nearest neighbour further back.

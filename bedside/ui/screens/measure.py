@@ -5,6 +5,7 @@ Validation and planning run in a worker thread; results come back as messages.
 
 from __future__ import annotations
 
+import re
 from typing import TYPE_CHECKING, cast
 
 from rich.text import Text
@@ -23,6 +24,13 @@ from bedside.ui.widgets.head_map import HeadMap
 
 if TYPE_CHECKING:
     from bedside.ui.app import BedsideApp
+
+def in_app_terms(text: str) -> str:
+    """A placement message worded for the command line, in this form's terms."""
+    text = re.sub(r"with --unit (\w+)", r"with the unit set to \1", text)
+    return text.replace("(the unit goes in --unit)", "(choose the unit above)").replace(
+        "--unit", "the unit box")
+
 
 UNITS = (("cm", "cm"), ("mm", "mm"), ("inches", "in"))
 SYSTEMS = (("10-20", "10-20"), ("10-10", "10-10"))
@@ -170,7 +178,7 @@ class MeasureScreen(Screen[None]):
     def on_measure_invalid(self, message: MeasureInvalid) -> None:
         if self.is_mounted and message.generation == self._generation:
             self._clear_marks()
-            self._message(f"✖ {message.text}", "bold red")
+            self._message(f"✖ {in_app_terms(message.text)}", "bold red")
 
     def on_plan_ready(self, message: PlanReady) -> None:
         if not self.is_mounted or message.generation != self._generation:
