@@ -84,9 +84,7 @@ class BedsideApp(App[int]):
         Binding("f3", "view('watch')", "Watch"),
         Binding("f4", "view('log')", "Log"),
         Binding("question_mark", "help", "Help", show=False),
-        Binding("1", "view('measure')", "Measure", show=False),
-        Binding("2", "view('watch')", "Watch", show=False),
-        Binding("3", "view('log')", "Log", show=False),
+        # Views by F2/F3/F4 only: a digit is a number being typed, never a jump.
         Binding("q", "leave", "Save & quit", show=False),
         Binding("ctrl+q", "leave", "Save & quit", priority=True),
         Binding("ctrl+c", "leave", "Save & quit", show=False, priority=True),

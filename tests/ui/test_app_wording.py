@@ -75,3 +75,18 @@ async def test_spectrum_marks_mains_only_once_detected() -> None:
         assert frame is not None
         app.latest_frame = dataclasses.replace(frame, extras={})
         assert app.mains_hz() == ()
+
+
+@pytest.mark.asyncio
+async def test_digits_never_switch_views() -> None:
+    """A digit typed with the focus outside an input stays a digit: the view does not jump
+    (F2/F3/F4 switch views; F2 is Measure, so "2" must not mean Watch)."""
+    app = make_app(AppConfig(discover=False, start_view="measure"))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await pilot.press("escape")  # the focus leaves the form
+        for key in ("1", "2", "3"):
+            await pilot.press(key)
+            await pilot.pause(0.05)
+            assert app.screen.name == "measure", key
+        await pilot.press("f3")
+        assert await _until(pilot, lambda: app.screen.name == "watch")
