@@ -18,6 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 from bedside.checks.base import BAD, CHECK, CheckResult
+from bedside.checks.reference import SHARED
 from bedside.checks.types import Finding
 
 
@@ -103,8 +104,23 @@ class LevelHold:
         return shown, out_reasons
 
 
+#: Kinds of the whole-head findings (bedside.checks.reference): most channels share one
+#: fault through the reference or ground, so the set of channels moves with every update.
+WHOLE_HEAD_KINDS = frozenset(kind for kind, _, _ in SHARED.values())
+
+
+def finding_key(f: Finding) -> tuple[str, tuple[str, ...]]:
+    """What makes a finding the same finding from one update to the next: a bridge is its
+    kind and its pair; a whole-head finding is its kind and what is shared ("mains noise"),
+    whichever channels (14 of 19, then 15) show it at the moment."""
+    if f.kind in WHOLE_HEAD_KINDS:
+        return (f.kind, (f.reason.split(" in ", 1)[0],))
+    return (f.kind, tuple(f.electrodes))
+
+
 class FindingHold:
-    """Keeps a finding for ``hold_s`` after it was last seen (keyed by kind and electrodes)."""
+    """Keeps a finding for ``hold_s`` after it was last seen (keyed by :func:`finding_key`;
+    the newest version of a finding replaces the older one)."""
 
     def __init__(self, hold_s: float) -> None:
         self.hold_s = hold_s
@@ -115,6 +131,6 @@ class FindingHold:
 
     def apply(self, findings: tuple[Finding, ...], now_s: float) -> tuple[Finding, ...]:
         for f in findings:
-            self._seen[(f.kind, f.electrodes)] = (now_s, f)
+            self._seen[finding_key(f)] = (now_s, f)
         self._seen = {k: v for k, v in self._seen.items() if now_s - v[0] < self.hold_s or now_s == v[0]}
         return tuple(v[1] for v in self._seen.values())

@@ -179,7 +179,7 @@ class SessionRecorder:
         self._notice: str | None = None
         self._aside_pending: str | None = None  # a corrupt file not yet moved aside
         self._last_level: dict[str, str] = {}
-        self._findings: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        self._findings: dict[tuple[str, tuple[str, ...]], tuple[str, str, tuple[str, ...]]] = {}
         self._health_state: str | None = None
         self._health_gaps = 0
         self._health_reconnects = 0
@@ -251,11 +251,14 @@ class SessionRecorder:
             self._log.events.append(Event(now, "resumed", detail))
             for change in self._log.timeline:
                 self._last_level[change.electrode] = change.to_level
+            from bedside.checks.levels import finding_key
+
             for f in self._log.findings:  # the findings still open when the log was last saved
+                key = finding_key(f)  # type: ignore[arg-type]
                 if f.change == "cleared":
-                    self._findings.pop((f.kind, f.electrodes), None)
+                    self._findings.pop(key, None)
                 else:
-                    self._findings[(f.kind, f.electrodes)] = (f.level, f.reason)
+                    self._findings[key] = (f.level, f.reason, f.electrodes)
             log.info("setup log %s resumed (%d timeline entries)", self._path, len(self._log.timeline))
         else:
             self._log = SetupLog(
@@ -518,20 +521,24 @@ class SessionRecorder:
         return changed
 
     def _record_findings(self, at: datetime, findings: Iterable[Any]) -> bool:
-        current: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        from bedside.checks.levels import finding_key
+
+        # One entry per finding while it lasts: a whole-head finding whose channel count
+        # moves (14 of 19, then 15) is the same finding, not one cleared and one appeared.
+        current: dict[tuple[str, tuple[str, ...]], tuple[str, str, tuple[str, ...]]] = {}
         for f in findings:
-            current[(str(f.kind), tuple(map(str, f.electrodes)))] = (f.level.key, str(f.reason))
+            current[finding_key(f)] = (f.level.key, str(f.reason), tuple(map(str, f.electrodes)))
         changed = False
-        for key, (level, reason) in current.items():
+        for key, (level, reason, names) in current.items():
             before = self._findings.get(key)
             if before is None or before[0] != level:
                 self._log.findings.append(
-                    FindingChange(at, "appeared" if before is None else "changed", key[0], key[1], level, reason)  # type: ignore[arg-type]
+                    FindingChange(at, "appeared" if before is None else "changed", key[0], names, level, reason)  # type: ignore[arg-type]
                 )
                 changed = True
-        for key, (level, reason) in self._findings.items():
+        for key, (level, reason, names) in self._findings.items():
             if key not in current:
-                self._log.findings.append(FindingChange(at, "cleared", key[0], key[1], level, reason))  # type: ignore[arg-type]
+                self._log.findings.append(FindingChange(at, "cleared", key[0], names, level, reason))  # type: ignore[arg-type]
                 changed = True
         self._findings = current
         return changed

@@ -15,6 +15,7 @@ import numpy as np
 from bedside.checks.base import BAD, CHECK, GOOD
 from bedside.checks.levels import LevelHold
 from bedside.checks.settings import load_quality
+from bedside.checks.types import Finding
 
 
 def _changes(shown: list[int]) -> int:
@@ -63,3 +64,34 @@ def test_a_relapse_is_forgotten_once_the_fault_stays_away() -> None:
     assert shown[fixed:].index(GOOD) * 0.25 <= h.hold_s + 0.25
     tail = shown[-8:]
     assert tail[-1] == CHECK and tail.index(CHECK) * 0.25 <= h.hold_s + 0.25
+
+
+def _ground(n: int) -> Finding:
+    from bedside.checks.types import Level
+
+    names = tuple(f"E{i}" for i in range(n))
+    return Finding("ground", names, Level.BAD, f"mains noise in {n} of 19 scalp channels — check the ground")
+
+
+def test_a_whole_head_finding_is_one_finding_while_its_count_moves() -> None:
+    """The bad_reference case of issue 17.8: 19 of 19, then 18 of 19 → one ground finding."""
+    from bedside.checks.levels import FindingHold
+
+    hold = FindingHold(1.0)
+    hold.apply((_ground(19),), 0.0)
+    shown = hold.apply((_ground(18),), 0.25)
+    assert len(shown) == 1 and len(shown[0].electrodes) == 18
+
+
+def test_the_log_keeps_one_entry_while_the_count_moves(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """20 s of a count moving between 14 and 15: one 'appeared', no appeared/cleared churn."""
+    from bedside.checks.types import ChannelQuality, Level, QualityFrame
+    from bedside.record.session import SessionRecorder
+
+    with SessionRecorder.open(tmp_path / "g.yaml", subject_id="W3-017") as rec:
+        for k in range(80):
+            f = _ground(14 + k % 2)
+            ch = (ChannelQuality("E0", Level.BAD, {}),)
+            rec.on_frame(QualityFrame(k * 0.25, 1.8e9 + k * 0.25, ch, (f,)))
+        snap = rec.snapshot()
+    assert [c.change for c in snap.findings] == ["appeared"]
