@@ -527,12 +527,14 @@ class BedsideApp(App[int]):
             self.notify("log saved", timeout=2)
 
     def known_electrodes(self) -> set[str]:
-        names: set[str] = set()
+        """Electrodes an impedance may be typed for: the stream's channels while one is
+        watched (a planned site the stream does not carry would be judged "no data"),
+        else the measured plan's sites."""
         if self.connection is not None:
-            names |= {ch.name for ch in self.connection.channels}
+            return {ch.name for ch in self.connection.channels}
         if self.plan is not None:
-            names |= {mk.name for mk in self.plan.marks}
-        return names
+            return {mk.name for mk in self.plan.marks}
+        return set()
 
 
 def make_app(

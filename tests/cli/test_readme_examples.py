@@ -127,8 +127,8 @@ def _until_stopped(cmd: str, workdir: Path) -> None:
     assert "Traceback" not in err
 
 
-def _in_the_app(cmd: str, workdir: Path) -> str:
-    """Open the app in tmux, wait until a view shows, leave with q; the app's screen."""
+def _in_the_app(cmd: str, workdir: Path, ready: str = "") -> str:
+    """Open the app in tmux, wait until a view shows (and ``ready``), leave with q."""
     if shutil.which("tmux") is None:
         pytest.skip("tmux is not installed (apt-get install tmux)")
     sock = f"readme-{uuid.uuid4().hex[:8]}"
@@ -145,7 +145,7 @@ def _in_the_app(cmd: str, workdir: Path) -> str:
         while time.monotonic() < end:
             shown = subprocess.run([*base, "capture-pane", "-p", "-t", "s"], capture_output=True,
                                    text=True).stdout
-            if "Watch" in shown or "Measure" in shown:
+            if ("Watch" in shown or "Measure" in shown) and ready in shown:
                 break
             time.sleep(0.3)
         assert "Watch" in shown or "Measure" in shown, shown
@@ -187,7 +187,8 @@ def test_readme_example_runs(example: str, stream: str, tmp_path: Path) -> None:
         _until_stopped(cmd, tmp_path)
         return
     if kind == "app":
-        _in_the_app(cmd, tmp_path)
+        # The demo's own stream: wait until it is live, so the log has something in it.
+        _in_the_app(cmd, tmp_path, ready="◉ live" if example == "bedside demo" else "")
         if example == "bedside demo":
             # The README says where the demo's log goes.
             assert list((tmp_path / "bedside-logs").glob("DEMO-001-*.yaml")), list(tmp_path.rglob("*"))
