@@ -243,8 +243,8 @@ def head_map_svg(log_: SetupLog) -> str:
 def _all_good_text(log_: SetupLog) -> str:
     seconds = log_.time_to_all_good_s()
     if seconds is None:
-        return "never at the same time during the session"
-    return f"{int(seconds // 60)} min {seconds % 60:.0f} s after the first verdict"
+        return "not reached: at no moment were all of them good together"
+    return f"reached {int(seconds // 60)} min {seconds % 60:.0f} s after the first verdict"
 
 
 def render_report(log_: SetupLog) -> str:
@@ -263,7 +263,7 @@ def render_report(log_: SetupLog) -> str:
         ("Started", _t(log_.started_at)),
         ("Ended", _t(log_.ended_at) + (f" ({duration})" if duration else "")),
         ("Time zone", log_.time_zone or "—"),
-        ("All scalp electrodes good", _all_good_text(log_)),
+        ("All scalp electrodes good together", _all_good_text(log_)),
         (
             "Stream",
             f"{stream.identity.name} ({stream.identity.type}), source_id {stream.identity.source_id}, "

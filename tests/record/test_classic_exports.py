@@ -43,3 +43,15 @@ def test_a_classic_plan_places_and_exports_the_streams_modern_names(tmp_path: Pa
     assert {"T7", "T8", "P7", "P8"} <= set(rows)
     assert float(rows["T7"]["impedance"]) == 6.0
     assert "T3" not in rows  # one row per site, under the stream's name
+
+
+def test_the_report_says_plainly_whether_all_were_good_together(tmp_path: Path, clock: FakeClock) -> None:
+    """A department reader's sentence, not a fragment ("… good never at the same time")."""
+    chans = tuple(ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in ("Cz", "O1"))
+    with SessionRecorder.open(tmp_path / "r.yaml", subject_id="W3-017", clock=clock) as rec:
+        rec.set_stream(make_identity(2), chans)
+        rec.on_frame(make_frame(clock.now, {"Cz": Level.GOOD, "O1": Level.BAD}))
+        snap = rec.snapshot()
+    html = render_report(snap)
+    assert "All scalp electrodes good together" in html
+    assert "not reached: at no moment were all of them good together" in html
