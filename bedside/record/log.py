@@ -226,12 +226,17 @@ class SetupLog:
         scalp = {c.name for c in self.stream.channels if c.is_scalp} if self.stream else None
         current: dict[str, str] = {}
         first: datetime | None = None
-        for change in self.timeline:
-            if scalp is not None and change.electrode not in scalp:
-                continue
+        changes = [c for c in self.timeline if scalp is None or c.electrode in scalp]
+        for k, change in enumerate(changes):
             current[change.electrode] = change.to_level
             if first is None and change.to_level != "no_data":
                 first = change.at
+            # Judge a moment only once all of its changes are in (one frame's changes share
+            # a time), and only when every scalp electrode of the stream has a verdict.
+            if k + 1 < len(changes) and changes[k + 1].at == change.at:
+                continue
+            if scalp is not None and not scalp <= current.keys():
+                continue
             if first is not None and all(level == "good" for level in current.values()):
                 return round((change.at - first).total_seconds(), 3)
         return None
