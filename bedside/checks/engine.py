@@ -140,7 +140,8 @@ class Engine:
         self._samples = 0
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
-        self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates)
+        self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates,
+                               settings.hold.relapse_window_s, settings.hold.relapse_hold_s)
         self._fhold = FindingHold(settings.hold.hold_s)
         self._mains_hz: float | None = (
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)

@@ -4,7 +4,12 @@ combine: the channel's level is the worst of its checks' levels; its reasons are
 those of the non-good checks, worst first. LevelHold (hysteresis in time): a worse
 level shows only after ``confirm_updates`` consecutive updates, and once shown it
 stays for at least ``hold_s`` after its cause is gone, so a verdict does not
-flicker between updates. Times are on the engine's sample clock (s), so
+flicker between updates. A level that comes back within ``relapse_window_s`` of
+clearing is one steady fault sitting near its limit (a mains level wavering around
+its threshold): from then on, while the channel is still not good, it is held
+``relapse_hold_s``, so the fault keeps one verdict instead of flipping between bad and
+check; once the channel reads good the usual ``hold_s`` applies, so a fix still shows
+at once. Times are on the engine's sample clock (s), so
 accelerated simulations behave as live ones.
 """
 
@@ -13,6 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 from bedside.checks.base import BAD, CHECK, CheckResult
+from bedside.checks.reference import SHARED
 from bedside.checks.types import Finding
 
 
@@ -35,16 +41,24 @@ def combine(results: list[CheckResult], n: int) -> tuple[np.ndarray, list[list[s
 class LevelHold:
     """Per-channel hold and confirmation of levels (see module docstring)."""
 
-    def __init__(self, n: int, hold_s: float, confirm_updates: int) -> None:
+    def __init__(self, n: int, hold_s: float, confirm_updates: int,
+                 relapse_window_s: float = 0.0, relapse_hold_s: float = 0.0) -> None:
         self.hold_s, self.confirm = hold_s, confirm_updates
+        self.relapse_window_s, self.relapse_hold_s = relapse_window_s, max(relapse_hold_s, hold_s)
         self.streak = np.zeros((3, n), dtype=np.int64)  # consecutive updates at ≥ level
         self.last_seen = np.full((3, n), -np.inf)  # last time a confirmed level ≥ L was seen
+        self.shown = np.zeros(n, dtype=np.int8)  # the level shown at the last update
+        self.cleared_at = np.full((3, n), -np.inf)  # when the shown level last fell below L
+        self.relapsing = np.zeros((3, n), dtype=bool)  # L came back soon after clearing
         self.reasons: list[list[str]] = [[] for _ in range(n)]
         self._with_reasons: set[int] = set()
 
     def reset(self) -> None:
         self.streak[:] = 0
         self.last_seen[:] = -np.inf
+        self.shown[:] = 0
+        self.cleared_at[:] = -np.inf
+        self.relapsing[:] = False
         for i in self._with_reasons:
             self.reasons[i] = []
         self._with_reasons = set()
@@ -56,8 +70,19 @@ class LevelHold:
             self.streak[lv] = np.where(at, self.streak[lv] + 1, 0)
             confirmed = at & (self.streak[lv] >= self.confirm)
             self.last_seen[lv][confirmed] = now_s
-            held = (now_s - self.last_seen[lv]) < self.hold_s
-            shown[confirmed | held] = lv
+            # The long hold only while the fault is still there (not good): a fix shows
+            # as good within hold_s as before.
+            hold = np.where(self.relapsing[lv] & (raw >= CHECK), self.relapse_hold_s, self.hold_s)
+            held = (now_s - self.last_seen[lv]) < hold
+            on = confirmed | held
+            was = self.shown >= lv
+            back = on & ~was & ((now_s - self.cleared_at[lv]) < self.relapse_window_s)
+            self.relapsing[lv] |= back
+            gone = was & ~on
+            self.cleared_at[lv][gone] = now_s
+            self.relapsing[lv][gone] = False
+            shown[on] = lv
+        self.shown = shown.astype(np.int8, copy=True)
         empty: list[str] = []
         out_reasons: list[list[str]] = [empty] * len(shown)  # shared, never mutated
         raw_list = raw.tolist()
@@ -79,8 +104,23 @@ class LevelHold:
         return shown, out_reasons
 
 
+#: Kinds of the whole-head findings (bedside.checks.reference): most channels share one
+#: fault through the reference or ground, so the set of channels moves with every update.
+WHOLE_HEAD_KINDS = frozenset(kind for kind, _, _ in SHARED.values())
+
+
+def finding_key(f: Finding) -> tuple[str, tuple[str, ...]]:
+    """What makes a finding the same finding from one update to the next: a bridge is its
+    kind and its pair; a whole-head finding is its kind and what is shared ("mains noise"),
+    whichever channels (14 of 19, then 15) show it at the moment."""
+    if f.kind in WHOLE_HEAD_KINDS:
+        return (f.kind, (f.reason.split(" in ", 1)[0],))
+    return (f.kind, tuple(f.electrodes))
+
+
 class FindingHold:
-    """Keeps a finding for ``hold_s`` after it was last seen (keyed by kind and electrodes)."""
+    """Keeps a finding for ``hold_s`` after it was last seen (keyed by :func:`finding_key`;
+    the newest version of a finding replaces the older one)."""
 
     def __init__(self, hold_s: float) -> None:
         self.hold_s = hold_s
@@ -91,6 +131,6 @@ class FindingHold:
 
     def apply(self, findings: tuple[Finding, ...], now_s: float) -> tuple[Finding, ...]:
         for f in findings:
-            self._seen[(f.kind, f.electrodes)] = (now_s, f)
+            self._seen[finding_key(f)] = (now_s, f)
         self._seen = {k: v for k, v in self._seen.items() if now_s - v[0] < self.hold_s or now_s == v[0]}
         return tuple(v[1] for v in self._seen.values())

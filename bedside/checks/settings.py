@@ -38,6 +38,8 @@ def _order(section: str, low_name: str, low: float, high_name: str, high: float)
 class HoldSettings:
     hold_s: float = field(default=1.0, metadata=_rng(0.0, 30.0))
     confirm_updates: int = field(default=1, metadata=_rng(1, 20))
+    relapse_window_s: float = field(default=10.0, metadata=_rng(0.0, 300.0))
+    relapse_hold_s: float = field(default=10.0, metadata=_rng(0.0, 300.0))
 
 
 @dataclass(frozen=True)

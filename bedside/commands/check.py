@@ -66,6 +66,11 @@ TABLE_METRICS = (
 )
 
 
+#: A check is a look of seconds to minutes; an hour bounds the samples kept for a clip
+#: and how long a script waits (common practice: longer watching is the app's job).
+MAX_SECONDS = 3600.0
+
+
 def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p = sub.add_parser(
         NAME,
@@ -80,7 +85,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     add_channel_options(p)
     p.add_argument(
         "--seconds", metavar="S", type=positive_float("--seconds"), default=8.0,
-        help="seconds of data to judge (default 8; at least the checks' min_data_s)",
+        help=f"seconds of data to judge (default 8; at least the checks' min_data_s, at most "
+        f"{MAX_SECONDS:g}: for longer, watch in the app)",
     )
     p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
     p.add_argument("--config", metavar="PATH", help="a quality.yaml to use instead of the shipped one")
@@ -91,8 +97,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     clip = p.add_argument_group("EDF+ clip (the last seconds of raw data, findings as annotations)")
     clip.add_argument("--clip", metavar="PATH", help="write the last --clip-seconds of the stream as EDF+ to PATH")
     clip.add_argument(
-        "--clip-seconds", metavar="S", type=positive_float("--clip-seconds"), default=10.0,
-        help="length of the clip (default 10; at most --seconds)",
+        "--clip-seconds", metavar="S", type=positive_float("--clip-seconds"), default=None,
+        help="length of the clip (default: the whole look, --seconds; at most --seconds)",
     )
     p.set_defaults(func=run)
 
@@ -241,7 +247,7 @@ def _write_clip(
                       for f in frame.findings]
     result = write_edf_clip(
         args.clip, samples, keep.rate_hz, [c.name for c in keep.channels], notes,
-        subject_id=args.subject, start=start,
+        subject_id=args.subject, start=start, technologist=args.technologist,
     )
     print(f"wrote EDF+ clip {result.path} ({result.n_samples / keep.rate_hz:.1f} s)", file=sys.stderr)
 
@@ -260,6 +266,13 @@ def run(args: argparse.Namespace) -> int:
             f"--seconds must be at least {settings.min_data_s:g} (the checks need that much data; "
             f"min_data_s in quality.yaml), got {args.seconds:g}"
         )
+    if args.seconds > MAX_SECONDS:
+        raise InputError(
+            f"--seconds {args.seconds:g} is longer than a check looks; accepted: "
+            f"{settings.min_data_s:g} to {MAX_SECONDS:g} s (for longer, watch in the app: bedside watch)"
+        )
+    if args.clip_seconds is None:
+        args.clip_seconds = args.seconds
     from bedside.checks.settings import DEFAULT_PATH
     from bedside.record.ids import validate_initials, validate_subject_id
     from bedside.record.session import optional_recorder

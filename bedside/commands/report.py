@@ -90,6 +90,14 @@ def text_summary(log: SetupLog) -> str:
         lines.append(
             f"  stream  {s.name} ({s.type}) from {s.hostname}, {s.n_channels} channels at {s.nominal_rate_hz:g} Hz"
         )
+    for sec in log.earlier_streams:
+        other = sec.stream.identity
+        bad = sorted(n for n, f in sec.final.items() if f.level != "good")
+        lines.append(
+            f"  earlier stream {other.name} (source_id {other.source_id}) until {sec.ended_at:%H:%M:%S}: "
+            f"{len(sec.final)} judged, {len(bad)} not good{' (' + ', '.join(bad) + ')' if bad else ''}"
+            " — kept apart; everything below is the current stream's"
+        )
     if log.plan is not None:
         m = log.plan.measurements
         lines.append(

@@ -11,6 +11,7 @@ import argparse
 import contextlib
 import logging
 import os
+import sys
 import time
 from collections.abc import Iterator
 from pathlib import Path
@@ -88,6 +89,7 @@ def app_config(args: argparse.Namespace, *, stream_name: str | None = None, star
         host=getattr(args, "host", None),
         wait_s=getattr(args, "wait", 3.0),
         log_path=log_path,
+        discard_empty_log=log_path is not None and not args.log,
         technologist=args.technologist,
         subject_id=args.subject,
         config_paths=configs,
@@ -116,6 +118,9 @@ def run_app(config) -> int:  # type: ignore[no-untyped-def]
     app = make_app(config)
     with logs_off_the_screen(log_file.parent / "bedside.log"):
         result = app.run()
+    outcome = getattr(app, "log_outcome", "")  # what became of the setup log, said after the screen
+    if outcome:
+        print(outcome, file=sys.stderr)
     if app.return_code not in (None, 0):
         return int(app.return_code)
     return int(result or 0)

@@ -51,6 +51,19 @@ class Mark:
     rule: str = ""
     rule_gap_cm: float | None = None
 
+    @property
+    def measured(self) -> bool:
+        """False for the reference sites (A1/A2/M1/M2): placed by landmark, not on a
+        measured line, so they have no distance, step or percent to show."""
+        return self.line != "reference"
+
+    def distance_cells(self) -> tuple[str, str, str]:
+        """(distance cm, step cm, percent) as shown on every sheet; "not measured" for
+        the reference sites, never a 0.0 that reads as a distance."""
+        if not self.measured:
+            return ("not measured", "", "")
+        return (f"{self.distance_cm:.1f}", f"{self.step_cm:.1f}", f"{self.percent:g}")
+
 
 @dataclass(frozen=True)
 class PlacementPlan:

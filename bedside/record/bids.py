@@ -273,7 +273,7 @@ def _electrode_positions(log_: SetupLog) -> dict[str, tuple[float, float, float]
     matches)."""
     if log_.plan is None:
         return {}
-    positions = dict(log_.plan.positions_mm)
+    positions = log_.plan_positions_mm()  # keyed as the stream names them (T7 for a classic T3)
     if log_.stream is None:
         return positions
     used = {c.name for c in log_.stream.channels} | {c.label for c in log_.stream.channels}

@@ -93,12 +93,14 @@ def write_edf_clip(
     *,
     subject_id: str = "",
     start: datetime | None = None,
+    technologist: str = "",
 ) -> EdfClipResult:
     """Write ``samples_uv`` (shape (n_samples, n_channels), µV) as an EDF+ file.
 
     annotations: (onset_s from the first sample given, duration_s or None, text).
     subject_id: the pseudonymous ID for the EDF+ patient field ("X" when empty).
     start: the wall-clock time of the first sample given (default: now minus the clip).
+    technologist: initials for the EDF+ investigator/technician field ("X" when empty).
     Raises InputError for unusable input, RecordError/LogSaveError if writing fails.
     """
     import edfio
@@ -173,7 +175,11 @@ def write_edf_clip(
         edf = edfio.Edf(
             signals,
             patient=edfio.Patient(code=code),
-            recording=edfio.Recording(startdate=first.date(), equipment_code=f"bedside-{__version__}"),
+            recording=edfio.Recording(
+                startdate=first.date(), equipment_code=f"bedside-{__version__}",
+                # EDF+ (Kemp & Olivan 2003, 2.1.3.2): a field without spaces, "X" if unknown.
+                investigator_technician_code=technologist.strip().replace(" ", "_") or "X",
+            ),
             starttime=first.time().replace(microsecond=0, tzinfo=None),
             data_record_duration=duration,
             annotations=edf_annotations,
@@ -199,19 +205,24 @@ def annotations_for_clip(log: SetupLog, start: datetime, duration_s: float) -> l
         start = start.astimezone()
     out: list[tuple[float, float | None, str]] = []
     level_at_start: dict[str, tuple[str, tuple[str, ...]]] = {}
+    # Electrodes changing the same way for the same reason at the same moment (the checks
+    # starting: every channel "collecting data") make one annotation naming them all.
+    same: dict[tuple[float, str, str, tuple[str, ...]], list[str]] = {}
     for change in log.timeline:
         onset = (change.at - start).total_seconds()
         if onset <= 0:
             level_at_start[change.electrode] = (change.to_level, change.reasons)
         elif onset <= duration_s:
-            text = f"{change.electrode}: {change.from_level} -> {change.to_level}"
-            if change.reasons:
-                text += " (" + "; ".join(change.reasons) + ")"
-            out.append((round(onset, 3), None, text))
+            key = (round(onset, 3), change.from_level, change.to_level, change.reasons)
+            same.setdefault(key, []).append(change.electrode)
+    for (onset, from_level, to_level, reasons), names in same.items():
+        out.append((onset, None, _grouped(names, f"{from_level} -> {to_level}", reasons)))
+    at_start: dict[tuple[str, tuple[str, ...]], list[str]] = {}
     for name, (level, reasons) in level_at_start.items():
         if level != "good":
-            text = f"{name}: {level} at clip start" + (" (" + "; ".join(reasons) + ")" if reasons else "")
-            out.append((0.0, None, text))
+            at_start.setdefault((level, reasons), []).append(name)
+    for (level, reasons), names in at_start.items():
+        out.append((0.0, None, _grouped(names, f"{level} at clip start", reasons)))
     for f in log.findings:
         onset = (f.at - start).total_seconds()
         if 0 <= onset <= duration_s:
@@ -222,3 +233,8 @@ def annotations_for_clip(log: SetupLog, start: datetime, duration_s: float) -> l
             out.append((round(onset, 3), None, f"{e.kind.replace('_', ' ')}: {e.detail}"))
     out.sort(key=lambda a: a[0])
     return out
+
+
+def _grouped(names: Sequence[str], what: str, reasons: tuple[str, ...]) -> str:
+    who = names[0] if len(names) == 1 else f"{len(names)} channels ({', '.join(names)})"
+    return f"{who}: {what}" + (" (" + "; ".join(reasons) + ")" if reasons else "")

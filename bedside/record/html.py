@@ -84,7 +84,7 @@ def _td(text: object, *, num: bool = False) -> str:
 def _positions(log_: SetupLog, names: list[str]) -> tuple[dict[str, tuple[float, float, float]], str]:
     """Positions (mm, x right, y front, z up) for the names, and where they came from."""
     if log_.plan is not None and log_.plan.positions_mm:
-        return dict(log_.plan.positions_mm), "positions from this patient's head measurements"
+        return log_.plan_positions_mm(), "positions from this patient's head measurements"
     try:
         from bedside.placement import systems
         from bedside.placement.calculator import plan_placement
@@ -243,8 +243,8 @@ def head_map_svg(log_: SetupLog) -> str:
 def _all_good_text(log_: SetupLog) -> str:
     seconds = log_.time_to_all_good_s()
     if seconds is None:
-        return "never at the same time during the session"
-    return f"{int(seconds // 60)} min {seconds % 60:.0f} s after the first verdict"
+        return "not reached: at no moment were all of them good together"
+    return f"reached {int(seconds // 60)} min {seconds % 60:.0f} s after the first verdict"
 
 
 def render_report(log_: SetupLog) -> str:
@@ -263,7 +263,7 @@ def render_report(log_: SetupLog) -> str:
         ("Started", _t(log_.started_at)),
         ("Ended", _t(log_.ended_at) + (f" ({duration})" if duration else "")),
         ("Time zone", log_.time_zone or "—"),
-        ("All scalp electrodes good", _all_good_text(log_)),
+        ("All scalp electrodes good together", _all_good_text(log_)),
         (
             "Stream",
             f"{stream.identity.name} ({stream.identity.type}), source_id {stream.identity.source_id}, "
@@ -271,6 +271,14 @@ def render_report(log_: SetupLog) -> str:
             f"{stream.identity.nominal_rate_hz:g} Hz"
             if stream
             else "—",
+        ),
+        *(
+            (
+                "Earlier stream",
+                f"{sec.stream.identity.name}, source_id {sec.stream.identity.source_id}, until "
+                f"{_t(sec.ended_at)} — its verdicts are kept in the log, apart from this report's",
+            )
+            for sec in log_.earlier_streams
         ),
         ("Reference / ground", f"{log_.reference or '—'} / {log_.ground or '—'}"),
         ("Mains", f"{log_.power_line_hz:g} Hz" if log_.power_line_hz else "—"),
@@ -362,9 +370,7 @@ def render_report(log_: SetupLog) -> str:
                         _td(mk.line),
                         _td(mk.name + (f" ({mk.other_name})" if mk.other_name else "")),
                         _td(mk.start),
-                        _td(f"{mk.distance_cm:.1f}", num=True),
-                        _td(f"{mk.step_cm:.1f}", num=True),
-                        _td(f"{mk.percent:g}", num=True),
+                        *(_td(cell, num=mk.measured) for cell in mk.distance_cells()),
                     ]
                     for mk in log_.plan.marks
                 ),

@@ -159,6 +159,19 @@ class StreamRecord:
     channels: tuple[ChannelInfo, ...]
 
 
+@dataclass(frozen=True)
+class StreamSection:
+    """What was recorded for a stream the session left for another (``p`` in the app):
+    its stream, when it was left, and its own timeline, findings and final state, kept
+    apart so two streams' verdicts never mix (a switch starts a new section)."""
+
+    stream: StreamRecord
+    ended_at: datetime
+    timeline: tuple[LevelChange, ...] = ()
+    findings: tuple[FindingChange, ...] = ()
+    final: dict[str, ChannelFinal] = field(default_factory=dict)
+
+
 @dataclass
 class SetupLog:
     """The whole setup log. Mutable: the :class:`~bedside.record.session.SessionRecorder`
@@ -186,6 +199,9 @@ class SetupLog:
     impedances: list[ImpedanceEntry] = field(default_factory=list)
     notes: list[Note] = field(default_factory=list)
     sign_off: SignOff | None = None
+    #: Streams checked before the current one, oldest first; ``stream``, ``timeline``,
+    #: ``findings`` and ``final`` always belong to the current stream alone.
+    earlier_streams: list[StreamSection] = field(default_factory=list)
 
     # -- derived views ------------------------------------------------------------
 
@@ -210,15 +226,39 @@ class SetupLog:
         scalp = {c.name for c in self.stream.channels if c.is_scalp} if self.stream else None
         current: dict[str, str] = {}
         first: datetime | None = None
-        for change in self.timeline:
-            if scalp is not None and change.electrode not in scalp:
-                continue
+        changes = [c for c in self.timeline if scalp is None or c.electrode in scalp]
+        for k, change in enumerate(changes):
             current[change.electrode] = change.to_level
             if first is None and change.to_level != "no_data":
                 first = change.at
+            # Judge a moment only once all of its changes are in (one frame's changes share
+            # a time), and only when every scalp electrode of the stream has a verdict.
+            if k + 1 < len(changes) and changes[k + 1].at == change.at:
+                continue
+            if scalp is not None and not scalp <= current.keys():
+                continue
             if first is not None and all(level == "good" for level in current.values()):
                 return round((change.at - first).total_seconds(), 3)
         return None
+
+    def plan_positions_mm(self) -> dict[str, tuple[float, float, float]]:
+        """The plan's positions keyed by the names this log's electrodes go by: a plan
+        made with classic names (T3) places the stream's or the impedance list's T7 (the
+        same site, Jasper 1958 / ACNS 2016 renaming), so no export loses it."""
+        if self.plan is None:
+            return {}
+        from bedside.placement.systems import canonical_name
+
+        used: list[str] = [c.name for c in self.stream.channels] if self.stream is not None else []
+        used += [e.electrode for e in self.impedances] + list(self.final)
+        used_set = set(used)
+        planned = {canonical_name(k) or k: k for k in self.plan.positions_mm}
+        rename: dict[str, str] = {}
+        for name in used:
+            key = planned.get(canonical_name(name) or name)
+            if key is not None and key != name and key not in used_set and key not in rename:
+                rename[key] = name
+        return {rename.get(k, k): v for k, v in self.plan.positions_mm.items()}
 
     def latest_impedances_kohm(self) -> dict[str, float]:
         """The last impedance entered per electrode (kΩ)."""
@@ -393,7 +433,7 @@ def shallow_copy(log: SetupLog) -> SetupLog:
     """A copy whose lists and mappings are new but whose (frozen) entries are shared:
     cheap, and safe to read while the original grows."""
     copied = dataclasses.replace(log)
-    for name in (*_APPEND_ONLY, "final"):
+    for name in (*_APPEND_ONLY, "final", "earlier_streams"):
         setattr(copied, name, type(getattr(log, name))(getattr(log, name)))
     return copied
 

@@ -73,6 +73,7 @@ from bedside.record.log import (
     SetupLog,
     SignOff,
     StreamRecord,
+    StreamSection,
     dump_yaml,
     parse_yaml,
     shallow_copy,
@@ -178,7 +179,7 @@ class SessionRecorder:
         self._notice: str | None = None
         self._aside_pending: str | None = None  # a corrupt file not yet moved aside
         self._last_level: dict[str, str] = {}
-        self._findings: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        self._findings: dict[tuple[str, tuple[str, ...]], tuple[str, str, tuple[str, ...]]] = {}
         self._health_state: str | None = None
         self._health_gaps = 0
         self._health_reconnects = 0
@@ -187,6 +188,8 @@ class SessionRecorder:
         self._seen_untrusted: set[str] = set()
         self._lock_fd: int | None = None
         self._closed = False
+        self._resumed = False
+        self._discarded = False
         self._stop = threading.Event()
         self._wake = threading.Event()
         self._thread: threading.Thread | None = None
@@ -226,6 +229,7 @@ class SessionRecorder:
                 self._aside_pending = reason
                 existing = None
         if existing is not None:
+            self._resumed = True
             if subject and existing.subject_id and subject != existing.subject_id:
                 raise RecordError(
                     f"{self._path} is the log of subject {existing.subject_id}, not {subject}; "
@@ -247,11 +251,14 @@ class SessionRecorder:
             self._log.events.append(Event(now, "resumed", detail))
             for change in self._log.timeline:
                 self._last_level[change.electrode] = change.to_level
+            from bedside.checks.levels import finding_key
+
             for f in self._log.findings:  # the findings still open when the log was last saved
+                key = finding_key(f)  # type: ignore[arg-type]
                 if f.change == "cleared":
-                    self._findings.pop((f.kind, f.electrodes), None)
+                    self._findings.pop(key, None)
                 else:
-                    self._findings[(f.kind, f.electrodes)] = (f.level, f.reason)
+                    self._findings[key] = (f.level, f.reason, f.electrodes)
             log.info("setup log %s resumed (%d timeline entries)", self._path, len(self._log.timeline))
         else:
             self._log = SetupLog(
@@ -407,9 +414,25 @@ class SessionRecorder:
                 f"{identity.source_id!r}, {identity.n_channels} channels at {identity.nominal_rate_hz:g} Hz"
             )
             kind = "stream" if old is None else "stream_changed"
+            if old is not None:
+                self._start_section(old, record.at)
             self._log.stream = record
             self._log.events.append(Event(record.at, kind, detail))
             self._touch()
+
+    def _start_section(self, old: StreamRecord, at: datetime) -> None:
+        """Another stream: file the old one's verdicts under its own section and start
+        afresh, so the final table, time to good and findings are the new stream's only."""
+        self._log.earlier_streams.append(
+            StreamSection(old, at, tuple(self._log.timeline), tuple(self._log.findings), dict(self._log.final))
+        )
+        self._log.timeline = []
+        self._log.findings = []
+        self._log.final = {}
+        self._last_level = {}
+        self._findings = {}
+        self._health_state = None
+        self._health_gaps = self._health_reconnects = self._health_jumps = 0
 
     def on_frame(self, frame: Any) -> None:
         """Record one QualityFrame: level changes, findings, stream state (any thread)."""
@@ -435,7 +458,10 @@ class SessionRecorder:
             health = getattr(frame, "stream_health", None)
             if health is not None:
                 changed |= self._record_health(at, health)
-            if getattr(frame, "live", True):
+            # No channel judged (the checks are starting, e.g. after re-picking the same
+            # stream or looking again): no verdict is not a finding that cleared.
+            judged = any(ch.level is not None for ch in frame.channels)
+            if getattr(frame, "live", True) and judged:
                 changed |= self._record_findings(at, frame.findings)
             extras = getattr(frame, "extras", None) or {}
             for key_name in _FRAME_EXTRA_MAINS_KEYS:
@@ -495,20 +521,24 @@ class SessionRecorder:
         return changed
 
     def _record_findings(self, at: datetime, findings: Iterable[Any]) -> bool:
-        current: dict[tuple[str, tuple[str, ...]], tuple[str, str]] = {}
+        from bedside.checks.levels import finding_key
+
+        # One entry per finding while it lasts: a whole-head finding whose channel count
+        # moves (14 of 19, then 15) is the same finding, not one cleared and one appeared.
+        current: dict[tuple[str, tuple[str, ...]], tuple[str, str, tuple[str, ...]]] = {}
         for f in findings:
-            current[(str(f.kind), tuple(map(str, f.electrodes)))] = (f.level.key, str(f.reason))
+            current[finding_key(f)] = (f.level.key, str(f.reason), tuple(map(str, f.electrodes)))
         changed = False
-        for key, (level, reason) in current.items():
+        for key, (level, reason, names) in current.items():
             before = self._findings.get(key)
             if before is None or before[0] != level:
                 self._log.findings.append(
-                    FindingChange(at, "appeared" if before is None else "changed", key[0], key[1], level, reason)  # type: ignore[arg-type]
+                    FindingChange(at, "appeared" if before is None else "changed", key[0], names, level, reason)  # type: ignore[arg-type]
                 )
                 changed = True
-        for key, (level, reason) in self._findings.items():
+        for key, (level, reason, names) in self._findings.items():
             if key not in current:
-                self._log.findings.append(FindingChange(at, "cleared", key[0], key[1], level, reason))  # type: ignore[arg-type]
+                self._log.findings.append(FindingChange(at, "cleared", key[0], names, level, reason))  # type: ignore[arg-type]
                 changed = True
         self._findings = current
         return changed
@@ -687,8 +717,11 @@ class SessionRecorder:
 
     # -- closing -------------------------------------------------------------------
 
-    def close(self) -> None:
+    def close(self, discard_if_empty: bool = False) -> None:
         """Stamp the end time, stop autosaving and save a last time.
+
+        discard_if_empty: a new log that recorded nothing (no measurements, stream,
+        verdicts, impedances, notes or sign-off) is removed instead (see :attr:`discarded`).
 
         If that save fails, a copy is written to a rescue folder and LogSaveError
         names both places; the log also stays readable via :meth:`dump_text`.
@@ -701,11 +734,21 @@ class SessionRecorder:
             self._log.ended_at = now
             self._log.events.append(Event(now, "closed", ""))
             self._touch()
+            empty = discard_if_empty and not self._resumed and self._records_nothing()
         self._stop.set()
         self._wake.set()
         if self._thread is not None and self._thread is not threading.current_thread():
             self._thread.join(timeout=10.0)
         _OPEN.discard(self)
+        if empty:
+            # Opened and left before anything was measured, watched or written: a file
+            # holding only its own opening would be mistaken for a setup that happened.
+            with contextlib.suppress(FileNotFoundError):
+                self._path.unlink()
+            self._discarded = True
+            self._release_file_lock()
+            log.info("setup log %s: nothing was recorded, no file kept", self._path)
+            return
         try:
             self._save()
         except LogSaveError as exc:
@@ -714,6 +757,16 @@ class SessionRecorder:
             raise LogSaveError(f"the setup log could not be saved to {self._path}: {exc}; {where}") from exc
         finally:
             self._release_file_lock()
+
+    def _records_nothing(self) -> bool:
+        lg = self._log
+        return not (lg.plan or lg.stream or lg.timeline or lg.findings or lg.impedances
+                    or lg.notes or lg.sign_off or lg.earlier_streams)
+
+    @property
+    def discarded(self) -> bool:
+        """True when the session closed with nothing recorded and its file was removed."""
+        return self._discarded
 
     def _write_rescue_copy(self) -> Path | None:
         text = self.dump_text()

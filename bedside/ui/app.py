@@ -31,7 +31,7 @@ from bedside.ui.progress import GoodTracker, Progress
 from bedside.ui.screens.help import HelpScreen
 from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
-from bedside.ui.screens.picker import StreamPicker
+from bedside.ui.screens.picker import StreamPicker, streams_visible
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import Services, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
@@ -84,9 +84,7 @@ class BedsideApp(App[int]):
         Binding("f3", "view('watch')", "Watch"),
         Binding("f4", "view('log')", "Log"),
         Binding("question_mark", "help", "Help", show=False),
-        Binding("1", "view('measure')", "Measure", show=False),
-        Binding("2", "view('watch')", "Watch", show=False),
-        Binding("3", "view('log')", "Log", show=False),
+        # Views by F2/F3/F4 only: a digit is a number being typed, never a jump.
         Binding("q", "leave", "Save & quit", show=False),
         Binding("ctrl+q", "leave", "Save & quit", priority=True),
         Binding("ctrl+c", "leave", "Save & quit", show=False, priority=True),
@@ -103,7 +101,7 @@ class BedsideApp(App[int]):
         self.identity: StreamIdentity | None = source.identity if source is not None else None
         self.connection: Connection | None = None
         self.recorder: RecorderGate | None = None
-        self._log_error = "" if config.log_path else "started without a log file (--log)"
+        self._log_error = "" if config.log_path else "no setup log is kept in this session (it was started without one)"
         self.latest_frame: QualityFrame | None = None
         self.progress: Progress | None = None
         self.tracker = GoodTracker()
@@ -117,6 +115,8 @@ class BedsideApp(App[int]):
         self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
+        #: What became of the setup log, said once the app has closed (the CLI prints it).
+        self.log_outcome = ""
 
     # --- start and stop -------------------------------------------------------------
     def on_mount(self) -> None:
@@ -144,11 +144,10 @@ class BedsideApp(App[int]):
             self.connection = None
         gate, self.recorder = self.recorder, None
         if gate is not None and not self._leaving:
-            for method in ("save_now", "close"):
-                try:
-                    gate.call(method)
-                except BedsideError as exc:
-                    log.error("setup log: %s", exc)
+            try:
+                self._close_log(gate)
+            except BedsideError as exc:
+                log.error("setup log: %s", exc)
             gate.stop()
 
     def action_leave(self) -> None:
@@ -170,14 +169,25 @@ class BedsideApp(App[int]):
         gate = self.recorder
         if gate is not None:
             gate.drain(3.0)
-            for method in ("save_now", "close"):
-                try:
-                    gate.call(method)
-                except BedsideError as exc:
-                    problems.append(f"setup log: {exc}")
+            try:
+                self._close_log(gate)
+            except BedsideError as exc:
+                problems.append(f"setup log: {exc}")
             gate.stop()
             self.recorder = None
         self.post_message(ShutdownDone(problems))
+
+    def _close_log(self, gate: RecorderGate) -> None:
+        gate.call("save_now")
+        if self.config.discard_empty_log:
+            gate.call("close", True)
+        else:
+            gate.call("close")
+        if getattr(gate.recorder, "discarded", False):
+            self.log_outcome = "nothing was recorded, so no setup log was kept"
+        else:
+            path = getattr(gate.recorder, "path", None) or self.config.log_path
+            self.log_outcome = f"setup log saved to {path}"
 
     def on_shutdown_done(self, message: ShutdownDone) -> None:
         if message.problems:
@@ -247,7 +257,8 @@ class BedsideApp(App[int]):
             pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
         except AmbiguousStream as exc:
             cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
-            self.post_message(StreamsFound(cands, True, None, str(exc)))
+            # The picker says it in the app's terms (the error's text names command options).
+            self.post_message(StreamsFound(cands, True, None, ""))
             return
         except StreamNotFound as exc:
             self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
@@ -269,7 +280,7 @@ class BedsideApp(App[int]):
             if self.current_view == "watch":
                 self._open_picker()
             else:
-                self.status_note = f"{len(message.streams)} streams visible: choose one in Watch (F3)"
+                self.status_note = f"{streams_visible(len(message.streams))}: choose one in Watch (F3)"
                 self.notify(self.status_note, timeout=6)
         self._refresh_watch_status()
 
@@ -278,7 +289,7 @@ class BedsideApp(App[int]):
             return
         streams, note = self._pending_pick
         self._pending_pick = None
-        self.push_screen(StreamPicker(streams, note), self._picked)
+        self.push_screen(StreamPicker(streams, note, current=self.identity), self._picked)
 
     def _picked(self, identity: StreamIdentity | None) -> None:
         if identity is not None:
@@ -412,7 +423,7 @@ class BedsideApp(App[int]):
         value = frame.extras.get("mains_hz") if frame is not None else None
         if isinstance(value, int | float) and math.isfinite(value) and value > 0:
             return (float(value),)
-        return (50.0, 60.0)
+        return ()  # not detected (yet, or none there): the spectrum marks nothing
 
     def bipolar_partner(self, name: str) -> str | None:
         """The electrode behind ``name`` for a bipolar view: its nearest neighbour further back.
@@ -516,12 +527,14 @@ class BedsideApp(App[int]):
             self.notify("log saved", timeout=2)
 
     def known_electrodes(self) -> set[str]:
-        names: set[str] = set()
+        """Electrodes an impedance may be typed for: the stream's channels while one is
+        watched (a planned site the stream does not carry would be judged "no data"),
+        else the measured plan's sites."""
         if self.connection is not None:
-            names |= {ch.name for ch in self.connection.channels}
+            return {ch.name for ch in self.connection.channels}
         if self.plan is not None:
-            names |= {mk.name for mk in self.plan.marks}
-        return names
+            return {mk.name for mk in self.plan.marks}
+        return set()
 
 
 def make_app(

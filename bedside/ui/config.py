@@ -30,6 +30,8 @@ class AppConfig:
     host: str | None = None
     wait_s: float = 3.0
     log_path: Path | None = None
+    #: The log was named by bedside (no --log): if nothing is recorded it is not kept.
+    discard_empty_log: bool = False
     technologist: str = ""
     subject_id: str = ""
     config_paths: tuple[Path, ...] = field(default_factory=tuple)

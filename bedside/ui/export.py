@@ -58,6 +58,9 @@ def plan_as_text(plan: PlacementPlan) -> str:
         out.append(line_title(line))
         out.append(f"  {'site':<6} {'also':<5} {'from':<8} {'cm':>6} {'step':>6} {'%':>5}  how")
         for mk in marks:
+            if not mk.measured:
+                out.append(f"  {mk.name:<6} {mk.other_name:<5} {mk.start:<8} not measured  {mk.how}".rstrip())
+                continue
             out.append(
                 f"  {mk.name:<6} {mk.other_name:<5} {mk.start:<8} {mk.distance_cm:>6.1f} "
                 f"{mk.step_cm:>6.1f} {mk.percent:>5.0f}  {mk.how}".rstrip()

@@ -13,34 +13,45 @@ from bedside.checks.types import Level, QualityFrame
 @dataclass(frozen=True)
 class Progress:
     """not_good: scalp electrodes whose level is not GOOD (or has no data), in stream order.
-    time_to_good_s: electrode → seconds from the first live frame to its first GOOD."""
+    time_to_good_s: electrode → seconds from its own first verdict (not "no data") to its
+    first GOOD — the setup log's definition (``SetupLog.time_to_good_s``), so the screen
+    and the log agree (0 for an electrode good from its first verdict). The table shows it
+    only beside an electrode that is good now. latest_good: the electrode that most
+    recently became good after being not good, and its time."""
 
     total: int
     not_good: tuple[str, ...]
     time_to_good_s: dict[str, float]
     live: bool
+    latest_good: tuple[str, float] | None = None
 
 
 class GoodTracker:
     """Follows frames; times are the frames' own wall_time, so replays are exact."""
 
     def __init__(self) -> None:
-        self._start: float | None = None
+        self._first_verdict: dict[str, float] = {}
         self._first_good: dict[str, float] = {}
+        self._latest: tuple[str, float] | None = None
 
     def reset(self) -> None:
-        self._start = None
+        self._first_verdict.clear()
         self._first_good.clear()
+        self._latest = None
 
     def update(self, frame: QualityFrame) -> Progress:
         scalp = [ch for ch in frame.channels if ch.is_scalp]
         live = frame.live
-        if live and self._start is None:
-            self._start = frame.wall_time
-        if live and self._start is not None:
+        if live:
             for ch in scalp:
+                if ch.level is None:
+                    continue
+                start = self._first_verdict.setdefault(ch.name, frame.wall_time)
                 if ch.level is Level.GOOD and ch.name not in self._first_good:
-                    self._first_good[ch.name] = max(0.0, frame.wall_time - self._start)
+                    seconds = round(max(0.0, frame.wall_time - start), 3)
+                    self._first_good[ch.name] = seconds
+                    if seconds > 0:
+                        self._latest = (ch.name, seconds)
         not_good = tuple(
             ch.name for ch in scalp if not live or ch.level is not Level.GOOD
         )
@@ -49,4 +60,5 @@ class GoodTracker:
             not_good=not_good,
             time_to_good_s=dict(self._first_good),
             live=live,
+            latest_good=self._latest,
         )

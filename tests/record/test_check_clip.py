@@ -56,3 +56,36 @@ def test_clip_matches_the_published_samples(tmp_path: Path, capsys: pytest.Captu
     match = [k for k in starts if np.all(np.abs(truth[k:k + n] - got) <= quantum)]
     assert match, "the clip's samples are not the published samples"
     assert any("O1" in t and "Oz" in t for t in texts)
+
+
+def test_clip_with_default_length_names_the_technologist_once_per_change(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    """`check --clip c.edf` with the default lengths works (the clip is the whole look);
+    the EDF+ technician field holds --technologist (EDF+ spec, Kemp & Olivan 2003:
+    'Startdate dd-MMM-yyyy admincode technician equipment'); the checks starting on every
+    channel at once make one annotation, not one per channel."""
+    name = f"clipd-{uuid.uuid4().hex[:10]}"
+    clip = tmp_path / "c.edf"
+    with Publisher("ward_demo", name=name, source_id=f"sid-{name}", duration_s=30.0).start():
+        code = main([
+            "check", "--stream", name, "--seconds", "3", "--wait", "1.5", "--clip", str(clip),
+            "--log", str(tmp_path / "W3-017.yaml"), "--subject", "W3-017", "--technologist", "JMK",
+        ])
+    assert code == 1
+    assert "wrote EDF+ clip" in capsys.readouterr().err
+    with pyedflib.EdfReader(str(clip)) as edf:
+        assert edf.getTechnician() == "JMK"
+        onsets, _, texts = edf.readAnnotations()
+    pairs = list(zip(onsets.round(3).tolist(), texts, strict=True))
+    assert len(pairs) == len(set(pairs)), "identical annotations at one onset"
+    collecting = [t for t in texts if "collecting data" in t]
+    assert len(collecting) <= 1, collecting
+
+
+def test_check_seconds_is_bounded(capsys: pytest.CaptureFixture[str]) -> None:
+    """An absurd look (--seconds 100000, about 28 h) is refused before any stream is looked for."""
+    code = main(["check", "--stream", "nothing-here", "--seconds", "100000"])
+    assert code == 2
+    err = capsys.readouterr().err
+    assert "error:" in err and "--seconds 100000" in err and "3600" in err

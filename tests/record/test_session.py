@@ -364,3 +364,57 @@ def test_resume_carries_open_findings_over(tmp_path: Path, clock: FakeClock) -> 
         rec.on_frame(make_frame(clock.now + 5, {"O1": Level.BAD}, findings=[bridge]))  # still there
         rec.on_frame(make_frame(clock.now + 9, {"O1": Level.GOOD}))
     assert [f.change for f in load_log(path).findings] == ["appeared", "cleared"]
+
+
+def test_switching_streams_starts_a_new_section(tmp_path: Path, clock: FakeClock) -> None:
+    """Bed 4 then bed 5: the final table, time to good and findings are bed 5's alone;
+    bed 4's verdicts are kept in their own section (nothing lost, nothing mixed)."""
+    import dataclasses
+
+    from bedside.checks.types import Finding
+    from bedside.stream.types import ChannelInfo
+
+    path = tmp_path / "switch.yaml"
+    bed5 = dataclasses.replace(make_identity(2), name="WardB-Bed5-EEG", source_id="wardb-bed5-amp-0002")
+    chans5 = (ChannelInfo("Cz", "Cz", "EEG", "microvolts", 1.0, True),
+              ChannelInfo("O1", "O1", "EEG", "microvolts", 1.0, True))
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        t = clock.now
+        rec.set_stream(make_identity(), make_channels())
+        bridge = Finding("bridge", ("O1", "O2"), Level.BAD, "O1 and O2 bridged")
+        rec.on_frame(make_frame(t, {"O2": Level.BAD, "O1": Level.BAD}, findings=(bridge,)))
+        rec.set_stream(bed5, chans5)
+        rec.on_frame(make_frame(t + 2, {"Cz": Level.GOOD, "O1": Level.GOOD}))
+        snap = rec.snapshot()
+    for log_ in (snap, load_log(path)):
+        assert set(log_.final) == {"Cz", "O1"}
+        assert "O2" not in log_.time_to_good_s()
+        assert log_.time_to_all_good_s() == 0.0
+        assert log_.findings == []  # the bed-4 bridge is neither current nor "cleared"
+        (earlier,) = log_.earlier_streams
+        assert earlier.stream.identity.source_id == "wardb-bed4-amp-0001"
+        assert earlier.final["O2"].level == "bad"
+        assert [f.kind for f in earlier.findings] == ["bridge"]
+    from bedside.commands.report import text_summary
+    from bedside.record.html import render_report
+
+    assert "earlier stream WardB-Bed4-EEG" in text_summary(snap)
+    assert "Earlier stream" in render_report(snap) and "wardb-bed4-amp-0001" in render_report(snap)
+
+
+def test_restarting_checks_on_the_same_stream_logs_no_false_clearing(tmp_path: Path, clock: FakeClock) -> None:
+    """Re-picking the same stream (or looking again) restarts the checks: their first
+    frames judge nothing, which must not read as the finding clearing and reappearing."""
+    from bedside.checks.types import Finding
+
+    with SessionRecorder.open(tmp_path / "same.yaml", subject_id="W3-017", clock=clock) as rec:
+        t = clock.now
+        rec.set_stream(make_identity(), make_channels())
+        bridge = Finding("bridge", ("O1", "O2"), Level.BAD, "O1 and O2 bridged")
+        rec.on_frame(make_frame(t, {"O1": Level.BAD, "O2": Level.BAD}, findings=(bridge,)))
+        rec.set_stream(make_identity(), make_channels())
+        rec.on_frame(make_frame(t + 1, {"O1": None, "O2": None}))
+        rec.on_frame(make_frame(t + 2, {"O1": Level.BAD, "O2": Level.BAD}, findings=(bridge,)))
+        snap = rec.snapshot()
+    assert [f.change for f in snap.findings] == ["appeared"]
+    assert snap.earlier_streams == []

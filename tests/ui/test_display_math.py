@@ -155,3 +155,24 @@ def test_bipolar_partner_follows_the_engines_neighbour_graph() -> None:
     fake = type("A", (), {"points": pts, "connection": _Conn()})()
     partner = BedsideApp.bipolar_partner(fake, "T7")  # type: ignore[arg-type]
     assert partner in t7 and pts[partner][1] < pts["T7"][1] + 1e-9
+
+
+def test_time_to_good_is_the_logs_definition_and_latest_moves() -> None:
+    """Issue 17.12, against the setup log's own definition (SetupLog.time_to_good_s):
+    from the electrode's first verdict (not the first frame) to its first good; "latest
+    to good" follows the electrode fixed most recently."""
+    from bedside.record.log import LevelChange, SetupLog, stamp
+
+    tr = GoodTracker()
+    tr.update(_frame(100.0, {"Fp1": None, "T7": None}))  # warming up: no verdict yet
+    tr.update(_frame(101.0, {"Fp1": Level.BAD, "T7": None}))
+    tr.update(_frame(103.0, {"Fp1": Level.GOOD, "T7": Level.BAD}))
+    p = tr.update(_frame(110.0, {"Fp1": Level.GOOD, "T7": Level.GOOD}))
+    assert p.time_to_good_s == {"Fp1": 2.0, "T7": 7.0}
+    assert p.latest_good == ("T7", 7.0)
+    log_ = SetupLog(timeline=[
+        LevelChange(stamp(100.0), "Fp1", "none", "no_data"), LevelChange(stamp(100.0), "T7", "none", "no_data"),
+        LevelChange(stamp(101.0), "Fp1", "no_data", "bad"), LevelChange(stamp(103.0), "Fp1", "bad", "good"),
+        LevelChange(stamp(103.0), "T7", "no_data", "bad"), LevelChange(stamp(110.0), "T7", "bad", "good"),
+    ])
+    assert log_.time_to_good_s() == p.time_to_good_s

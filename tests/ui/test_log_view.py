@@ -103,3 +103,54 @@ async def test_unwritable_log_is_reported_not_hidden(tmp_path: Path) -> None:
         assert await _until(pilot, lambda: "not saved" in si.screen_text(app))
         await pilot.press("f3")
         assert app.screen.name == "watch"
+
+
+async def test_opened_and_left_keeps_no_empty_log_and_says_where_a_log_went(tmp_path: Path) -> None:
+    """`bedside`, Esc, q with nothing measured, watched or written: the log bedside named
+    itself is not left behind empty; once something is recorded, the app says where it went."""
+    empty = tmp_path / "setup-20261203-090000.yaml"
+    app = make_app(AppConfig(discover=False, start_view="watch", log_path=empty, discard_empty_log=True))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("escape", "q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert app.return_code == 0
+    assert not empty.exists() and not list(tmp_path.glob("*.yaml"))
+    assert app.log_outcome == "nothing was recorded, so no setup log was kept"
+
+    kept = tmp_path / "W3-017-20261203-090100.yaml"
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=kept, subject_id="W3-017",
+                             discard_empty_log=True))
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        await pilot.press("tab", "tab")
+        await _type(pilot, "cap applied")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "cap applied" in si.screen_text(app))
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert kept.exists() and "cap applied" in kept.read_text(encoding="utf-8")
+    assert app.log_outcome == f"setup log saved to {kept}"
+
+
+async def test_impedance_for_an_electrode_not_in_the_stream_is_refused(tmp_path: Path) -> None:
+    """Fpz is on the measured plan but not in the stream: its impedance is refused with the
+    reason (it would only ever read "no data"); Fp1, in the stream, is taken."""
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=tmp_path / "W3-017.yaml",
+                             subject_id="W3-017"), source=si.FixedSource(), services=si.services())
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.connection is not None)
+        app.plan_changed(si.plan_placement(si.parse_measurements("36", "35", "56", "cm"), "10-20", "modern"))
+        assert "Fpz" not in {ch.name for ch in app.connection.channels}
+        app.screen.query_one("#imp-electrode").value = "Fpz"
+        app.screen.query_one("#imp-kohm").value = "6"
+        app.screen.query_one("#imp-kohm").focus()
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "not in the stream being watched" in si.screen_text(app))
+        assert "Fpz" not in app.views["log"].impedances
+        app.screen.query_one("#imp-electrode").value = "Fp1"
+        app.screen.query_one("#imp-kohm").focus()
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "Fp1" in app.views["log"].impedances)
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)

@@ -59,7 +59,8 @@ async def test_measurements_give_marks_at_published_percentages(size: tuple[int,
         line = ""
         for r in rows:
             line = r[0] or line
-            by_line.setdefault(line, {})[r[1]] = float(r[4])
+            if r[4] != "—":  # the reference sites are not on a measured line
+                by_line.setdefault(line, {})[r[1]] = float(r[4])
         assert by_line["midline"]["Fpz"] == pytest.approx(3.6)
         assert by_line["midline"]["Cz"] == pytest.approx(18.0)
         assert by_line["midline"]["Oz"] == pytest.approx(32.4)
@@ -119,3 +120,59 @@ async def test_export_writes_a_printable_sheet(tmp_path: Path) -> None:
     cz = [ln for ln in sheet.splitlines() if ln.split()[:1] == ["Cz"]]
     assert cz and "18.0" in cz[0]
     assert "does not diagnose" in sheet
+
+
+async def test_invalid_input_clears_the_marks_and_refuses_f5(tmp_path: Path) -> None:
+    """After 36/35/56 cm, nasion–inion changed to 0: the old marks leave the screen and F5
+    saves nothing, so a sheet never shows measurements that are no longer typed.
+    (A 0-cm head is outside any published head size — INTERGROWTH-21st, WHO.)"""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        screen = app.screen
+        table = screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        screen.query_one("#ni", Input).value = "0"
+        assert await _settle(pilot, app, lambda: "✖" in screen_text(app))
+        assert table.row_count == 0
+        assert screen.query_one("#marks-map", HeadMap).points == {}
+        await pilot.press("escape", "f5")
+        await pilot.pause(0.3)
+        assert not list(tmp_path.glob("marks-*.txt"))
+        # An emptied field clears them too.
+        screen.query_one("#ni", Input).value = "36"
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        screen.query_one("#circ", Input).value = ""
+        assert await _settle(pilot, app, lambda: table.row_count == 0)
+        await pilot.press("escape", "f5")
+        await pilot.pause(0.3)
+        assert not list(tmp_path.glob("marks-*.txt"))
+
+
+async def test_reference_sites_read_not_measured_not_zero(tmp_path: Path) -> None:
+    """A1/A2/M1/M2 are placed by landmark (earlobe, mastoid), not on a measured line
+    (Jasper 1958; ACNS Guideline 2): the table, the sheet and the HTML say "not measured",
+    never "0.0 cm, 0 %"."""
+    from bedside.record.html import render_report
+    from bedside.record.log import PlanRecord, SetupLog
+    from bedside.ui.export import plan_as_text
+
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        refs = [r for r in _rows(table) if r[1] in ("A1", "A2", "M1", "M2")]
+        assert len(refs) == 4
+        for r in refs:
+            assert r[4:7] == ["—", "", ""], r
+            assert "not measured" in r[7]
+        plan = app.screen.plan
+    assert plan is not None
+    sheet = [ln for ln in plan_as_text(plan).splitlines() if ln.split()[:1] == ["A1"]]
+    assert sheet and "not measured" in sheet[0] and "0.0" not in sheet[0]
+    log_ = SetupLog(subject_id="W3-017", plan=PlanRecord(plan.measurements, plan.system, plan.names, plan.marks))
+    html = render_report(log_)
+    start = html.index("<td>reference</td><td>A1</td>")
+    row = html[start: html.index("</tr>", start)]
+    assert "not measured" in row and "0.0" not in row

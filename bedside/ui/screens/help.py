@@ -13,7 +13,7 @@ from bedside.cautions import CAUTIONS, DISCLAIMER
 
 KEYS = (
     ("Everywhere", (
-        ("F2 / F3 / F4", "Measure / Watch / Log (1 2 3 when not typing)"),
+        ("F2 / F3 / F4", "Measure / Watch / Log"),
         ("F1 or ?", "this help"),
         ("ctrl+s", "save the setup log now"),
         ("ctrl+q, ctrl+c, q", "save the log and leave (q when not typing)"),

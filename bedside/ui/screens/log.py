@@ -217,7 +217,8 @@ class LogScreen(Screen[None]):
             return
         match = {n.lower(): n for n in known}.get(electrode.lower())
         if known and match is None:
-            self._say(f"✖ unknown electrode {electrode!r}; known: {', '.join(sorted(known)[:30])}", "bold red")
+            where = "in the stream being watched" if self.bedside.connection is not None else "in the plan"
+            self._say(f"✖ {electrode!r} is not {where}; accepted: {', '.join(sorted(known)[:30])}", "bold red")
             e_in.focus()
             return
         electrode = match or electrode

@@ -5,6 +5,7 @@ Validation and planning run in a worker thread; results come back as messages.
 
 from __future__ import annotations
 
+import re
 from typing import TYPE_CHECKING, cast
 
 from rich.text import Text
@@ -24,6 +25,13 @@ from bedside.ui.widgets.head_map import HeadMap
 if TYPE_CHECKING:
     from bedside.ui.app import BedsideApp
 
+def in_app_terms(text: str) -> str:
+    """A placement message worded for the command line, in this form's terms."""
+    text = re.sub(r"with --unit (\w+)", r"with the unit set to \1", text)
+    return text.replace("(the unit goes in --unit)", "(choose the unit above)").replace(
+        "--unit", "the unit box")
+
+
 UNITS = (("cm", "cm"), ("mm", "mm"), ("inches", "in"))
 SYSTEMS = (("10-20", "10-20"), ("10-10", "10-10"))
 NAMINGS = (("modern (T7/T8/P7/P8)", "modern"), ("classic (T3/T4/T5/T6)", "classic"))
@@ -37,18 +45,20 @@ FIELDS = (
 class PlanReady(Message):
     """The measurements were accepted and the marks computed."""
 
-    def __init__(self, plan: PlacementPlan, points: dict[str, tuple[float, float]]) -> None:
+    def __init__(self, plan: PlacementPlan, points: dict[str, tuple[float, float]], generation: int) -> None:
         super().__init__()
         self.plan = plan
         self.points = points
+        self.generation = generation
 
 
 class MeasureInvalid(Message):
     """The measurements were not accepted; ``text`` says what and what is accepted."""
 
-    def __init__(self, text: str) -> None:
+    def __init__(self, text: str, generation: int) -> None:
         super().__init__()
         self.text = text
+        self.generation = generation
 
 
 class MeasureScreen(Screen[None]):
@@ -62,6 +72,9 @@ class MeasureScreen(Screen[None]):
     def __init__(self) -> None:
         super().__init__(name="measure")
         self.plan: PlacementPlan | None = None
+        # Every edit starts a new generation; a worker's answer for an older one is dropped,
+        # so marks computed from what was typed before never reappear (one owner: the UI thread).
+        self._generation = 0
 
     @property
     def bedside(self) -> BedsideApp:
@@ -129,15 +142,25 @@ class MeasureScreen(Screen[None]):
                 self.query_one("#marks-table", DataTable).focus()
 
     def _revalidate(self) -> None:
+        self._generation += 1
         ni, pa, circ, unit, system, names = self.values()
         if not (ni and pa and circ):
+            self._clear_marks()
             missing = [label for (k, label, _), v in zip(FIELDS, (ni, pa, circ), strict=True) if not v]
             self._message(f"still needed: {', '.join(missing)}", "grey62")
             return
-        self._plan(ni, pa, circ, unit, system, names)
+        self._plan(ni, pa, circ, unit, system, names, self._generation)
+
+    def _clear_marks(self) -> None:
+        """The marks leave the screen as soon as what is typed no longer gives them;
+        F5/F6 then refuse (no sheet from measurements that are not the ones typed)."""
+        self.plan = None
+        self.query_one("#marks-table", DataTable).clear()
+        self.query_one("#marks-map", HeadMap).set_points({})
 
     @work(thread=True, exclusive=True, group="plan", exit_on_error=False)
-    def _plan(self, ni: str, pa: str, circ: str, unit: str, system: str, names: str) -> None:
+    def _plan(self, ni: str, pa: str, circ: str, unit: str, system: str, names: str,
+              generation: int) -> None:
         services = self.bedside.services
         try:
             m = services.parse_measurements(ni, pa, circ, unit)
@@ -145,19 +168,20 @@ class MeasureScreen(Screen[None]):
             positions = plan.positions_mm or {mk.name: mk.xyz_mm for mk in plan.marks}
             points = {n: services.project_2d(xyz) for n, xyz in positions.items()}
         except BedsideError as exc:
-            self.post_message(MeasureInvalid(str(exc)))
+            self.post_message(MeasureInvalid(str(exc), generation))
             return
-        self.post_message(PlanReady(plan, points))
+        self.post_message(PlanReady(plan, points, generation))
 
     def _message(self, text: str, style: str) -> None:
         self.query_one("#measure-message", Static).update(Text(text, style=style))
 
     def on_measure_invalid(self, message: MeasureInvalid) -> None:
-        if self.is_mounted:
-            self._message(f"✖ {message.text}", "bold red")
+        if self.is_mounted and message.generation == self._generation:
+            self._clear_marks()
+            self._message(f"✖ {in_app_terms(message.text)}", "bold red")
 
     def on_plan_ready(self, message: PlanReady) -> None:
-        if not self.is_mounted:
+        if not self.is_mounted or message.generation != self._generation:
             return
         plan = message.plan
         self.plan = plan
@@ -176,22 +200,26 @@ class MeasureScreen(Screen[None]):
                     Text(mk.name, style="bold"),
                     mk.other_name,
                     mk.start,
-                    f"{mk.distance_cm:.1f}",
-                    f"{mk.step_cm:.1f}",
-                    f"{mk.percent:.0f}",
+                    # A reference site: "—" here and "not measured" in its how-to text.
+                    *(mk.distance_cells() if mk.measured else (Text("—", style="grey62"), "", "")),
                     mk.how,
                 )
         self.bedside.plan_changed(plan)
 
     def action_export(self) -> None:
         if self.plan is None:
-            self.notify("enter the measurements first", severity="warning")
+            self.notify(self._no_sheet_reason(), severity="warning")
             return
         self.bedside.export_plan(self.plan)
 
+    def _no_sheet_reason(self) -> str:
+        if all(self.values()[:3]):
+            return "no sheet: the measurements as typed are not accepted (see the message)"
+        return "no sheet: enter the three measurements first"
+
     def action_copy_sheet(self) -> None:
         if self.plan is None:
-            self.notify("enter the measurements first", severity="warning")
+            self.notify(self._no_sheet_reason(), severity="warning")
             return
         from bedside.ui.export import plan_as_text
 

@@ -26,28 +26,38 @@ class StreamPicker(ModalScreen[StreamIdentity | None]):
 
     BINDINGS = [Binding("escape", "cancel", "Cancel")]
 
-    def __init__(self, streams: list[StreamIdentity], why: str = "") -> None:
+    def __init__(self, streams: list[StreamIdentity], why: str = "",
+                 current: StreamIdentity | None = None) -> None:
         super().__init__()
         self.streams = list(streams)
         self.why = why
+        self.current = current
 
     def compose(self) -> ComposeResult:
         with Vertical(id="picker-box"):
             yield Static(
-                Text(self.why or f"{len(self.streams)} streams are visible — choose the one for this bed",
+                Text(self.why or f"{streams_visible(len(self.streams))} — choose the one for this bed",
                      style="bold"),
                 id="picker-title",
             )
             yield OptionList(
-                *[Option(describe(s), id=str(i)) for i, s in enumerate(self.streams)], id="picker-list"
+                *[Option(Text.assemble("● watching now: " if s == self.current else "  ", describe(s)), id=str(i))
+                  for i, s in enumerate(self.streams)], id="picker-list"
             )
             yield Static(Text("Enter: pin this stream   Esc: cancel", style="grey62"))
 
     def on_mount(self) -> None:
-        self.query_one(OptionList).focus()
+        options = self.query_one(OptionList)
+        options.focus()
+        if self.current in self.streams:
+            options.highlighted = self.streams.index(self.current)  # type: ignore[arg-type]
 
     def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
         self.dismiss(self.streams[int(event.option.id or 0)])
 
     def action_cancel(self) -> None:
         self.dismiss(None)
+
+
+def streams_visible(n: int) -> str:
+    return "1 stream is visible" if n == 1 else f"{n} streams are visible"

@@ -438,7 +438,8 @@ class ChannelTable(DataTable[object]):
             text = format_value(shown)
             flag = verdict if verdict in ("check", "bad") else None
             put(name, f"m:{key}", (text, flag), partial(check_cell, shown, verdict))
-        seconds = format_seconds(ttg)
+        # Time to good only beside a good electrode: on a red one it would read as a promise.
+        seconds = format_seconds(ttg if level is Level.GOOD else None)
         put(name, "ttg", seconds, lambda: seconds)
         if not live:
             reason = "no live data"

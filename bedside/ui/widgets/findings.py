@@ -60,9 +60,9 @@ def progress_text(progress: Progress | None, *, show_names: int = 8) -> Text:
         names = list(progress.not_good[:show_names])
         more = left - len(names)
         out.append(": " + " ".join(names) + (f" +{more}" if more > 0 else ""))
-    if progress.time_to_good_s:
-        last = max(progress.time_to_good_s.items(), key=lambda kv: kv[1])
-        out.append(f"   latest to good: {last[0]} after {format_seconds(last[1])}", style="grey62")
+    if progress.latest_good is not None:
+        name, seconds = progress.latest_good
+        out.append(f"   latest to good: {name} after {format_seconds(seconds)}", style="grey62")
     return out
 
 
