@@ -1,23 +1,47 @@
 """Bridging: two electrodes shorted by gel or sweat carry the same signal.
 
 Electrical distance (Tenke & Kayser 2001, Clin Neurophysiol 112:545–550):
-ED_ij = var_t(V_i − V_j) = C_ii + C_jj − 2·C_ij, computed for all neighbour pairs
-at once from the window's covariance matrix C (µV²). Together with the
-correlation r_ij = C_ij / √(C_ii·C_jj): both must indicate (ED ≤ ed_max_uv2 and
-r ≥ corr_min) and both channels must carry signal, so two flat leads are not
-called a bridge. The cutoff follows MNE-Python's compute_bridged_electrodes
-(lm_cutoff = 16 µV²); that function also band-passes to 0.5–30 Hz and votes over
-2-s epochs, which we replace by the live window.
+ED_ij = var_t(V_i − V_j) = C_ii + C_jj − 2·C_ij (µV²), from a covariance matrix C.
+
+:class:`BridgeDetector` adapts, incrementally, MNE-Python's
+``mne.preprocessing.compute_bridged_electrodes`` (mne/preprocessing/_csd.py, MNE 1.x;
+after Tenke & Kayser 2001, Greischar et al. 2004 and EEGLAB's eBridge):
+
+1. band-pass 0.5–30 Hz (MNE: a zero-phase FIR over the whole recording; here a causal
+   IIR with its state kept between calls, so only new samples are filtered: a
+   Butterworth high-pass and an elliptic low-pass whose edges sit where MNE's default
+   FIR has half amplitude, 0.25 Hz and 33.75 Hz — see :func:`design_band`);
+2. 2-s epochs (MNE: consecutive; here every ``hop_s``, so a new epoch completes each
+   second), the ED of every pair per epoch from that epoch's covariance;
+3. a Gaussian kernel density (``scipy.stats.gaussian_kde``, default bandwidth) of all
+   the epochs' EDs under ``lm_cutoff_uv2``, and its local minimum found as MNE finds
+   it (``scipy.optimize.minimize_scalar`` on the density, infinite outside
+   (0, lm_cutoff)). 16 µV² is a ceiling for that search, not a cutoff: the cutoff is the
+   local minimum of this recording's distribution; with fewer values under the
+   ceiling than ``epoch_threshold`` per epoch there is no bridge at all;
+4. a pair is bridged when its ED is under the local minimum in more than
+   ``epoch_threshold`` of the epochs. MNE votes over the whole recording; here over the
+   newest ``n_epochs`` (memory and time stay bounded, and a fixed bridge clears).
+
+The distribution pools every pair of channels that carry signal, as MNE's does (its
+shape decides the local minimum); bridges are reported for the neighbour pairs only.
+Guards of our own: both channels must be valid (finite, not flat: the engine's flat
+check) and carry at least ``min_rms_uv`` in band, so two dead leads are no bridge.
 """
 
 from __future__ import annotations
 
+import math
+from collections import deque
+
 import numpy as np
+from scipy.optimize import minimize_scalar
+from scipy.signal import butter, ellip, ellipord, sosfilt, sosfilt_zi
+from scipy.stats import gaussian_kde
 
 from bedside.checks.base import BAD, CheckResult, Context
-from bedside.checks.settings import QualitySettings
+from bedside.checks.settings import BridgingSettings
 from bedside.checks.types import Finding, Level
-from bedside.checks.window_stats import WindowStats
 
 NAME = "bridging"
 
@@ -34,65 +58,225 @@ def pair_metrics(cov_uv2: np.ndarray, pairs: np.ndarray) -> tuple[np.ndarray, np
     return ed, np.nan_to_num(r, nan=0.0)
 
 
-def window_pair_metrics(stats: WindowStats, pairs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(ED µV², correlation) for index pairs (P, 2) straight from the window's blocks."""
-    if len(pairs) == 0:
-        return np.zeros(0), np.zeros(0)
-    i, j = pairs[:, 0], pairs[:, 1]
-    var = stats.var_uv2
-    cii, cjj, cij = var[i], var[j], stats.pair_cov(i, j)
-    ed = np.maximum(cii + cjj - 2.0 * cij, 0.0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        r = cij / np.sqrt(cii * cjj)
-    return ed, np.nan_to_num(r, nan=0.0)
+def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarray:
+    """Second-order sections of the 0.5–30 Hz analysis band at ``rate_hz``.
+
+    MNE-Python's default band-pass (mne.filter.create_filter, 'auto' transition
+    bandwidths: l_trans = min(max(0.25·l, 2), l), h_trans = min(max(0.25·h, 2), nyq − h))
+    has half amplitude at l − l_trans/2 and h + h_trans/2 (0.25 and 33.75 Hz for
+    0.5–30 Hz). Here: a 3rd-order Butterworth high-pass with half amplitude at that
+    low point (gain 0.28 at 0.2 Hz, 0.98 at 0.5 Hz; MNE's FIR: 0.32 and 1.00), and an
+    elliptic low-pass flat (0.1 dB) to h with 60 dB from h + h_trans (MNE's FIR
+    stop band). Edges in Hz, so the response is the same at any rate.
+    """
+    nyq = rate_hz / 2.0
+    l_trans = min(max(0.25 * l_freq_hz, 2.0), l_freq_hz)
+    half_lo = l_freq_hz - l_trans / 2.0
+    order_hp = 3
+    f_hp = half_lo * 3.0 ** (1.0 / (2 * order_hp))  # |H| = 1/√(1+(fc/f)^2n) = 1/2 at half_lo
+    sections = [butter(order_hp, f_hp, "highpass", fs=rate_hz, output="sos")]
+    h = min(h_freq_hz, 0.9 * nyq)
+    h_trans = min(max(0.25 * h, 2.0), nyq - h)
+    stop = min(h + h_trans, 0.99 * nyq)
+    if stop > h * 1.01:
+        order, wn = ellipord(h, stop, 0.1, 60.0, fs=rate_hz)
+        sections.append(ellip(order, 0.1, 60.0, wn, "lowpass", fs=rate_hz, output="sos"))
+    else:  # the rate leaves no room for a stop band: a plain Butterworth to h
+        sections.append(butter(4, h, "lowpass", fs=rate_hz, output="sos"))
+    return np.vstack(sections)
 
 
-def bridged_pairs(stats: WindowStats, ctx: Context, settings: QualitySettings) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(pairs (P, 2), ED (P,), r (P,), bridged (P,) bool) over the neighbour pairs."""
-    bs = settings.bridging
-    pairs = ctx.neighbours
-    ed, r = window_pair_metrics(stats, pairs)
-    if len(pairs) == 0:
-        return pairs, ed, r, np.zeros(0, dtype=bool)
-    ok = ctx.valid & (stats.rms_uv >= bs.min_rms_uv)
-    both = ok[pairs[:, 0]] & ok[pairs[:, 1]]
-    bridged = both & (ed <= bs.ed_max_uv2) & (r >= bs.corr_min)
-    return pairs, ed, r, bridged
+def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_threshold: float) -> float | None:
+    """The ED cutoff of this distribution, found as MNE-Python's compute_bridged_electrodes
+    finds it (None: too few values under the ceiling, so no bridge).
+
+    ed_uv2: every ED value of the epochs (any shape); the kernel density is taken over
+    those under ``cutoff_uv2`` and minimised with minimize_scalar (Brent, its default
+    bracket), the density infinite outside (0, cutoff) — MNE's own steps."""
+    flat = ed_uv2[np.isfinite(ed_uv2)].ravel()
+    below = flat[flat < cutoff_uv2]
+    if n_epochs == 0 or below.size / n_epochs < epoch_threshold:
+        return None
+    if below.size < 2 or float(np.ptp(below)) <= 1e-9 * max(1.0, float(np.abs(below).max())):
+        # One repeated value (a perfect short alone under the ceiling): the density is a
+        # single spike and MNE's gaussian_kde cannot be formed; everything under the
+        # ceiling is that spike, so the ceiling separates it.
+        return float(cutoff_uv2)
+    kde = gaussian_kde(below)
+
+    def density(v: float) -> float:
+        return float(kde(v)[0]) if 0.0 < v < cutoff_uv2 else math.inf
+
+    with np.errstate(invalid="ignore"):
+        return float(minimize_scalar(density).x)
 
 
-def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
-    n = len(ctx.names)
-    pairs, ed, r, bridged = bridged_pairs(stats, ctx, settings)
-    min_ed = np.full(n, np.nan)
-    max_r = np.full(n, np.nan)
-    if len(pairs):
-        for col in (0, 1):
-            idx = pairs[:, col]
-            np.fmin.at(min_ed, idx, ed)
-            np.fmax.at(max_r, idx, r)
-    level = np.zeros(n, dtype=np.int8)
-    reasons: dict[int, str] = {}
-    findings = []
-    partners: dict[int, list[str]] = {}
-    for k in np.flatnonzero(bridged):
-        a, b = int(pairs[k, 0]), int(pairs[k, 1])
-        na, nb = ctx.names[a], ctx.names[b]
-        level[a] = level[b] = BAD
-        partners.setdefault(a, []).append(nb)
-        partners.setdefault(b, []).append(na)
-        findings.append(
-            Finding(
-                "bridge",
-                (na, nb),
-                Level.BAD,
-                f"{na}–{nb} look bridged (electrical distance {ed[k]:.1f} µV², correlation {r[k]:.3f})"
-                " — clean away the gel between them and dry the scalp, then re-apply",
+class BridgeDetector:
+    """Incremental bridging after MNE-Python's procedure (see module docstring).
+
+    n_channels, rate_hz: of the samples given to :meth:`add` (any rate the band fits);
+    pairs: neighbour index pairs (P, 2) to report; settings: ``bridging:`` of
+    configs/quality.yaml. Memory: two hop sums (C × C) and the newest ``n_epochs``
+    epochs' pair EDs; work: the filter and one C × C product per sample block, the
+    density only when an epoch completes.
+    """
+
+    def __init__(self, n_channels: int, rate_hz: float, pairs: np.ndarray, settings: BridgingSettings) -> None:
+        self.n_channels = c = int(n_channels)
+        self.rate_hz = float(rate_hz)
+        self.settings = s = settings
+        p = np.asarray(pairs, dtype=np.int64).reshape(-1, 2)
+        self.pairs = np.sort(p, axis=1)
+        self._sos = design_band(self.rate_hz, s.l_freq_hz, s.h_freq_hz)
+        self._hop = max(1, round(s.hop_s * self.rate_hz))
+        self._hops_per_epoch = max(1, round(s.epoch_s / s.hop_s))
+        self._iu = np.triu_indices(c, 1)
+        # Position of each neighbour pair in the upper-triangle order of all pairs.
+        i, j = self.pairs[:, 0], self.pairs[:, 1]
+        self._pair_k = (i * c - i * (i + 1) // 2 + (j - i - 1)).astype(np.int64)
+        self.reset()
+
+    def reset(self) -> None:
+        """Forget everything (the filter state too): after a gap or a reconnect."""
+        c = self.n_channels
+        self._zi: np.ndarray | None = None
+        self._acc = np.zeros((c, c))
+        self._acc_sum = np.zeros(c)
+        self._acc_n = 0
+        self._hops: deque[tuple[np.ndarray, np.ndarray, int]] = deque(maxlen=self._hops_per_epoch)
+        n = self.settings.n_epochs
+        self._ed = deque(maxlen=n)        # (all pairs,) ED µV² per epoch
+        self._var = deque(maxlen=n)       # (C,) in-band variance per epoch
+        self._cov_pairs = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
+        self.epochs_done = 0
+        self._memo: tuple[tuple[int, bytes], CheckResult] | None = None
+
+    # ------------------------------------------------------------------ input
+    def add(self, x: np.ndarray) -> None:
+        """Take new samples (n, C) µV (finite: the engine zero-fills what is not)."""
+        x = np.asarray(x, dtype=np.float64)
+        if x.shape[0] == 0:
+            return
+        if self._zi is None:  # start in the steady state of the first sample (no DC step)
+            self._zi = sosfilt_zi(self._sos)[:, :, None] * x[0][None, None, :]
+        y, self._zi = sosfilt(self._sos, x, axis=0, zi=self._zi)
+        pos = 0
+        while pos < y.shape[0]:
+            take = min(self._hop - self._acc_n, y.shape[0] - pos)
+            seg = y[pos : pos + take]
+            self._acc += seg.T @ seg
+            self._acc_sum += seg.sum(axis=0)
+            self._acc_n += take
+            pos += take
+            if self._acc_n == self._hop:
+                self._hops.append((self._acc, self._acc_sum, self._acc_n))
+                c = self.n_channels
+                self._acc, self._acc_sum, self._acc_n = np.zeros((c, c)), np.zeros(c), 0
+                if len(self._hops) == self._hops_per_epoch:
+                    self._close_epoch()
+
+    def _close_epoch(self) -> None:
+        n = sum(h[2] for h in self._hops)
+        s2 = sum(h[0] for h in self._hops)
+        s1 = sum(h[1] for h in self._hops)
+        mean = s1 / n
+        cov = s2 / n - np.outer(mean, mean)  # np.var's ddof=0, as MNE uses
+        var = np.diag(cov).copy()
+        i, j = self._iu
+        self._ed.append(np.maximum(var[i] + var[j] - 2.0 * cov[i, j], 0.0))
+        self._var.append(var)
+        self._cov_pairs.append(cov[self.pairs[:, 0], self.pairs[:, 1]])
+        self.epochs_done += 1
+
+    # ----------------------------------------------------------------- output
+    @property
+    def n_epochs(self) -> int:
+        return len(self._ed)
+
+    def pair_ed(self) -> np.ndarray:
+        """(n_epochs, P) ED µV² of the neighbour pairs in the newest epochs."""
+        if not self._ed:
+            return np.zeros((0, len(self.pairs)))
+        return np.vstack(self._ed)[:, self._pair_k]
+
+    def decide(self, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, float | None, np.ndarray]:
+        """(ED (n_epochs, P), correlation (P,), bridged (P,), local minimum, carrying (C,)).
+
+        valid: channels fit for comparisons (C,) bool."""
+        s = self.settings
+        npairs = len(self.pairs)
+        n_ep = self.n_epochs
+        if n_ep == 0:
+            z = np.zeros(npairs)
+            return np.zeros((0, npairs)), z, z.astype(bool), None, np.zeros(self.n_channels, bool)
+        var = np.vstack(self._var)
+        carrying = np.asarray(valid, dtype=bool) & (np.sqrt(np.median(var, axis=0)) >= s.min_rms_uv)
+        ed_all = np.vstack(self._ed)
+        i, j = self._iu
+        use = carrying[i] & carrying[j]
+        lm = local_minimum(ed_all[:, use], n_ep, s.lm_cutoff_uv2, s.epoch_threshold)
+        ed = ed_all[:, self._pair_k]
+        mean_var = var.mean(axis=0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            r = np.vstack(self._cov_pairs).mean(axis=0) / np.sqrt(
+                mean_var[self.pairs[:, 0]] * mean_var[self.pairs[:, 1]]
             )
-        )
-    for i, others in partners.items():
-        reasons[i] = (
-            f"bridged with {', '.join(others)} (electrical distance {min_ed[i]:.1f} µV²)"
-            " — clean away the gel between them and dry the scalp"
-        )
-    metrics = {"bridge_ed_uv2": min_ed, "bridge_corr": max_r}
-    return CheckResult(NAME, metrics, level, reasons, tuple(findings))
+        r = np.nan_to_num(r, nan=0.0)
+        both = carrying[self.pairs[:, 0]] & carrying[self.pairs[:, 1]] if npairs else np.zeros(0, bool)
+        if lm is None:
+            bridged = np.zeros(npairs, dtype=bool)
+        else:
+            bridged = both & ((ed < lm).sum(axis=0) / n_ep > s.epoch_threshold)
+        return ed, r, bridged, lm, carrying
+
+    def evaluate(self, ctx: Context) -> CheckResult:
+        """Levels, reasons and findings for the newest epochs (recomputed only when an
+        epoch has completed or the valid channels changed)."""
+        key = (self.epochs_done, np.asarray(ctx.valid, dtype=bool).tobytes())
+        if self._memo is not None and self._memo[0] == key:
+            return self._memo[1]
+        res = self._evaluate(ctx)
+        self._memo = (key, res)
+        return res
+
+    def _evaluate(self, ctx: Context) -> CheckResult:
+        n = len(ctx.names)
+        ed, r, bridged, lm, _carrying = self.decide(ctx.valid)
+        pairs = self.pairs
+        n_ep = ed.shape[0]
+        med = np.median(ed, axis=0) if n_ep else np.full(len(pairs), np.nan)
+        min_ed = np.full(n, np.nan)
+        max_r = np.full(n, np.nan)
+        if len(pairs) and n_ep:
+            for col in (0, 1):
+                idx = pairs[:, col]
+                np.fmin.at(min_ed, idx, med)
+                np.fmax.at(max_r, idx, r)
+        level = np.zeros(n, dtype=np.int8)
+        reasons: dict[int, str] = {}
+        findings = []
+        partners: dict[int, list[str]] = {}
+        for k in np.flatnonzero(bridged):
+            a, b = int(pairs[k, 0]), int(pairs[k, 1])
+            na, nb = ctx.names[a], ctx.names[b]
+            level[a] = level[b] = BAD
+            partners.setdefault(a, []).append(nb)
+            partners.setdefault(b, []).append(na)
+            votes = int((ed[:, k] < (lm or 0.0)).sum())
+            findings.append(
+                Finding(
+                    "bridge",
+                    (na, nb),
+                    Level.BAD,
+                    f"{na}–{nb} look bridged (electrical distance {med[k]:.2f} µV², under this"
+                    f" recording's cutoff {lm:.2f} µV² in {votes} of {n_ep} epochs; correlation {r[k]:.3f})"
+                    " — clean away the gel between them and dry the scalp, then re-apply",
+                )
+            )
+        for i, others in partners.items():
+            reasons[i] = (
+                f"bridged with {', '.join(others)} (electrical distance {min_ed[i]:.2f} µV²)"
+                " — clean away the gel between them and dry the scalp"
+            )
+        metrics = {"bridge_ed_uv2": min_ed, "bridge_corr": max_r}
+        return CheckResult(NAME, metrics, level, reasons, tuple(findings))

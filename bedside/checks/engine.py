@@ -140,6 +140,7 @@ class Engine:
         self._samples = 0
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
+        self._bridge = bridging.BridgeDetector(c, self.rate_hz, self.neighbours, settings.bridging)
         self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates,
                                settings.hold.relapse_window_s, settings.hold.relapse_hold_s)
         self._fhold = FindingHold(settings.hold.hold_s)
@@ -204,6 +205,7 @@ class Engine:
     def _add_block(self, x: np.ndarray) -> None:
         clean = self._blocks.add_block(x, self._samples)
         self._spec.add(clean)
+        self._bridge.add(clean)
         self._samples += x.shape[0]
 
     def reset(self) -> None:
@@ -216,6 +218,7 @@ class Engine:
             self.settings.spectrum_max_hz,
         )
         self._n_pending = 0
+        self._bridge.reset()
         self._hold.reset()
         self._fhold.reset()
         self._spec_gen += 1
@@ -352,7 +355,7 @@ class Engine:
             "flat": flat_res,
             "line_noise": line_res,
             "drift": drift.evaluate(stats, ctx, s),
-            "bridging": bridging.evaluate(stats, ctx, s),
+            "bridging": self._bridge.evaluate(ctx),
             "pops": artifacts.pops(stats, ctx, s),
             "clipping": artifacts.clipping(stats, ctx, s),
             "muscle": muscle_res,

@@ -87,9 +87,21 @@ class DriftSettings:
 
 @dataclass(frozen=True)
 class BridgingSettings:
-    ed_max_uv2: float = field(default=16.0, metadata=_rng(0.0, 1e6))
-    corr_min: float = field(default=0.98, metadata=_rng(0.0, 1.0))
+    l_freq_hz: float = field(default=0.5, metadata=_rng(0.01, 10.0))
+    h_freq_hz: float = field(default=30.0, metadata=_rng(1.0, 1000.0))
+    epoch_s: float = field(default=2.0, metadata=_rng(0.25, 30.0))
+    hop_s: float = field(default=1.0, metadata=_rng(0.1, 30.0))
+    n_epochs: int = field(default=4, metadata=_rng(1, 64))
+    epoch_threshold: float = field(default=0.5, metadata=_rng(0.0, 1.0))
+    lm_cutoff_uv2: float = field(default=16.0, metadata=_rng(0.01, 1e6))
     min_rms_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
+
+    def __post_init__(self) -> None:
+        _order("bridging", "l_freq_hz", self.l_freq_hz, "h_freq_hz", self.h_freq_hz)
+        _order("bridging", "hop_s", self.hop_s, "epoch_s", self.epoch_s)
+        ratio = self.epoch_s / self.hop_s
+        if abs(ratio - round(ratio)) > 1e-6:
+            raise ValueError(f"'bridging.epoch_s' must be a whole number of 'bridging.hop_s' ({self.hop_s} s)")
 
 
 @dataclass(frozen=True)
