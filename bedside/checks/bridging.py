@@ -66,8 +66,8 @@ def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarra
     has half amplitude at l − l_trans/2 and h + h_trans/2 (0.25 and 33.75 Hz for
     0.5–30 Hz). Here: a 3rd-order Butterworth high-pass with half amplitude at that
     low point (gain 0.28 at 0.2 Hz, 0.98 at 0.5 Hz; MNE's FIR: 0.32 and 1.00), and an
-    elliptic low-pass flat (0.1 dB) to h with 60 dB from h + h_trans (MNE's FIR
-    stop band). Edges in Hz, so the response is the same at any rate.
+    elliptic low-pass flat (0.1 dB) to h + h_trans/4 with 60 dB from h + h_trans
+    (MNE's FIR stop band). Edges in Hz, so the response is the same at any rate.
     """
     nyq = rate_hz / 2.0
     l_trans = min(max(0.25 * l_freq_hz, 2.0), l_freq_hz)
@@ -78,8 +78,9 @@ def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarra
     h = min(h_freq_hz, 0.9 * nyq)
     h_trans = min(max(0.25 * h, 2.0), nyq - h)
     stop = min(h + h_trans, 0.99 * nyq)
+    edge = h + 0.25 * (stop - h)
     if stop > h * 1.01:
-        order, wn = ellipord(h, stop, 0.1, 60.0, fs=rate_hz)
+        order, wn = ellipord(edge, stop, 0.1, 60.0, fs=rate_hz)
         sections.append(ellip(order, 0.1, 60.0, wn, "lowpass", fs=rate_hz, output="sos"))
     else:  # the rate leaves no room for a stop band: a plain Butterworth to h
         sections.append(butter(4, h, "lowpass", fs=rate_hz, output="sos"))
@@ -191,13 +192,14 @@ class BridgeDetector:
     # ----------------------------------------------------------------- output
     @property
     def n_epochs(self) -> int:
-        return len(self._ed)
+        """Epochs in the vote (the newest, at most settings.n_epochs)."""
+        return len(self._var)
 
     def pair_ed(self) -> np.ndarray:
-        """(n_epochs, P) ED µV² of the neighbour pairs in the newest epochs."""
-        if not self._ed:
+        """(n_epochs, P) ED µV² of the neighbour pairs in the voting epochs."""
+        if not self._var:
             return np.zeros((0, len(self.pairs)))
-        return np.vstack(self._ed)[:, self._pair_k]
+        return np.vstack(list(self._ed)[-self.n_epochs :])[:, self._pair_k]
 
     def decide(self, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, float | None, np.ndarray]:
         """(ED (n_epochs, P), correlation (P,), bridged (P,), local minimum, carrying (C,)).
@@ -214,8 +216,8 @@ class BridgeDetector:
         ed_all = np.vstack(self._ed)
         i, j = self._iu
         use = carrying[i] & carrying[j]
-        lm = local_minimum(ed_all[:, use], n_ep, s.lm_cutoff_uv2, s.epoch_threshold)
-        ed = ed_all[:, self._pair_k]
+        lm = local_minimum(ed_all[:, use], ed_all.shape[0], s.lm_cutoff_uv2, s.epoch_threshold)
+        ed = ed_all[-n_ep:, self._pair_k]
         mean_var = var.mean(axis=0)
         with np.errstate(invalid="ignore", divide="ignore"):
             r = np.vstack(self._cov_pairs).mean(axis=0) / np.sqrt(

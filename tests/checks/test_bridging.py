@@ -1,9 +1,11 @@
 """Bridging against MNE-Python and against the definition of electrical distance.
 
 Outside references: MNE-Python's mne.preprocessing.compute_bridged_electrodes (a
-test-only dependency) on the same synthetic bridged recording must find the same
-pairs; the electrical distance of Tenke & Kayser (2001) is var(V_i − V_j), checked
-with numpy.var on the raw window.
+test-only dependency) on the same recording must find the same pairs; the electrical
+distance of Tenke & Kayser (2001) is var(V_i − V_j), checked with numpy.var on the
+band-passed epoch (scipy.signal.sosfilt over the whole signal at once); MNE-Python's
+default band-pass (mne.filter.create_filter) for the analysis band's response.
+Real recordings: tests/checks/test_bridging_real.py.
 """
 
 from __future__ import annotations
@@ -11,8 +13,10 @@ from __future__ import annotations
 import mne
 import numpy as np
 from mne.preprocessing import compute_bridged_electrodes
+from scipy.signal import sosfilt, sosfilt_zi, sosfreqz
 
-from bedside.checks.bridging import pair_metrics, window_pair_metrics
+from bedside.checks.bridging import BridgeDetector, design_band, local_minimum, pair_metrics
+from bedside.checks.settings import load_quality
 
 from .helpers import TEN_TWENTY, eeg_like, feed, make_engine
 
@@ -37,6 +41,7 @@ def _pairs_from_frame(frame) -> set[tuple[str, str]]:  # type: ignore[no-untyped
 
 
 def test_same_bridged_pairs_as_mne() -> None:
+    """MNE-Python compute_bridged_electrodes on the same 60 s finds the same pairs."""
     x = _bridged_recording(60.0)
     info = mne.create_info(list(TEN_TWENTY), RATE, ch_types="eeg")
     raw = mne.io.RawArray(x.T * 1e-6, info, verbose="error")  # MNE holds volts, (C, n)
@@ -54,32 +59,75 @@ def test_same_bridged_pairs_as_mne() -> None:
 
 
 def test_placement_neighbours_find_the_same_pairs() -> None:
-    """With the placement's neighbour graph (the default) the adjacent bridges are found too."""
+    """With the placement's neighbour graph (the default) the adjacent bridges are found too
+    (the pairs MNE-Python finds in test_same_bridged_pairs_as_mne)."""
     x = _bridged_recording(20.0, seed=9)
     frames = feed(make_engine(), x)
     assert _pairs_from_frame(frames[-1]) == {tuple(sorted(p)) for p in BRIDGES}
 
 
-def test_electrical_distance_is_variance_of_difference() -> None:
-    """ED_ij from the streaming covariance == numpy.var(x_i − x_j, ddof=1) over the window
-    (Tenke & Kayser 2001 definition); correlation == numpy.corrcoef."""
-    x = _bridged_recording(12.0, seed=3)
+def test_pair_metrics_is_variance_of_difference() -> None:
+    """ED_ij = numpy.var(x_i − x_j) (Tenke & Kayser 2001); r = numpy.corrcoef."""
+    x = _bridged_recording(4.0, seed=3)
     x[:, 5] += 400.0  # a DC offset must not matter
-    eng = make_engine()
-    feed(eng, x, chunk=50)
-    stats = eng.window_stats()
-    assert stats is not None
-    window = x[-stats.n_samples :]
     pairs = np.array([(3, 4), (0, 18), (5, 6), (15, 18)])
-    ed, r = pair_metrics(stats.cov_uv2, pairs)
-    ref_ed = [np.var(window[:, i] - window[:, j], ddof=1) for i, j in pairs]
-    ref_r = [np.corrcoef(window[:, i], window[:, j])[0, 1] for i, j in pairs]
-    np.testing.assert_allclose(ed, ref_ed, rtol=1e-8)
-    np.testing.assert_allclose(r, ref_r, rtol=1e-8)
-    # The engine's own path (pair entries only, no full matrix) gives the same numbers.
-    ed2, r2 = window_pair_metrics(stats, pairs)
-    np.testing.assert_allclose(ed2, ref_ed, rtol=1e-8)
-    np.testing.assert_allclose(r2, ref_r, rtol=1e-8)
+    ed, r = pair_metrics(np.cov(x.T), pairs)
+    np.testing.assert_allclose(ed, [np.var(x[:, i] - x[:, j], ddof=1) for i, j in pairs], rtol=1e-8)
+    np.testing.assert_allclose(r, [np.corrcoef(x[:, i], x[:, j])[0, 1] for i, j in pairs], rtol=1e-8)
+
+
+def test_epoch_distance_is_variance_of_the_filtered_difference() -> None:
+    """Fed in uneven chunks, each epoch's ED equals numpy.var (ddof=0, as MNE-Python's
+    compute_bridged_electrodes uses) of the difference of the band-passed signals, the
+    band-pass run by scipy.signal.sosfilt over the whole signal at once."""
+    s = load_quality().bridging
+    x = _bridged_recording(9.0, seed=3)
+    x[:, 5] += 400.0
+    pairs = np.array([(3, 4), (0, 18), (5, 6), (15, 18)])
+    det = BridgeDetector(x.shape[1], RATE, pairs, s)
+    pos, sizes = 0, [7, 300, 1, 64, 129]
+    k = 0
+    while pos < len(x):
+        det.add(x[pos : pos + sizes[k % len(sizes)]])
+        pos += sizes[k % len(sizes)]
+        k += 1
+    sos = design_band(RATE, s.l_freq_hz, s.h_freq_hz)
+    y = sosfilt(sos, x, axis=0, zi=sosfilt_zi(sos)[:, :, None] * x[0][None, None, :])[0]
+    hop, epoch = int(s.hop_s * RATE), int(s.epoch_s * RATE)
+    ends = [e for e in range(epoch, len(x) + 1, hop)][-s.n_epochs :]
+    ref = np.array([[np.var(y[e - epoch : e, i] - y[e - epoch : e, j]) for i, j in pairs] for e in ends])
+    assert det.n_epochs == s.n_epochs == len(ends)
+    np.testing.assert_allclose(det.pair_ed(), ref, rtol=1e-7)
+
+
+def test_band_follows_mnes_default_filter() -> None:
+    """The analysis band's gain is within 0.1 of MNE-Python's default 0.5–30 Hz FIR
+    (mne.filter.create_filter) from 0.2 to 31 Hz, and both stop 50/60 Hz mains
+    (< 0.01), at several rates: the response is set in Hz, not in samples."""
+    freqs = np.array([0.2, 0.25, 0.3, 0.5, 1.0, 10.0, 25.0, 30.0, 31.0])
+    for rate in (160.0, 250.0, 600.0, 2048.0):
+        h = mne.filter.create_filter(None, rate, 0.5, 30.0, verbose="error")
+        ref = np.abs(np.fft.rfft(h, 1 << 18))[np.rint(freqs / rate * (1 << 18)).astype(int)]
+        _w, ours = sosfreqz(design_band(rate, 0.5, 30.0), worN=freqs, fs=rate)
+        np.testing.assert_allclose(np.abs(ours), ref, atol=0.1)
+        _w, mains = sosfreqz(design_band(rate, 0.5, 30.0), worN=[50.0, 60.0], fs=rate)
+        assert np.abs(mains).max() < 0.01
+
+
+def test_local_minimum_is_mnes() -> None:
+    """On MNE-Python's own ED matrix of a bridged recording, local_minimum puts the cutoff
+    where compute_bridged_electrodes does: the pairs under it are MNE-Python's pairs."""
+    x = _bridged_recording(30.0, seed=5)
+    raw = mne.io.RawArray(x.T * 1e-6, mne.create_info(list(TEN_TWENTY), RATE, "eeg"), verbose="error")
+    idx, ed = compute_bridged_electrodes(raw, verbose="error")
+    lm = local_minimum(ed, ed.shape[0], 16.0, 0.5)
+    assert lm is not None
+    iu = np.triu_indices(len(TEN_TWENTY), 1)
+    ours = {(int(i), int(j)) for i, j in zip(*iu, strict=True)
+            if (ed[:, i, j] < lm).sum() / ed.shape[0] > 0.5}
+    assert ours == {(int(i), int(j)) for i, j in idx} and len(ours) == 2
+    # Too few values under the ceiling: no cutoff at all (MNE-Python returns no pair).
+    assert local_minimum(np.full((3, 10), 40.0), 3, 16.0, 0.5) is None
 
 
 def test_two_flat_leads_are_not_a_bridge() -> None:
@@ -90,3 +138,18 @@ def test_two_flat_leads_are_not_a_bridge() -> None:
     frame = feed(make_engine(), x)[-1]
     assert not _pairs_from_frame(frame)
     assert {c.name for c in frame.channels if c.checks.get("flat") == "bad"} == {"F3", "Fz"}
+
+
+def test_two_noise_only_leads_are_not_a_bridge() -> None:
+    """Two leads carrying the same sub-µV signal (below min_rms_uv in band) are not
+    called bridged, even though their ED is tiny: the guard, ours."""
+    s = load_quality().bridging
+    rng = np.random.default_rng(2)
+    x = eeg_like(int(8 * RATE), 4, RATE, seed=6)
+    common = rng.normal(0, 0.3, len(x))
+    x[:, 0] = common
+    x[:, 1] = common
+    det = BridgeDetector(4, RATE, np.array([(0, 1), (1, 2), (2, 3)]), s)
+    det.add(x)
+    _ed, _r, bridged, _lm, carrying = det.decide(np.ones(4, dtype=bool))
+    assert not bridged.any() and carrying.tolist() == [False, False, True, True]
