@@ -146,9 +146,9 @@ class BridgeDetector:
         self._acc_n = 0
         self._hops: deque[tuple[np.ndarray, np.ndarray, int]] = deque(maxlen=self._hops_per_epoch)
         n = self.settings.n_epochs
-        self._ed = deque(maxlen=n)        # (all pairs,) ED µV² per epoch
-        self._var = deque(maxlen=n)       # (C,) in-band variance per epoch
-        self._cov_pairs = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
+        self._ed: deque[np.ndarray] = deque(maxlen=n)      # (all pairs,) ED µV² per epoch
+        self._var: deque[np.ndarray] = deque(maxlen=n)      # (C,) in-band variance per epoch
+        self._cov_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
         self.epochs_done = 0
         self._memo: tuple[tuple[int, bytes], CheckResult] | None = None
 

@@ -63,8 +63,11 @@ def test_verdicts_equal_a_fresh_engine_on_the_window(streamed) -> None:  # type:
     fresh = make_engine()
     fresh.push(x[len(x) - n :], np.arange(n) / RATE)
     ref = fresh.evaluate()
+    # Bridging is not a function of the 4-s window: it band-passes with a filter state
+    # and votes over its own epochs (bridging.BridgeDetector); its incremental sums are
+    # checked against scipy + numpy.var in test_bridging.py (fed in uneven chunks).
     keys = ("rms_uv", "ptp_uv", "line_noise_db", "mains_uv", "drift_uv_per_s", "slow_uv",
-            "bridge_ed_uv2", "bridge_corr", "muscle_ratio", "clip_fraction")
+            "muscle_ratio", "clip_fraction")
     for name in TEN_TWENTY:
         a, b = by_name(frame, name), by_name(ref, name)
         assert a.checks == b.checks, name
