@@ -7,26 +7,33 @@ ED_ij = var_t(V_i − V_j) = C_ii + C_jj − 2·C_ij (µV²), from a covariance 
 ``mne.preprocessing.compute_bridged_electrodes`` (mne/preprocessing/_csd.py, MNE 1.x;
 after Tenke & Kayser 2001, Greischar et al. 2004 and EEGLAB's eBridge):
 
-1. band-pass 0.5–30 Hz (MNE: a zero-phase FIR over the whole recording; here a causal
-   IIR with its state kept between calls, so only new samples are filtered: a
-   Butterworth high-pass and an elliptic low-pass whose edges sit where MNE's default
-   FIR has half amplitude, 0.25 Hz and 33.75 Hz — see :func:`design_band`);
-2. 2-s epochs (MNE: consecutive; here every ``hop_s``, so a new epoch completes each
-   second), the ED of every pair per epoch from that epoch's covariance;
-3. a Gaussian kernel density (``scipy.stats.gaussian_kde``, default bandwidth) of all
-   the epochs' EDs under ``lm_cutoff_uv2``, and its local minimum found as MNE finds
+1. band-pass 0.5–30 Hz. MNE: a zero-phase FIR over the whole recording. Here: a causal
+   IIR whose state is kept between calls, so only new samples are filtered — a
+   first-order high-pass and an elliptic low-pass, with half amplitude where MNE's
+   default FIR has it (0.25 and 33.75 Hz; :func:`design_band`). The high-pass is first
+   order (ours) so that its memory is short: after a lead changes, the old signal's
+   tail has left the ED within about 2 s (a steeper high-pass kept it for 5–6 s).
+2. 2-s epochs. MNE: consecutive; here one every ``hop_s`` (1 s), each epoch's ED for
+   every pair from that epoch's covariance (np.var, ddof 0, as MNE).
+3. A Gaussian kernel density (``scipy.stats.gaussian_kde``, default bandwidth) of the
+   EDs under ``lm_cutoff_uv2`` of every pair of channels carrying signal, over the
+   newest ``density_epochs`` epochs, and its local minimum found exactly as MNE finds
    it (``scipy.optimize.minimize_scalar`` on the density, infinite outside
-   (0, lm_cutoff)). 16 µV² is a ceiling for that search, not a cutoff: the cutoff is the
-   local minimum of this recording's distribution; with fewer values under the
-   ceiling than ``epoch_threshold`` per epoch there is no bridge at all;
-4. a pair is bridged when its ED is under the local minimum in more than
-   ``epoch_threshold`` of the epochs. MNE votes over the whole recording; here over the
-   newest ``n_epochs`` (memory and time stay bounded, and a fixed bridge clears).
+   (0, lm_cutoff)). 16 µV² is a ceiling for that search, not a cutoff: the cutoff is
+   the local minimum of this recording's distribution. With fewer values under the
+   ceiling than ``epoch_threshold`` per epoch there is no bridge at all.
+4. A pair is bridged when its ED is under the local minimum in more than
+   ``epoch_threshold`` of the newest ``n_epochs`` epochs. MNE takes the density and
+   the vote over the whole recording; here the density over 12 s (MNE's minimum
+   search is unstable on a handful of values) and the vote over the newest 3 epochs
+   (4 s of data: the latency target of 5 s).
 
-The distribution pools every pair of channels that carry signal, as MNE's does (its
-shape decides the local minimum); bridges are reported for the neighbour pairs only.
-Guards of our own: both channels must be valid (finite, not flat: the engine's flat
-check) and carry at least ``min_rms_uv`` in band, so two dead leads are no bridge.
+Bridges are reported for the neighbour pairs. Guards of our own: both channels must be
+valid (finite, not flat: the engine's flat check) and carry at least ``min_rms_uv`` in
+band, so two dead leads are no bridge.
+
+:func:`pair_metrics` (ED and correlation from any covariance matrix) is kept for
+callers that have one.
 """
 
 from __future__ import annotations
@@ -64,15 +71,16 @@ def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarra
     MNE-Python's default band-pass (mne.filter.create_filter, 'auto' transition
     bandwidths: l_trans = min(max(0.25·l, 2), l), h_trans = min(max(0.25·h, 2), nyq − h))
     has half amplitude at l − l_trans/2 and h + h_trans/2 (0.25 and 33.75 Hz for
-    0.5–30 Hz). Here: a 3rd-order Butterworth high-pass with half amplitude at that
-    low point (gain 0.28 at 0.2 Hz, 0.98 at 0.5 Hz; MNE's FIR: 0.32 and 1.00), and an
+    0.5–30 Hz). Here: a first-order Butterworth high-pass with half amplitude at that
+    low point (gain 0.42 at 0.2 Hz, 0.76 at 0.5 Hz, 0.92 at 1 Hz; MNE's FIR: 0.32, 1.00,
+    1.00 — first order for its short memory, see the module docstring), and an
     elliptic low-pass flat (0.1 dB) to h + h_trans/4 with 60 dB from h + h_trans
     (MNE's FIR stop band). Edges in Hz, so the response is the same at any rate.
     """
     nyq = rate_hz / 2.0
     l_trans = min(max(0.25 * l_freq_hz, 2.0), l_freq_hz)
     half_lo = l_freq_hz - l_trans / 2.0
-    order_hp = 3
+    order_hp = 1  # a short memory: a lead that changes is judged on its new signal within ~1 s
     f_hp = half_lo * 3.0 ** (1.0 / (2 * order_hp))  # |H| = 1/√(1+(fc/f)^2n) = 1/2 at half_lo
     sections = [butter(order_hp, f_hp, "highpass", fs=rate_hz, output="sos")]
     h = min(h_freq_hz, 0.9 * nyq)
@@ -146,7 +154,7 @@ class BridgeDetector:
         self._acc_n = 0
         self._hops: deque[tuple[np.ndarray, np.ndarray, int]] = deque(maxlen=self._hops_per_epoch)
         n = self.settings.n_epochs
-        self._ed: deque[np.ndarray] = deque(maxlen=n)      # (all pairs,) ED µV² per epoch
+        self._ed: deque[np.ndarray] = deque(maxlen=max(n, self.settings.density_epochs))  # (all pairs,) ED µV² per epoch
         self._var: deque[np.ndarray] = deque(maxlen=n)      # (C,) in-band variance per epoch
         self._cov_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
         self.epochs_done = 0

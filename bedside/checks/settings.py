@@ -91,7 +91,8 @@ class BridgingSettings:
     h_freq_hz: float = field(default=30.0, metadata=_rng(1.0, 1000.0))
     epoch_s: float = field(default=2.0, metadata=_rng(0.25, 30.0))
     hop_s: float = field(default=1.0, metadata=_rng(0.1, 30.0))
-    n_epochs: int = field(default=4, metadata=_rng(1, 64))
+    n_epochs: int = field(default=3, metadata=_rng(1, 64))
+    density_epochs: int = field(default=12, metadata=_rng(1, 120))
     epoch_threshold: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     lm_cutoff_uv2: float = field(default=16.0, metadata=_rng(0.01, 1e6))
     min_rms_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
@@ -99,6 +100,7 @@ class BridgingSettings:
     def __post_init__(self) -> None:
         _order("bridging", "l_freq_hz", self.l_freq_hz, "h_freq_hz", self.h_freq_hz)
         _order("bridging", "hop_s", self.hop_s, "epoch_s", self.epoch_s)
+        _order("bridging", "n_epochs", self.n_epochs, "density_epochs", self.density_epochs)
         ratio = self.epoch_s / self.hop_s
         if abs(ratio - round(ratio)) > 1e-6:
             raise ValueError(f"'bridging.epoch_s' must be a whole number of 'bridging.hop_s' ({self.hop_s} s)")

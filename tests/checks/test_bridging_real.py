@@ -88,8 +88,19 @@ def _ours(x: np.ndarray, names: list[str], rate: float, pairs: list[Pair]) -> li
 
 
 def _voting(history: list[tuple[float, int, set[Pair]]]) -> list[tuple[float, int, set[Pair]]]:
-    """Only the epochs with a full vote (n_epochs of them)."""
-    return [h for h in history if h[1] == SETTINGS.n_epochs]
+    """Only the epochs with a full vote and a full density (the detector's whole span)."""
+    return [h for h in history if h[1] == SETTINGS.n_epochs and h[0] >= SPAN_S - 1e-9]
+
+
+#: The span of data one verdict of the detector rests on: its density's epochs (12 epochs
+#: of 2 s, one a second: 13 s); MNE-Python is run on exactly these samples.
+SPAN_S = (SETTINGS.density_epochs - 1) * SETTINGS.hop_s + SETTINGS.epoch_s
+
+
+def _same_span(y: np.ndarray, names: list[str], rate: float, pairs: list[Pair], t_end: float) -> set[Pair]:
+    """MNE-Python on the samples of the detector's span that ends at t_end."""
+    end = int(round(t_end * rate))
+    return _mne(y[end - int(round(SPAN_S * rate)) : end], names, rate, pairs)
 
 
 def _inject(x: np.ndarray, rate: float, ia: int, ib: int, case: str, seed: int = 1,
@@ -113,86 +124,85 @@ def _inject(x: np.ndarray, rate: float, ia: int, ib: int, case: str, seed: int =
 
 # --------------------------------------------------------------- clean recordings
 def test_mne_sample_clean_no_bridge() -> None:
-    """MNE-Python finds no bridge in its sample EEG; neither do we, at any epoch, and MNE
-    agrees on each trailing 5-s span the detector votes over. (Measured: the lowest
-    neighbour ED is 2.5 µV², EEG 054–EEG 057; MNE's local minimum is ≈ 0 µV².)"""
+    """MNE-Python finds no bridge in its sample EEG, on the whole 24 s and on every span
+    the detector judges; neither do we, at any epoch. (Measured: the lowest neighbour
+    ED is 2.5 µV², EEG 054–EEG 057; MNE's local minimum is ≈ 1e-11 µV².)"""
     x, names, rate, pairs = _sample()
     assert _mne(x, names, rate, pairs) == set()
     history = _ours(x, names, rate, pairs)
     assert len(history) >= 20 and all(found == set() for _t, _n, found in history)
-    span = int((SETTINGS.n_epochs - 1) * SETTINGS.hop_s * rate + SETTINGS.epoch_s * rate)
-    for t_end, _n, found in _voting(history)[::6]:
-        end = int(round(t_end * rate))
-        assert _mne(x[end - span : end], names, rate, pairs) == found
+    for t_end, _n, found in _voting(history)[::2]:
+        assert _same_span(x, names, rate, pairs, t_end) == found == set()
 
 
 def test_eegmmidb_clean_no_bridge() -> None:
-    """MNE-Python finds no bridge in EEGMMIDB S001R02 (61 s); neither do we, at any full
-    vote. AF7–AF3 is the one close pair (measured here: in-band ED 4.6 µV² median,
-    r 0.999; every other neighbour pair ≥ 28 µV²), yet MNE's local minimum lands near
-    0 µV² and it is not flagged — a possible natural bridge MNE-Python does not call."""
+    """MNE-Python finds no bridge in EEGMMIDB S001R02 (61 s), nor on the detector's spans;
+    neither do we, at any full vote. AF7–AF3 is the one close pair (measured: in-band
+    ED 4.6 µV² median, r 0.999; every other neighbour pair ≥ 28 µV²), yet with nothing
+    lower MNE's local minimum lands near 0 µV² and it is not flagged — a possible
+    natural bridge that MNE-Python does not call, and neither do we."""
     x, names, rate, pairs = _mmidb()
     assert _mne(x, names, rate, pairs) == set()
     history = _voting(_ours(x, names, rate, pairs))
-    assert len(history) >= 55 and all(found == set() for _t, _n, found in history)
+    assert len(history) >= 45 and all(found == set() for _t, _n, found in history)
+    for t_end, _n, _found in history[::8]:
+        assert _same_span(x, names, rate, pairs, t_end) == set()
 
 
 # ------------------------------------------------------------ injected, agreement
 def test_mne_sample_injected_bridges_agree() -> None:
     """On the sample EEG (600 Hz), MNE-Python flags the short but NOT the gel bridge, with
-    or without the drift: 1 µV of white noise at 600 Hz leaves about 0.2 µV² in band
-    (0.4–1.4 µV² with the drift), well under the natural 2–4 µV², but MNE's
-    local-minimum search ends at ≈ 0 µV² for this distribution. We agree with MNE at
-    every full vote, on the whole span and on the detector's own 5-s span."""
+    or without the drift: 1 µV of white noise at 600 Hz leaves about 0.2 µV² in band,
+    well under the natural 2–4 µV², but for this distribution (about 170 EDs under
+    16 µV² per epoch, most of them natural pairs at 2–4 µV²) MNE's local-minimum search
+    ends at ≈ 0 µV², so only an exactly zero ED passes. We agree with MNE at every
+    full vote, on the whole span and on each span the detector judges."""
     x, names, rate, pairs = _sample()
     ia, ib = names.index("EEG 019"), names.index("EEG 020")
     pair = _key("EEG 019", "EEG 020")
     assert pair in {_key(*p) for p in pairs}
-    span = int((SETTINGS.n_epochs - 1) * SETTINGS.hop_s * rate + SETTINGS.epoch_s * rate)
     expected = {"gel": set(), "gel+drift": set(), "short": {pair}}
     for case, want in expected.items():
         y = _inject(x, rate, ia, ib, case)
         assert _mne(y, names, rate, pairs) == want, case
         history = _voting(_ours(y, names, rate, pairs))
-        assert all(found == want for _t, _n, found in history), case
-        t_end = history[-1][0]
-        end = int(round(t_end * rate))
-        assert _mne(y[end - span : end], names, rate, pairs) == want, case
+        assert len(history) >= 10 and all(found == want for _t, _n, found in history), case
+        for t_end, _n, _found in history[::5]:
+            assert _same_span(y, names, rate, pairs, t_end) == want, (case, t_end)
 
 
 def test_eegmmidb_injected_bridges_agree() -> None:
-    """EEGMMIDB (160 Hz), a bridge injected on C6–FT8 for the whole 61 s.
+    """EEGMMIDB (160 Hz), a bridge injected on C6–FT8 for the whole 61 s; MNE-Python on
+    the same 13-s span as each of our verdicts (every fourth one here).
 
-    MNE-Python on the whole span: the short → {C6–FT8}; the gel → {C6–FT8, AF3–AF7} (the
-    injected pair's low EDs move the local minimum above AF7–AF3's 4.6 µV²); gel + drift
-    → nothing. On the injected pair, our verdict at each full vote agrees with that in
-    (measured) 57/57 epochs for the short, 52/57 for the gel, 49/57 for gel + drift (the
-    drift keeps the pair at the edge: ED 0.9–1.6 µV² against a cutoff that moves).
-
-    AF7–AF3 has no stable reference: MNE-Python itself, run on the detector's own 5-s
-    spans of the same data, calls it bridged on some spans and not on others, because
-    its local minimum comes from a density of a handful of values; our verdict on it
-    follows the same procedure and flips likewise (not asserted pair by pair)."""
+    MNE on the whole span: the short → {C6–FT8}; the gel → {C6–FT8, AF3–AF7} (the
+    injected pair's low EDs, 0.6–1.0 µV², move the local minimum above AF7–AF3's
+    4.6 µV²); gel + drift → nothing (here the drift on one lead keeps the pair's ED at
+    1–3 µV²; MNE-Python does not flag it, and neither do we). Measured at all 49 full
+    votes against MNE on the same span: injected pair 49/49 (short), 46/49 (gel),
+    49/49 (gel + drift); the whole set of pairs 38/49, 26/49, 49/49 — every
+    difference but two is AF7–AF3, on which MNE-Python itself changes its mind from
+    one span to the next (its local minimum comes from a density of a few dozen values)."""
     x, names, rate, pairs = _mmidb()
     ia, ib = names.index("C6"), names.index("FT8")
     inj, af = _key("C6", "FT8"), _key("AF3", "AF7")
-    expected = {"short": {inj}, "gel": {inj, af}, "gel+drift": set()}
-    min_agree = {"short": 1.0, "gel": 0.85, "gel+drift": 0.8}
-    span = int((SETTINGS.n_epochs - 1) * SETTINGS.hop_s * rate + SETTINGS.epoch_s * rate)
-    for case, want in expected.items():
+    whole = {"short": {inj}, "gel": {inj, af}, "gel+drift": set()}
+    min_inj = {"short": 1.0, "gel": 0.85, "gel+drift": 1.0}
+    min_all = {"short": 0.6, "gel": 0.4, "gel+drift": 1.0}
+    for case, want in whole.items():
         y = _inject(x, rate, ia, ib, case)
         assert _mne(y, names, rate, pairs) == want, case
-        history = _voting(_ours(y, names, rate, pairs))
-        agree = np.mean([(inj in found) == (inj in want) for _t, _n, found in history])
-        assert agree >= min_agree[case], (case, agree)
-        if case != "short":  # the short: we end with AF7–AF3 too, MNE's whole span without
-            assert history[-1][2] == want, (case, history[-1])
-        # Never a pair other than the injected one and AF7–AF3.
-        assert set().union(*(found for _t, _n, found in history)) <= {inj, af}, case
-        if case == "short":
-            spans = {af in _mne(y[int(round(t * rate)) - span : int(round(t * rate))], names, rate, pairs)
-                     for t, _n, _f in history[::4]}
-            assert spans == {True, False}  # MNE-Python's own verdict on AF7–AF3 flips
+        history = _voting(_ours(y, names, rate, pairs))[::4]
+        ref = [_same_span(y, names, rate, pairs, t_end) for t_end, _n, _f in history]
+        got = [found for _t, _n, found in history]
+        inj_agree = np.mean([(inj in m) == (inj in g) for m, g in zip(ref, got, strict=True)])
+        all_agree = np.mean([m == g for m, g in zip(ref, got, strict=True)])
+        assert inj_agree >= min_inj[case], (case, inj_agree)
+        assert all_agree >= min_all[case], (case, all_agree)
+        differ = set().union(*(m ^ g for m, g in zip(ref, got, strict=True)))
+        assert differ <= {inj, af, _key("F2", "F4")}, (case, differ)
+        if case == "short":  # MNE-Python's own verdict on AF7–AF3 flips between spans
+            assert {af in m for m in ref} == {True, False}
 
 
 # --------------------------------------------------------------- latency, rate
@@ -204,37 +214,58 @@ def _bridge_times(frames: list, rate_s: float) -> list[tuple[float, set[Pair]]]:
     return out
 
 
+#: Gel bridges (and one short) injected into EEGMMIDB, starting at several phases of
+#: the detector's 1-s epochs; C6–FT8 from 20.0 s is the one MNE-Python flags over the
+#: whole recording (test above), the others are the same kind of fault.
+FAULTS = (
+    (("C6", "FT8"), "gel", 20.0, 40.0),
+    (("C6", "FT8"), "gel", 20.3, 40.6),
+    (("O1", "Oz"), "gel", 10.6, 30.2),
+    (("C3", "C1"), "gel", 30.6, 45.2),
+    (("FC3", "FC1"), "short", 5.8, 25.1),
+)
+
+
+@cache
+def _engine_run(fault: tuple[Pair, str, float, float]) -> tuple[Pair, list[tuple[float, set[Pair]]]]:
+    x, names, rate, pairs = _mmidb()
+    (a, b), case, t0, t1 = fault
+    y = _inject(x, rate, names.index(a), names.index(b), case, start_s=t0, end_s=t1)
+    eng = make_engine(names, rate, neighbours=pairs)
+    chunk = int(round(rate / 4))
+    frames = feed(eng, y[: int(min(t1 + 8.0, len(x) / rate) * rate)], chunk=chunk)
+    return _key(a, b), _bridge_times(frames, chunk / rate)
+
+
+def test_bridge_clears_within_5_s() -> None:
+    """Issue 12's target "≤ 5 s back to good", through the engine (its hold included):
+    after each injected bridge is removed, its pair is no longer named within 5 s
+    (measured: 0.6–2.7 s), and it was never named before the fault began."""
+    for fault in FAULTS:
+        pair, times = _engine_run(fault)
+        _p, _case, t0, t1 = fault
+        named = [t for t, f in times if pair in f]
+        assert named and min(named) > t0, fault
+        assert max(named) - t1 <= 5.0, (fault, max(named))
+        # While it lasts, once found, it stays found (measured: 98–100 % of updates).
+        assert np.mean([pair in f for t, f in times if min(named) <= t <= t1]) >= 0.9, fault
+
+
 @pytest.mark.xfail(strict=True, reason=(
-    "not met yet (measured): a short on the sample EEG from 8 s is never flagged — after the "
-    "onset its in-band ED decays (0.4, 0.25, 0.01, 0.005, 0.003 µV²) but never reaches the "
-    "≈1e-11 µV² 'local minimum' MNE-Python's search gives for this distribution, which only an "
-    "exactly zero ED passes; a gel bridge on EEGMMIDB from 20 s is flagged at 28 s (ED under "
-    "1.5 µV² from 24 s, the local minimum ≈0 until 28 s)"))
-def test_short_found_within_5_s_and_clears_within_5_s() -> None:
-    """Issue 12's latency targets (≤ 5 s to a bridge, ≤ 5 s back to good), through the
-    engine, on both recordings: a short on the sample EEG from 8 to 16 s, a gel bridge on
-    EEGMMIDB from 20 to 40 s (both cases MNE-Python flags when they last the whole span,
-    tests above)."""
-    cases = (
-        (_sample(), ("EEG 019", "EEG 020"), "short", 8.0, 16.0),
-        (_mmidb(), ("C6", "FT8"), "gel", 20.0, 40.0),
-    )
-    for (x, names, rate, pairs), (a, b), case, t0, t1 in cases:
-        y = _inject(x, rate, names.index(a), names.index(b), case, start_s=t0, end_s=t1)
-        eng = make_engine(names, rate, neighbours=pairs)
-        chunk = int(round(rate / 4))
-        frames = feed(eng, y[: int((t1 + 8.0) * rate)], chunk=chunk)
-        times = _bridge_times(frames, chunk / rate)
-        pair = _key(a, b)
+    "not met (measured): found 4.0, 8.7, 9.4, 10.4 and 4.2 s after the onset. MNE-Python's "
+    "local-minimum search (Brent from the bracket (0, 1)) moves off ~0 µV² only once the "
+    "kernel density at 1 µV² exceeds that at 2.6 µV², i.e. once the new pair's low EDs "
+    "outweigh the natural ones (AF7–AF3 here): 6 epochs with a 12-epoch density; a 4- or "
+    "6-epoch density is no faster on these faults (4.4–12.4 s) and disagrees with MNE-Python "
+    "on its own spans far more often"))
+def test_bridge_found_within_5_s() -> None:
+    """Issue 12's latency target for bridges (≤ 5 s from the fault's start), through the
+    engine, for the faults above."""
+    for fault in FAULTS:
+        pair, times = _engine_run(fault)
+        t0 = fault[2]
         found_at = next(t for t, f in times if t > t0 and pair in f)
-        assert found_at - t0 <= 5.0, (case, found_at)
-        held = [pair in f for t, f in times if found_at <= t <= t1]
-        assert np.mean(held) >= 0.9, case
-        clear_at = next(t for t, f in times if t > t1 and pair not in f and
-                        all(pair not in g for u, g in times if u >= t))
-        assert clear_at - t1 <= 5.0, (case, clear_at)
-        # Before the fault: no bridge named with this pair.
-        assert not any(pair in f for t, f in times if t < t0), case
+        assert found_at - t0 <= 5.0, (fault, found_at)
 
 
 def test_same_pairs_at_250_and_500_hz() -> None:
@@ -250,5 +281,5 @@ def test_same_pairs_at_250_and_500_hz() -> None:
         z = resample_poly(y, up, down, axis=0)
         r = rate * up / down
         assert _mne(z, names, r, pairs) == want, r
-        history = _voting(_ours(z, names, r, pairs))
-        assert len(history) >= 18 and all(found == want for _t, _n, found in history), r
+        history = [h for h in _ours(z, names, r, pairs) if h[1] == SETTINGS.n_epochs]
+        assert len(history) >= 20 and all(found == want for _t, _n, found in history), r
