@@ -97,14 +97,15 @@ def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarra
 
 def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_threshold: float) -> float | None:
     """The ED cutoff of this distribution, found as MNE-Python's compute_bridged_electrodes
-    finds it (None: too few values under the ceiling, so no bridge).
+    finds it (None: too few values under the ceiling, so no bridge; n_epochs 0 skips
+    that guard, for a caller that applies it over other epochs).
 
     ed_uv2: every ED value of the epochs (any shape); the kernel density is taken over
     those under ``cutoff_uv2`` and minimised with minimize_scalar (Brent, its default
     bracket), the density infinite outside (0, cutoff) — MNE's own steps."""
     flat = ed_uv2[np.isfinite(ed_uv2)].ravel()
     below = flat[flat < cutoff_uv2]
-    if n_epochs == 0 or below.size / n_epochs < epoch_threshold:
+    if below.size == 0 or (n_epochs and below.size / n_epochs < epoch_threshold):
         return None
     if below.size < 2 or float(np.ptp(below)) <= 1e-9 * max(1.0, float(np.abs(below).max())):
         # One repeated value (a perfect short alone under the ceiling): the density is a
@@ -224,7 +225,13 @@ class BridgeDetector:
         ed_all = np.vstack(self._ed)
         i, j = self._iu
         use = carrying[i] & carrying[j]
-        lm = local_minimum(ed_all[:, use], ed_all.shape[0], s.lm_cutoff_uv2, s.epoch_threshold)
+        # MNE-Python's "enough values under the ceiling" guard, counted over the voting
+        # epochs: a new bridge need not first fill the density's 12 epochs.
+        recent = ed_all[-n_ep:, use]
+        if (recent < s.lm_cutoff_uv2).sum() / n_ep < s.epoch_threshold:
+            lm = None
+        else:
+            lm = local_minimum(ed_all[:, use], 0, s.lm_cutoff_uv2, s.epoch_threshold)
         ed = ed_all[-n_ep:, self._pair_k]
         mean_var = var.mean(axis=0)
         with np.errstate(invalid="ignore", divide="ignore"):

@@ -252,7 +252,7 @@ def test_bridge_clears_within_5_s() -> None:
 
 
 @pytest.mark.xfail(strict=True, reason=(
-    "not met (measured): found 4.0, 8.7, 9.4, 10.4 and 4.2 s after the onset. MNE-Python's "
+    "not met (measured): found 4.0, 8.7, 9.4, 10.4 and 7.2 s after the onset. MNE-Python's "
     "local-minimum search (Brent from the bracket (0, 1)) moves off ~0 µV² only once the "
     "kernel density at 1 µV² exceeds that at 2.6 µV², i.e. once the new pair's low EDs "
     "outweigh the natural ones (AF7–AF3 here): 6 epochs with a 12-epoch density; a 4- or "
