@@ -3,9 +3,10 @@
 Recordings (tests/data/README.md, read by tests/real_eeg.py with outside readers):
 MNE-Python's sample EEG (60 ch, 600.6 Hz, 24 s, digitised positions) and EEGMMIDB
 S001R02 (64 ch, 160 Hz, 61 s). Reference: ``mne.preprocessing.compute_bridged_electrodes``
-with its defaults, run on exactly the samples the detector was given (the whole
-span; where it is stable, also the detector's own trailing span of 5 s). MNE-Python
-flags any pair; bedside reports neighbour pairs, so MNE's pairs are compared on those.
+with its defaults, run on exactly the samples the detector was given: the whole span,
+and the span each verdict rests on (the detector's density of 12 epochs: 13 s).
+MNE-Python flags any pair; bedside reports neighbour pairs, so MNE's pairs are compared
+on those.
 
 Injected bridges (on the real backgrounds): two leads replaced by their average plus
 1 µV independent white noise each ("gel"), the same plus a 6 µV 0.2 Hz drift on one
@@ -152,9 +153,9 @@ def test_eegmmidb_clean_no_bridge() -> None:
 # ------------------------------------------------------------ injected, agreement
 def test_mne_sample_injected_bridges_agree() -> None:
     """On the sample EEG (600 Hz), MNE-Python flags the short but NOT the gel bridge, with
-    or without the drift: 1 µV of white noise at 600 Hz leaves 0.17–0.23 µV² in band (0.5–2.7 µV²
-    with the drift),
-    well under the natural 2–4 µV², but for this distribution (about 170 EDs under
+    or without the drift: 1 µV of white noise at 600 Hz leaves 0.17–0.23 µV² in band
+    (0.5–2.7 µV² with the drift), under the natural 2–4 µV², but for this distribution
+    (about 170 EDs under
     16 µV² per epoch, most of them natural pairs at 2–4 µV²) MNE's local-minimum search
     ends at ≈ 0 µV², so only an exactly zero ED passes. We agree with MNE at every
     full vote, on the whole span and on each span the detector judges."""
@@ -181,9 +182,10 @@ def test_eegmmidb_injected_bridges_agree() -> None:
     5.3 µV²); gel + drift → nothing (here the drift on one lead keeps the pair's ED at
     1–3 µV²; MNE-Python does not flag it, and neither do we). Measured at all 49 full
     votes against MNE on the same span: injected pair 49/49 (short), 46/49 (gel),
-    49/49 (gel + drift); the whole set of pairs 38/49, 26/49, 49/49 — every
-    difference but two is AF7–AF3, on which MNE-Python itself changes its mind from
-    one span to the next (its local minimum comes from a density of a few dozen values)."""
+    49/49 (gel + drift); the whole set of pairs 38/49, 26/49, 49/49 — the differences
+    are AF7–AF3 (and F2–F4, ED 29 µV² median, twice), on which MNE-Python itself
+    changes its mind from one span to the next: its local minimum comes from a density
+    of a few dozen values."""
     x, names, rate, pairs = _mmidb()
     ia, ib = names.index("C6"), names.index("FT8")
     inj, af = _key("C6", "FT8"), _key("AF3", "AF7")
