@@ -112,10 +112,13 @@ def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_th
     below = flat[flat < cutoff_uv2]
     if below.size == 0 or (n_epochs and below.size / n_epochs < epoch_threshold):
         return None
-    if below.size < 2 or float(np.ptp(below)) <= 1e-9 * max(1.0, float(np.abs(below).max())):
-        # One repeated value (a perfect short alone under the ceiling): the density is a
-        # single spike and MNE's gaussian_kde cannot be formed; everything under the
-        # ceiling is that spike, so the ceiling separates it.
+    if below.size < 2:
+        # One value is no distribution (MNE-Python's gaussian_kde raises): no cutoff.
+        return None
+    if float(np.ptp(below)) <= 1e-9 * max(1.0, float(np.abs(below).max())):
+        # One value repeated (perfect shorts alone under the ceiling): the density is a
+        # single spike and MNE's gaussian_kde cannot be formed (it raises); everything
+        # under the ceiling is that spike, so the ceiling separates it; ours.
         return float(cutoff_uv2)
     # scipy's gaussian_kde as MNE-Python builds it (Scott's bandwidth); evaluated here as
     # the plain sum of its Gaussians, which is the same density without scipy's
@@ -148,9 +151,9 @@ class BridgeDetector:
 
     n_channels, rate_hz: of the samples given to :meth:`add` (any rate the band fits);
     pairs: neighbour index pairs (P, 2) to report; settings: ``bridging:`` of
-    configs/quality.yaml. Memory: two hop sums (C × C) and the newest ``n_epochs``
-    epochs' pair EDs; work: the filter and one C × C product per sample block, the
-    density only when an epoch completes.
+    configs/quality.yaml. Memory: the hop sums (C × C each) and the EDs of all
+    C(C−1)/2 pairs for the newest ``density_epochs`` epochs; work: the filter and one
+    C × C product per sample block, the density only when an epoch completes.
     """
 
     def __init__(self, n_channels: int, rate_hz: float, pairs: np.ndarray, settings: BridgingSettings) -> None:
