@@ -275,18 +275,20 @@ def test_bridge_found_within_5_s() -> None:
         assert found_at - t0 <= 5.0, (fault, found_at)
 
 
-def test_same_pairs_at_250_and_500_hz() -> None:
+def test_same_pairs_at_any_rate() -> None:
     """The same physical signal — the sample EEG with a short on EEG 019–EEG 020 and a gel
     bridge on EEG 041–EEG 042 (the one MNE-Python flags, the other it does not) —
-    resampled with scipy.signal.resample_poly from 600.6 Hz to 250.3 and 500.5 Hz gives
-    the same pairs at every full vote; MNE-Python agrees at each rate."""
+    resampled with scipy.signal.resample_poly from 600.6 Hz to 250.3, 500.5, 2002 and
+    8008 Hz gives the same pairs at every full vote; MNE-Python agrees at 250.3, 500.5
+    and 2002 Hz."""
     x, names, rate, pairs = _sample()
     y = _inject(x, rate, names.index("EEG 019"), names.index("EEG 020"), "short")
     y = _inject(y, rate, names.index("EEG 041"), names.index("EEG 042"), "gel", seed=3)
     want = {_key("EEG 019", "EEG 020")}
-    for up, down in ((5, 12), (5, 6)):
+    for up, down in ((5, 12), (5, 6), (10, 3), (40, 3)):
         z = resample_poly(y, up, down, axis=0)
         r = rate * up / down
-        assert _mne(z, names, r, pairs) == want, r
+        if r < 3000:
+            assert _mne(z, names, r, pairs) == want, r
         history = [h for h in _ours(z, names, r, pairs) if h[1] == SETTINGS.n_epochs]
         assert len(history) >= 20 and all(found == want for _t, _n, found in history), r
