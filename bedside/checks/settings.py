@@ -35,6 +35,19 @@ def _order(section: str, low_name: str, low: float, high_name: str, high: float)
 
 
 @dataclass(frozen=True)
+class AnalysisSettings:
+    rate_hz: float = field(default=250.0, metadata=_rng(100.0, 2000.0))
+    band_hz: float = field(default=100.0, metadata=_rng(30.0, 500.0))
+
+    def __post_init__(self) -> None:
+        if not self.band_hz < self.rate_hz / 2:
+            raise ValueError(
+                f"'analysis.band_hz' ({self.band_hz:g}) must be below half of 'analysis.rate_hz' "
+                f"({self.rate_hz:g}): the analysis copy must carry its band"
+            )
+
+
+@dataclass(frozen=True)
 class HoldSettings:
     hold_s: float = field(default=1.0, metadata=_rng(0.0, 30.0))
     confirm_updates: int = field(default=1, metadata=_rng(1, 20))
@@ -98,6 +111,8 @@ class ArtifactSettings:
     pop_step_ratio: float = field(default=10.0, metadata=_rng(1.0, 1e6))
     pop_check_count: int = field(default=1, metadata=_rng(1, 1000))
     pop_bad_count: int = field(default=3, metadata=_rng(1, 1000))
+    clip_run_s: float = field(default=0.05, metadata=_rng(0.0, 10.0))
+    clip_run_min_samples: int = field(default=5, metadata=_rng(2, 100000))
     clip_check_fraction: float = field(default=0.002, metadata=_rng(0.0, 1.0))
     clip_bad_fraction: float = field(default=0.02, metadata=_rng(0.0, 1.0))
     muscle_band_hz: tuple[float, float] = (50.0, 100.0)
@@ -146,6 +161,7 @@ class QualitySettings:
     max_rate_hz: float = field(default=20000.0, metadata=_rng(1.0, 1e6))
     eeg_band_hz: tuple[float, float] = (1.0, 40.0)
     spectrum_max_hz: float = field(default=250.0, metadata=_rng(50.0, 1e5))
+    analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     hold: HoldSettings = field(default_factory=HoldSettings)
     line_noise: LineNoiseSettings = field(default_factory=LineNoiseSettings)
     flat: FlatSettings = field(default_factory=FlatSettings)

@@ -49,3 +49,16 @@ def make_engine(names: Sequence[str] = TEN_TWENTY, rate_hz: float = 256.0,
 
 def by_name(frame: object, name: str):  # type: ignore[no-untyped-def]
     return next(c for c in frame.channels if c.name == name)  # type: ignore[attr-defined]
+
+
+def analysis_copy(engine: Engine, x: np.ndarray) -> np.ndarray:
+    """The engine's analysis copy of the raw samples x (n, C), computed with SciPy as the
+    outside reference: ``scipy.signal.lfilter`` with the engine's FIR taps, the fully
+    overlapped outputs only, every q-th (index k = the engine's k-th analysis sample)."""
+    from scipy.signal import lfilter
+
+    a = engine.analysis
+    if a.taps is None:
+        return np.asarray(x, dtype=float)
+    y = lfilter(a.taps, [1.0], np.asarray(x, dtype=float), axis=0)
+    return np.asarray(y[len(a.taps) - 1 :: a.q])

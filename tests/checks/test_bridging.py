@@ -14,7 +14,7 @@ from mne.preprocessing import compute_bridged_electrodes
 
 from bedside.checks.bridging import pair_metrics, window_pair_metrics
 
-from .helpers import TEN_TWENTY, eeg_like, feed, make_engine
+from .helpers import TEN_TWENTY, analysis_copy, eeg_like, feed, make_engine
 
 RATE = 256.0
 BRIDGES = {("F3", "Fz"), ("O2", "P4")}
@@ -69,7 +69,8 @@ def test_electrical_distance_is_variance_of_difference() -> None:
     feed(eng, x, chunk=50)
     stats = eng.window_stats()
     assert stats is not None
-    window = x[-stats.n_samples :]
+    end = eng.analysis_samples  # the window is the newest complete blocks of the analysis copy
+    window = analysis_copy(eng, x)[end - stats.n_samples : end]
     pairs = np.array([(3, 4), (0, 18), (5, 6), (15, 18)])
     ed, r = pair_metrics(stats.cov_uv2, pairs)
     ref_ed = [np.var(window[:, i] - window[:, j], ddof=1) for i, j in pairs]
