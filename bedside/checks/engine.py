@@ -33,6 +33,7 @@ from bedside.checks import (
     analysis,
     artifacts,
     bridging,
+    correlation,
     drift,
     flat,
     line_noise,
@@ -395,7 +396,7 @@ class Engine:
         if self._spectral is None or self._spectral[0] != memo_key:
             self._spectral = (
                 memo_key,
-                line_noise.evaluate(recent, ctx, s),
+                line_noise.evaluate(recent, ctx, s, spec),
                 artifacts.muscle(spec, ctx, s),
                 placement_sanity.evaluate(spec, self.names, valid, s),
             )
@@ -409,6 +410,7 @@ class Engine:
             "clipping": artifacts.clipping(stats, ctx, s),
             "muscle": muscle_res,
             "amplitude": artifacts.amplitude(stats, ctx, s),
+            "correlation": correlation.evaluate(stats, ctx, s),
         }
         results, shared = reference.evaluate(results, ctx, finite, s)
         # Samples that are not numbers: flag the channel clearly, drop its other verdicts

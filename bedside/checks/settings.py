@@ -62,11 +62,19 @@ class LineNoiseSettings:
     bandwidth_hz: float = field(default=1.0, metadata=_rng(0.1, 5.0))
     harmonics: int = field(default=3, metadata=_rng(1, 10))
     detect_prominence_db: float = field(default=4.0, metadata=_rng(0.0, 40.0))
+    line_min_peak_db: float = field(default=6.0, metadata=_rng(0.0, 60.0))
+    check_uv: float = field(default=10.0, metadata=_rng(0.0, 1e5))
+    bad_uv: float = field(default=20.0, metadata=_rng(0.0, 1e5))
+    imbalance_ratio: float = field(default=4.0, metadata=_rng(1.0, 1000.0))
+    imbalance_min_uv: float = field(default=5.0, metadata=_rng(0.0, 1e5))
+    median_floor_uv: float = field(default=0.5, metadata=_rng(0.01, 1e5))
     check_db: float = field(default=0.0, metadata=_rng(-40.0, 40.0))
     bad_db: float = field(default=10.0, metadata=_rng(-40.0, 60.0))
+    ratio_min_uv: float = field(default=3.0, metadata=_rng(0.0, 1e5))
 
     def __post_init__(self) -> None:
         _order("line_noise", "check_db", self.check_db, "bad_db", self.bad_db)
+        _order("line_noise", "check_uv", self.check_uv, "bad_uv", self.bad_uv)
 
 
 @dataclass(frozen=True)
@@ -83,10 +91,10 @@ class FlatSettings:
 
 @dataclass(frozen=True)
 class DriftSettings:
-    slope_check_uv_per_s: float = field(default=50.0, metadata=_rng(0.0, 1e6))
-    slope_bad_uv_per_s: float = field(default=200.0, metadata=_rng(0.0, 1e6))
-    slow_check_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
-    slow_bad_uv: float = field(default=200.0, metadata=_rng(0.0, 1e6))
+    slope_check_uv_per_s: float = field(default=120.0, metadata=_rng(0.0, 1e6))
+    slope_bad_uv_per_s: float = field(default=400.0, metadata=_rng(0.0, 1e6))
+    slow_check_uv: float = field(default=150.0, metadata=_rng(0.0, 1e6))
+    slow_bad_uv: float = field(default=400.0, metadata=_rng(0.0, 1e6))
     offset_check_fraction: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     offset_bad_fraction: float = field(default=0.9, metadata=_rng(0.0, 1.0))
 
@@ -119,10 +127,11 @@ class ArtifactSettings:
     muscle_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
     muscle_z_min_ratio: float = field(default=0.3, metadata=_rng(0.0, 100.0))
     muscle_ratio_check: float = field(default=1.0, metadata=_rng(0.0, 100.0))
-    rms_check_uv: float = field(default=100.0, metadata=_rng(0.0, 1e6))
-    rms_bad_uv: float = field(default=250.0, metadata=_rng(0.0, 1e6))
+    muscle_min_uv: float = field(default=20.0, metadata=_rng(0.0, 1e5))
+    rms_check_uv: float = field(default=150.0, metadata=_rng(0.0, 1e6))
+    rms_bad_uv: float = field(default=300.0, metadata=_rng(0.0, 1e6))
     deviation_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
-    deviation_min_rms_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
+    deviation_min_rms_uv: float = field(default=120.0, metadata=_rng(0.0, 1e6))
 
     def __post_init__(self) -> None:
         _band("artifacts.muscle_band_hz", self.muscle_band_hz)
@@ -130,6 +139,17 @@ class ArtifactSettings:
         _order("artifacts", "clip_check_fraction", self.clip_check_fraction,
                "clip_bad_fraction", self.clip_bad_fraction)
         _order("artifacts", "rms_check_uv", self.rms_check_uv, "rms_bad_uv", self.rms_bad_uv)
+
+
+@dataclass(frozen=True)
+class CorrelationSettings:
+    percentile: float = field(default=98.0, metadata=_rng(50.0, 100.0))
+    check_below: float = field(default=0.25, metadata=_rng(0.0, 1.0))
+    bad_below: float = field(default=0.15, metadata=_rng(0.0, 1.0))
+    min_channels: int = field(default=4, metadata=_rng(3, 1000))
+
+    def __post_init__(self) -> None:
+        _order("correlation", "bad_below", self.bad_below, "check_below", self.check_below)
 
 
 @dataclass(frozen=True)
@@ -168,6 +188,7 @@ class QualitySettings:
     drift: DriftSettings = field(default_factory=DriftSettings)
     bridging: BridgingSettings = field(default_factory=BridgingSettings)
     artifacts: ArtifactSettings = field(default_factory=ArtifactSettings)
+    correlation: CorrelationSettings = field(default_factory=CorrelationSettings)
     reference: ReferenceSettings = field(default_factory=ReferenceSettings)
     placement: PlacementSettings = field(default_factory=PlacementSettings)
 
