@@ -155,7 +155,7 @@ def plan_placement(
     10-10 only: the inferior row's distances (F9 … P10) are then its percentages of this
     tape, as on the other measured lines; without it they are percentages of the model's
     estimate, which on a real head can be 2–3 cm long (MNE-Python's Colin27 template:
-    63.3 cm on the model against about 61.6 cm on the head). The positions stay on the
+    63.3 cm on the model against about 60.6 cm on the head). The positions stay on the
     model (three arcs fix its three half-axes; a fourth would no longer let it
     reproduce all three tapes exactly). Ignored by 10-20, which has no inferior row.
     Returns a PlacementPlan: marks in walking order, positions_mm (x right, y front,
