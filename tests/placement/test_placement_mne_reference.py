@@ -236,7 +236,26 @@ def test_colin27_arcs_are_adult_sized() -> None:
 # not started from exactly that point), checked below on the template alone.
 TAPE_CM = 0.5 + 0.05
 
-INFERIOR = "Nz AFp9 AF9 AFF9 F9 FFT9 FT9 FTT9 T9 TTP9 TP9 TPP9 P9 PPO9 PO9 POO9 I1 Iz".split()
+INFERIOR = [
+    "Nz",
+    "AFp9",
+    "AF9",
+    "AFF9",
+    "F9",
+    "FFT9",
+    "FT9",
+    "FTT9",
+    "T9",
+    "TTP9",
+    "TP9",
+    "TPP9",
+    "P9",
+    "PPO9",
+    "PO9",
+    "POO9",
+    "I1",
+    "Iz",
+]
 #: The 10-10 rows through the template's 10-5 sites, midline site first.
 ROW_CHAINS = [
     "AFz AF1 AF3 AF5 AF7", "Fz F1h F1 F3h F3 F5h F5 F7h F7",
@@ -372,7 +391,9 @@ def _spacing_mm(theirs: np.ndarray) -> np.ndarray:
     return d.min(axis=1)
 
 
-def _shared(plan_positions: dict[str, tuple[float, float, float]], p: dict[str, np.ndarray]) -> list[str]:
+def _shared(
+    plan_positions: dict[str, tuple[float, float, float]], p: dict[str, np.ndarray]
+) -> list[str]:
     return [k for k in plan_positions if k in p and k not in ("A1", "A2", "M1", "M2")]
 
 
