@@ -54,21 +54,13 @@ def _resolve(names: Iterable[str], system: str) -> list[tuple[str, str]]:
 #: ACNS Guideline 2, from memory). AF9/AF10, PO9/PO10, O9/O10, I1/I2 are not placed:
 #: callers report them unplaced.
 MIDWAY_SITES: dict[str, tuple[str, str]] = {
-    "AF1": ("AF3", "AFz"),
-    "AF2": ("AFz", "AF4"),
-    "AF5": ("AF7", "AF3"),
-    "AF6": ("AF4", "AF8"),
-    "PO1": ("PO3", "POz"),
-    "PO2": ("POz", "PO4"),
-    "PO5": ("PO7", "PO3"),
-    "PO6": ("PO4", "PO8"),
+    "AF1": ("AF3", "AFz"), "AF2": ("AFz", "AF4"), "AF5": ("AF7", "AF3"), "AF6": ("AF4", "AF8"),
+    "PO1": ("PO3", "POz"), "PO2": ("POz", "PO4"), "PO5": ("PO7", "PO3"), "PO6": ("PO4", "PO8"),
 }
 _MIDWAY_BY_UPPER = {k.upper(): k for k in MIDWAY_SITES}
 
 
-def _midway(
-    a: tuple[float, float, float], b: tuple[float, float, float]
-) -> tuple[float, float, float]:
+def _midway(a: tuple[float, float, float], b: tuple[float, float, float]) -> tuple[float, float, float]:
     """The point halfway along the great circle from a to b, at their mean distance
     from the centre."""
     ra, rb = math.dist(a, (0, 0, 0)), math.dist(b, (0, 0, 0))
@@ -155,14 +147,10 @@ def read_electrodes_tsv(path: str) -> dict[str, tuple[float, float, float]]:
     try:
         text = p.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError, ValueError) as exc:
-        raise InputError(
-            f"--layout {path}: cannot read it ({exc}); a BIDS electrodes.tsv is needed"
-        ) from exc
+        raise InputError(f"--layout {path}: cannot read it ({exc}); a BIDS electrodes.tsv is needed") from exc
     rows = list(csv.reader(text.splitlines(), delimiter="\t"))
     if not rows or [h.strip().lower() for h in rows[0][:4]] != ["name", "x", "y", "z"]:
-        raise InputError(
-            f"--layout {path}: the first columns must be name, x, y, z (BIDS electrodes.tsv)"
-        )
+        raise InputError(f"--layout {path}: the first columns must be name, x, y, z (BIDS electrodes.tsv)")
     raw: dict[str, tuple[float, float, float]] = {}
     for n, row in enumerate(rows[1:], start=2):
         if not row or not row[0].strip():
@@ -226,9 +214,7 @@ def geometry_neighbours(
         unplaced = [n for n in names if n not in placed]
         note = f"bridging neighbours from the electrode positions ({len(pairs)} pairs)"
         if unplaced:
-            note += (
-                f"; no position for {', '.join(unplaced[:8])}{' …' if len(unplaced) > 8 else ''}"
-            )
+            note += f"; no position for {', '.join(unplaced[:8])}{' …' if len(unplaced) > 8 else ''}"
         return pairs, note
     lookup = {n: (site_of or {}).get(n, n) for n in names}
     by_site = positions_for(set(lookup.values()))
@@ -240,7 +226,5 @@ def geometry_neighbours(
         if unplaced:
             note += f"; unplaced (not 10-10 sites): {', '.join(unplaced[:8])}{' …' if len(unplaced) > 8 else ''}"
         return pairs, note
-    return None, (
-        "no electrode positions and no 10-20/10-10 names: bridging compares all pairs "
-        "(give positions with --layout FILE)"
-    )
+    return None, ("no electrode positions and no 10-20/10-10 names: bridging compares all pairs "
+                  "(give positions with --layout FILE)")

@@ -46,9 +46,7 @@ def neighbour_pairs(
     d2 = np.einsum("ijk,ijk->ij", diff, diff)
     others = np.where(np.eye(n, dtype=bool) | (d2 <= 0.0), np.inf, d2)
     nearest = others.min(axis=1)
-    spacing2 = (
-        float(np.median(nearest[np.isfinite(nearest)])) if np.isfinite(nearest).any() else 0.0
-    )
+    spacing2 = float(np.median(nearest[np.isfinite(nearest)])) if np.isfinite(nearest).any() else 0.0
     limit2 = max((_MAX_CHORD_FRACTION * circumference_mm) ** 2, _SPACING_FACTOR**2 * spacing2)
     close = d2 <= limit2
     i_idx, j_idx = np.nonzero(np.triu(close & (d2 > 0.0), k=1))

@@ -36,17 +36,11 @@ def test_neighbours_from_the_sample_recordings_positions_agree_with_mne() -> Non
     rec = real_eeg.mne_sample().pick("EEG")
     info = mne.create_info(list(rec.labels), rec.rate_hz, "eeg")
     raw = mne.io.RawArray(rec.data_uv[:10].T * 1e-6, info, verbose="error")
-    raw.set_montage(
-        mne.channels.make_dig_montage(ch_pos=dict(rec.positions_m or {}), coord_frame="head")
-    )
+    raw.set_montage(mne.channels.make_dig_montage(ch_pos=dict(rec.positions_m or {}), coord_frame="head"))
     adj, ch_names = mne.channels.find_ch_adjacency(raw.info, "eeg")
     a = adj.toarray()
-    ref = {
-        tuple(sorted((ch_names[i], ch_names[j])))
-        for i in range(len(ch_names))
-        for j in range(i + 1, len(ch_names))
-        if a[i, j]
-    }
+    ref = {tuple(sorted((ch_names[i], ch_names[j]))) for i in range(len(ch_names))
+           for j in range(i + 1, len(ch_names)) if a[i, j]}
     ours = set(pairs)
     recall = len(ours & ref) / len(ref)
     precision = len(ours & ref) / len(ours)
@@ -66,14 +60,7 @@ def test_neonatal_montage_gets_fp_c_c_o_and_t_o_pairs() -> None:
     """ACNS Guideline 5 neonatal set: every electrode has its nearest one or two; the
     Fp–C, C–O and T–O pairs, between which no electrode lies, are tested."""
     pairs = set(neighbours_for(NEONATAL))
-    for pair in [
-        ("C3", "Fp1"),
-        ("C4", "Fp2"),
-        ("C3", "O1"),
-        ("C4", "O2"),
-        ("O1", "T3"),
-        ("O2", "T4"),
-    ]:
+    for pair in [("C3", "Fp1"), ("C4", "Fp2"), ("C3", "O1"), ("C4", "O2"), ("O1", "T3"), ("O2", "T4")]:
         assert pair in pairs, pair
     assert ("Fp1", "O1") not in pairs and ("T3", "T4") not in pairs  # across the head
     assert all(sum(n in p for p in pairs) >= 2 for n in NEONATAL)
@@ -90,12 +77,8 @@ def test_neonatal_fp3_naming_is_placed() -> None:
 def test_electrodes_tsv(tmp_path: Path) -> None:
     """BIDS-EEG electrodes.tsv (name, x, y, z) with EEGCoordinateUnits from coordsystem.json."""
     tsv = tmp_path / "sub-01_electrodes.tsv"
-    tsv.write_text(
-        "name\tx\ty\tz\nCz\t0\t0\t0.1\nFz\t0\t0.07\t0.07\nX\tn/a\tn/a\tn/a\n", encoding="utf-8"
-    )
-    (tmp_path / "sub-01_coordsystem.json").write_text(
-        '{"EEGCoordinateUnits": "m"}', encoding="utf-8"
-    )
+    tsv.write_text("name\tx\ty\tz\nCz\t0\t0\t0.1\nFz\t0\t0.07\t0.07\nX\tn/a\tn/a\tn/a\n", encoding="utf-8")
+    (tmp_path / "sub-01_coordsystem.json").write_text('{"EEGCoordinateUnits": "m"}', encoding="utf-8")
     pos = read_electrodes_tsv(str(tsv))
     assert pos == {"Cz": (0.0, 0.0, 100.0), "Fz": (0.0, 70.0, 70.0)}
     tsv.write_text("label\tx\ty\tz\n", encoding="utf-8")
@@ -111,14 +94,10 @@ def test_10_10_names_without_a_row_are_placed_midway_or_reported() -> None:
 
     pos = positions_for(["AF3", "AFz", "AF1", "PO7", "PO3", "PO5"])
     for mid, (a, b) in {"AF1": ("AF3", "AFz"), "PO5": ("PO7", "PO3")}.items():
-        da, db = (
-            sum((p - q) ** 2 for p, q in zip(pos[mid], pos[x], strict=True)) ** 0.5 for x in (a, b)
-        )
+        da, db = (sum((p - q) ** 2 for p, q in zip(pos[mid], pos[x], strict=True)) ** 0.5 for x in (a, b))
         assert abs(da - db) < 1.0 and da > 5.0  # mm (the head is an ellipsoid): halfway
     std = mne.channels.make_standard_montage("colin27_1005").get_positions()["ch_pos"]
     mid = (std["AF3"] + std["AFz"]) / 2
-    assert ((std["AF1"] - mid) ** 2).sum() < min(
-        ((std["AF1"] - std[k]) ** 2).sum() for k in ("AF3", "AFz")
-    )
+    assert ((std["AF1"] - mid) ** 2).sum() < min(((std["AF1"] - std[k]) ** 2).sum() for k in ("AF3", "AFz"))
     _pairs, note = geometry_neighbours(["Cz", "C3", "C4", "AF1", "I1"], {})
     assert "unplaced" in note and "I1" in note and "AF1" not in note

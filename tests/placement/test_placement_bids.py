@@ -34,7 +34,6 @@ def test_electrodes_tsv_columns_and_values(tmp_path: Path) -> None:
 def test_electrodes_tsv_read_by_mne(tmp_path: Path) -> None:
     """MNE-Python's read_custom_montage (.tsv: name x y z) reads our file back."""
     import mne
-
     plan = plan_placement(HeadMeasurements(36.0, 35.0, 56.0), system="10-10")
     path = write_electrodes_tsv(tmp_path / "electrodes.tsv", plan.positions_mm)
     montage = mne.channels.read_custom_montage(path, head_size=None)
