@@ -214,3 +214,29 @@ def test_the_schema_rules_catch_damaged_files(
         eeg_json.write_text(json.dumps(sidecar), encoding="utf-8")
     found = _codes(validate_folder(out), level)
     assert any(expected in f for f in found), found
+
+
+@pytest.mark.xfail(
+    strict=True,
+    raises=AssertionError,
+    reason=(
+        "bedside/placement/bids.py writes AnatomicalLandmarkCoordinateSystem 'Other' without "
+        "AnatomicalLandmarkCoordinateSystemDescription, which the schema requires "
+        "(json.eeg.EEGCoordsystemLandmarkDescriptionReq); placement owns the fix"
+    ),
+)
+def test_the_coordsystem_with_landmarks_passes_the_schema(tmp_path: Path) -> None:
+    """What `bedside measure --bids-dir` writes (coordsystem.json with NAS/LPA/RPA), as a
+    subject's files in a dataset."""
+    from bedside.placement.bids import write_coordsystem_json, write_electrodes_tsv
+
+    (tmp_path / "dataset_description.json").write_text(
+        json.dumps({"Name": "measure", "BIDSVersion": "1.11.0"}), encoding="utf-8"
+    )
+    folder = tmp_path / "sub-W3017" / "eeg"
+    folder.mkdir(parents=True)
+    write_electrodes_tsv(folder / "sub-W3017_electrodes.tsv", {"Cz": (0.0, 0.0, 90.0)})
+    landmarks = {"NAS": (0.0, 90.0, 0.0), "LPA": (-70.0, 0.0, 0.0), "RPA": (70.0, 0.0, 0.0)}
+    write_coordsystem_json(folder / "sub-W3017_coordsystem.json", landmarks_mm=landmarks)
+    assert filename_matches(tmp_path)[0] == []
+    assert _codes(validate_folder(tmp_path), "error") == []
