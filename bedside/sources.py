@@ -94,7 +94,17 @@ class Reference:
         return text
 
 
-def load_bibliography(path: Path | str = BIBLIOGRAPHY) -> dict[str, Reference]:
+@dataclass(frozen=True)
+class Bibliography:
+    """The contents of configs/bibliography.yaml: key → entry."""
+
+    entries: dict[str, Reference]
+
+    def __getitem__(self, key: str) -> Reference:
+        return self.entries[key]
+
+
+def load_bibliography(path: Path | str = BIBLIOGRAPHY) -> Bibliography:
     """The bibliography, read strictly (ConfigError names the file, line and key)."""
     data = read_yaml(path)
     if not isinstance(data, dict) or "bibliography" not in data:
@@ -102,12 +112,13 @@ def load_bibliography(path: Path | str = BIBLIOGRAPHY) -> dict[str, Reference]:
     if len(data) > 1:
         extra = ", ".join(str(k) for k in data if k != "bibliography")
         raise ConfigError(f"{path}: only the section 'bibliography' is accepted, not {extra}")
-    entries = data["bibliography"]
     reader = StrictReader(str(path))
-    result = reader.read(entries, dict[str, Reference], "bibliography")
+    result = reader.read(data["bibliography"], Bibliography, "bibliography")
+    section = data["bibliography"]
+    entries = section.get("entries") if isinstance(section, dict) else None
     lines = getattr(entries, "lines", {})
-    for key, ref in result.items():
-        where = reader.where(f"bibliography.{key}", lines.get(key))
+    for key, ref in result.entries.items():
+        where = reader.where(f"bibliography.entries.{key}", lines.get(key))
         if not KEY_PATTERN.fullmatch(key):
             raise ConfigError(f"{where}: a key is lower-case letters, digits and hyphens (e.g. nuwer-1998-ifcn)")
         if (key in SPECIAL_KEYS) != (ref.kind == "special"):

@@ -41,7 +41,7 @@ AWAITING: dict[str, frozenset[str]] = {
     ),  # fmt: skip
 }
 
-BIBLIOGRAPHY = load_bibliography()
+BIBLIOGRAPHY = load_bibliography().entries
 
 
 @pytest.mark.parametrize("name", sorted(CONFIG_FILES))
@@ -152,7 +152,8 @@ def test_a_section_key_covers_nothing(tmp_path: Path) -> None:
 
 
 def _bib(tmp_path: Path, body: str) -> Path:
-    return _write(tmp_path, "bibliography:\n" + body)
+    indented = "".join("  " + line for line in body.splitlines(keepends=True))
+    return _write(tmp_path, "bibliography:\n  entries:\n" + indented)
 
 
 GOOD = (
@@ -165,8 +166,8 @@ GOOD = (
 @pytest.mark.parametrize(
     ("body", "message"),
     [
-        (GOOD + "    jounral: IEEE\n", r"some\.yaml, line 11: 'bibliography.welch-1967.jounral' is not a known setting; did you mean"),
-        (GOOD.replace("    year: 1967\n", ""), r"line 5: 'bibliography.welch-1967': an article entry needs year"),
+        (GOOD + "    jounral: IEEE\n", r"some\.yaml, line 12: 'bibliography.entries.welch-1967.jounral' is not a known setting; did you mean"),
+        (GOOD.replace("    year: 1967\n", ""), r"line 6: 'bibliography.entries.welch-1967': an article entry needs year"),
         (GOOD.replace("    note: chosen by us\n", "    note: chosen\n    year: 2020\n"), r"a special key has only a note; remove year"),
         (GOOD.replace("welch-1967", "Welch_1967"), r"a key is lower-case letters, digits and hyphens"),
         (GOOD.replace("welch-1967", "ours").replace("  ours:\n    kind: special\n    note: chosen by us\n", ""), r"'ours' is a special key; give it kind: special"),
@@ -174,6 +175,7 @@ GOOD = (
         (GOOD.replace("10.1109/", "doi:10.1109/"), r"is not a DOI"),
         (GOOD.replace("    year: 1967\n", "    year: 1967\n    kind: book\n"), r"key 'kind' appears twice"),
         (GOOD.replace("    kind: article\n", "    kind: paper\n"), r"accepted: 'article', 'guideline'"),
+        (GOOD.replace("year: 1967", "year: 3000"), r"'bibliography.entries.welch-1967.year' is 3000; accepted: 1800 to 2100"),
     ],
 )
 def test_a_bad_bibliography_is_a_clear_error(tmp_path: Path, body: str, message: str) -> None:
@@ -182,7 +184,7 @@ def test_a_bad_bibliography_is_a_clear_error(tmp_path: Path, body: str, message:
 
 
 def test_the_good_example_loads(tmp_path: Path) -> None:
-    refs = load_bibliography(_bib(tmp_path, GOOD))
+    refs = load_bibliography(_bib(tmp_path, GOOD)).entries
     assert refs["welch-1967"].citation() == "Welch PD. (1967). The use of fast Fourier transform. doi:10.1109/TAU.1967.1161901"
     with pytest.raises(ConfigError, match="missing top-level section 'bibliography'"):
         load_bibliography(_write(tmp_path, "other: {}\n"))
