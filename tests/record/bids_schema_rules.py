@@ -416,13 +416,47 @@ def _value_ok(definition: dict[str, Any], value: str) -> bool:
     return True
 
 
+def _check_table(report: Report, ctx: dict[str, Any], where: str, rule: Any) -> None:
+    """One tabular_data rule on one TSV file: initial columns in order, required columns,
+    additional columns, every cell against its column's definition, index uniqueness."""
+    path, header, cells = ctx["path"], ctx["_header"], ctx["columns"]
+    columns_def = SCHEMA.objects.columns
+    names = {key: columns_def[key]["name"] for key in rule["columns"]}
+    initial = [columns_def[key]["name"] for key in rule.get("initial_columns", [])]
+    if header[: len(initial)] != initial:
+        report.findings.append(
+            Finding("error", path, f"first columns {header[: len(initial)]} != {initial} ({where})")
+        )
+    for key, spec in rule["columns"].items():
+        if names[key] not in header and _level(spec) == "required":
+            report.findings.append(Finding("error", path, f"column {names[key]} is required ({where})"))
+    extra = [h for h in header if h not in names.values()]
+    additional = rule.get("additional_columns", "allowed")
+    if extra and additional in ("not_allowed", "allowed_if_defined"):
+        # allowed_if_defined: defined in a JSON sidecar of the table; bedside writes none.
+        report.findings.append(
+            Finding("error", path, f"columns {extra} not defined by the schema ({where}: {additional})")
+        )
+    for key, column in names.items():
+        if column not in header:
+            continue
+        definition = columns_def[key].to_dict()
+        bad = [v for v in cells[column] if not _value_ok(definition, v)]
+        if bad:
+            shown = {k: v for k, v in definition.items() if k not in ("description", "display_name")}
+            report.findings.append(Finding("error", path, f"column {column}: {bad[:3]} not accepted by {shown}"))
+    for key in rule.get("index_columns", []):
+        values = cells.get(columns_def[key]["name"], [])
+        if len(set(values)) != len(values):
+            report.findings.append(Finding("error", path, f"index column {key} not unique"))
+
+
 def validate_folder(root: Path) -> Report:
     """Apply the schema's sidecar, JSON, tabular and check rules to every file."""
     report = Report()
     dataset = _dataset(root)
     exists = _exists_in(root)
     metadata = SCHEMA.objects.metadata
-    columns_def = SCHEMA.objects.columns
     for ctx in contexts(root):
         ctx["dataset"] = dataset
         ev = Evaluator(ctx, exists)
@@ -453,41 +487,10 @@ def validate_folder(root: Path) -> Report:
                             Finding("error", path, f"{key}={content[key]!r}: {errors[0].message}")
                         )
         if "columns" in ctx:
-            header: list[str] = ctx["_header"]
             for where, rule in _rules("tabular_data", "columns"):
-                if not _selected(ev, rule):
-                    continue
-                if True:
+                if _selected(ev, rule):
                     report.rules_applied.add(where)
-                    names = {key: columns_def[key]["name"] for key in rule["columns"]}
-                    initial = [columns_def[key]["name"] for key in rule.get("initial_columns", [])]
-                    if header[: len(initial)] != initial:
-                        report.findings.append(
-                            Finding("error", path, f"first columns {header[: len(initial)]} != {initial} ({where})")
-                        )
-                    for key, spec in rule["columns"].items():
-                        level = _level(spec)
-                        if names[key] not in header and level == "required":
-                            report.findings.append(Finding("error", path, f"column {names[key]} is required ({where})"))
-                    extra = [h for h in header if h not in names.values()]
-                    additional = rule.get("additional_columns", "allowed")
-                    if extra and additional in ("not_allowed", "allowed_if_defined"):
-                        report.findings.append(
-                            Finding("error", path, f"columns {extra} not defined by the schema ({where}: {additional})")
-                        )
-                    for key, column in names.items():
-                        if column not in header:
-                            continue
-                        definition = columns_def[key].to_dict()
-                        bad = [v for v in ctx["columns"][column] if not _value_ok(definition, v)]
-                        if bad:
-                            report.findings.append(
-                                Finding("error", path, f"column {column}: {bad[:3]} not accepted by {definition}")
-                            )
-                    for key in rule.get("index_columns", []):
-                        values = ctx["columns"].get(columns_def[key]["name"], [])
-                        if len(set(values)) != len(values):
-                            report.findings.append(Finding("error", path, f"index column {key} not unique"))
+                    _check_table(report, ctx, where, rule)
         for where, rule in _rules("checks", "checks"):
             if not _selected(ev, rule):
                 continue
