@@ -350,7 +350,7 @@ def _exists_in(root: Path):
                 sub = ctx["path"].split("/")[1]
                 n += (root / sub / str(item)).exists()
             elif scope == "bids-uri":
-                n += 0
+                pass  # bedside writes no BIDS URIs: none can resolve
             else:
                 raise Unsupported(f"exists() scope {scope!r}")
         return n
