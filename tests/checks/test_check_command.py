@@ -1,7 +1,10 @@
 """``bedside check`` end to end on real LSL loopback streams from the simulator.
 
-Outside reference: the scenario's scripted fault list (ward_demo bridges O1–Oz from
-the start); the JSON shape and exit codes are those of the checks issue.
+Not an outside reference: the streams come from our simulator, and the expected faults
+are its own scripted fault list (ward_demo bridges O1–Oz from the start). These tests
+check the command's plumbing — the JSON shape and the exit codes the checks issue asks
+for — not whether a check is right; the checks are judged against outside sources
+elsewhere (for example MNE-Python's bridged-electrode measure in test_bridging.py).
 """
 
 from __future__ import annotations
