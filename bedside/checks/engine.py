@@ -316,9 +316,7 @@ class Engine:
         key = self._blocks.count
         if self._cache_key != key or self._cache is None:
             recent_blocks = max(1, round(self.settings.flat.flat_s / self.settings.block_s))
-            hop_s = self.settings.segment_s / 2
-            recent_segs = max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
-            recent = self._spec.recent(recent_segs) or spec
+            recent = self._spec.recent(self._recent_segments()) or spec
             self._cache = self._compute(self._blocks.stats(recent_blocks, self._raw), spec, recent)
             self._cache_key = key
         raw, reasons, per_check, metrics, findings = self._cache
@@ -339,6 +337,11 @@ class Engine:
             self._last_time, time.time(), chans, findings, health, self.settings.window_s,
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
+
+    def _recent_segments(self) -> int:
+        """Spectral segments in the newest line_noise.recent_s (the fast-reacting spectrum)."""
+        hop_s = self.settings.segment_s / 2
+        return max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
 
     def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[dict[str, str]]:
         """Per channel, its {check: level key} (shared prototypes: the caller copies them).
@@ -412,7 +415,10 @@ class Engine:
             "amplitude": artifacts.amplitude(stats, ctx, s),
             "correlation": correlation.evaluate(stats, ctx, s),
         }
-        results, shared = reference.evaluate(results, ctx, finite, s)
+        phasors = None
+        if self._mains_hz is not None:
+            phasors = self._spec.phasors(self._mains_hz, self._recent_segments())
+        results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors)
         # Samples that are not numbers: flag the channel clearly, drop its other verdicts
         # (they were computed on zero-filled data) and keep it out of everything shared.
         bad_nf = ~finite

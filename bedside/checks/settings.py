@@ -155,6 +155,7 @@ class CorrelationSettings:
 @dataclass(frozen=True)
 class ReferenceSettings:
     majority_fraction: float = field(default=0.7, metadata=_rng(0.5, 1.0))
+    shared_min: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     min_channels: int = field(default=4, metadata=_rng(2, 1000))
 
 
