@@ -1,9 +1,11 @@
 """Artifacts around the main checks: pops, clipping, muscle, excessive amplitude.
 
-* pops: a single-sample step far larger than the channel's typical step (median
-  over the window's blocks of the RMS step, and the RMS of the other steps in its
-  own block) and at least pop_step_min_uv — an
-  abrupt deflection isolated to one electrode (one published detector: Kobler et al. 2019; thresholds ours);
+* pops: a change over about 10 ms (pop_lag_s, on the analysis copy) far larger
+  than the channel's typical change (the median over the window's blocks of each
+  block's median change, and its own block's median) and at least pop_step_min_uv —
+  an abrupt deflection isolated to one electrode (one published detector: Kobler et
+  al. 2019; thresholds ours). Medians, so the pop's own samples do not raise the bar,
+  and muscle (many large changes in a block) does not count as pops;
 * clipping: share of samples in runs at the extreme value (or at the rail);
 * muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), after
   PREP's noisiness ratio (Bigdely-Shamlo et al. 2015, robust z > 5; PREP splits at
@@ -39,11 +41,11 @@ def _median_rows(a: np.ndarray) -> np.ndarray:
 
 def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
-    typical = _median_rows(stats.step_rms_uv)
-    # Isolated: far above the window's typical step and above the rest of its own block
-    # (muscle makes many large steps; a pop is one).
+    typical = _median_rows(stats.step_med_uv)
+    # Isolated: far above the window's typical change and its own block's (muscle makes
+    # many large changes; a pop is one).
     limit = np.maximum(
-        a.pop_step_min_uv, a.pop_step_ratio * np.maximum(typical, stats.step_rest_rms_uv)
+        a.pop_step_min_uv, a.pop_step_ratio * np.maximum(typical, stats.step_med_uv)
     )
     hits = stats.step_max_uv > limit
     count = hits.sum(axis=0).astype(float)
@@ -54,7 +56,7 @@ def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckRe
     reasons = {
         int(i): (
             f"{int(count[i])} electrode pop{'s' if count[i] > 1 else ''} in {window_s:.0f} s"
-            f" (step {biggest[i]:.0f} µV) — press the electrode gently, add gel or re-seat it"
+            f" (jump {biggest[i]:.0f} µV) — press the electrode gently, add gel or re-seat it"
         )
         for i in np.flatnonzero(level)
     }

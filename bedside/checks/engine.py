@@ -144,7 +144,8 @@ class Engine:
                                                settings.analysis.band_hz)
         self.analysis_rate_hz = self._analysis.rate_hz
         self.analysis_geometry = ga = Geometry.of(settings, self.analysis_rate_hz)
-        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz)
+        self._lag = max(1, round(settings.artifacts.pop_lag_s * self.analysis_rate_hz))
+        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
         self._raw = self._new_raw()
         self._a_pending = np.zeros((ga.block, c))
         self._n_a_pending = 0
@@ -250,7 +251,7 @@ class Engine:
     def reset(self) -> None:
         """Forget the window (after a gap or a reconnect: old data must not look live)."""
         g, ga, c = self.geometry, self.analysis_geometry, self.n_channels
-        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz)
+        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
         self._raw = self._new_raw()
         self._analysis.reset()
         self._n_a_pending = 0

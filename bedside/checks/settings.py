@@ -115,12 +115,13 @@ class BridgingSettings:
 
 @dataclass(frozen=True)
 class ArtifactSettings:
+    pop_lag_s: float = field(default=0.01, metadata=_rng(0.0, 0.1))
     pop_step_min_uv: float = field(default=50.0, metadata=_rng(0.0, 1e6))
     pop_step_ratio: float = field(default=10.0, metadata=_rng(1.0, 1e6))
     pop_check_count: int = field(default=1, metadata=_rng(1, 1000))
     pop_bad_count: int = field(default=3, metadata=_rng(1, 1000))
-    clip_run_s: float = field(default=0.05, metadata=_rng(0.0, 10.0))
-    clip_run_min_samples: int = field(default=5, metadata=_rng(2, 100000))
+    clip_run_s: float = field(default=0.02, metadata=_rng(0.0, 10.0))
+    clip_run_min_samples: int = field(default=4, metadata=_rng(2, 100000))
     clip_check_fraction: float = field(default=0.002, metadata=_rng(0.0, 1.0))
     clip_bad_fraction: float = field(default=0.02, metadata=_rng(0.0, 1.0))
     muscle_band_hz: tuple[float, float] = (50.0, 100.0)

@@ -38,9 +38,10 @@ class WindowStats:
     per block (cov_uv2 and pair_cov combine these); mean_uv, var_uv2, ptp_uv,
     max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
     change; clip_fraction: share of samples held in flat-topped runs at an
-    extreme or at the rail; step_max_uv: (n_blocks, C)
-    largest single-sample step per block; step_rms_uv: (n_blocks, C) RMS of the
-    steps per block; step_rest_rms_uv: the same without the largest step; nonfinite: (C,) NaN/±Inf samples in the window; recent_ptp_uv,
+    extreme or at the rail; step_max_uv: (n_blocks, C) largest change over
+    ``lag`` samples (about 10 ms) per block; step_med_uv: (n_blocks, C) the block's
+    median change over the lag; nonfinite: (C,) NaN/±Inf samples in the window;
+    recent_ptp_uv,
     recent_zero_diff_fraction: the same over the newest blocks only (fast reaction).
     """
 
@@ -57,8 +58,7 @@ class WindowStats:
     zero_diff_fraction: np.ndarray
     clip_fraction: np.ndarray
     step_max_uv: np.ndarray
-    step_rms_uv: np.ndarray
-    step_rest_rms_uv: np.ndarray
+    step_med_uv: np.ndarray
     nonfinite: np.ndarray
     recent_ptp_uv: np.ndarray
     recent_zero_diff_fraction: np.ndarray
@@ -98,22 +98,25 @@ class BlockStats:
         n_blocks: int,
         refresh_blocks: int,
         rate_hz: float,
+        lag: int = 1,
     ) -> None:
         c = n_channels
         self.block, self.n_blocks, self.rate_hz = block, n_blocks, rate_hz
+        self.lag = max(1, min(int(lag), block))
         self.refresh_blocks = max(1, refresh_blocks)
         self.means = np.zeros((n_blocks, c))
         self.m2 = np.zeros((n_blocks, c, c))
         self.maxs = np.zeros((n_blocks, c))
         self.mins = np.zeros((n_blocks, c))
         self.step_max = np.zeros((n_blocks, c))
-        self.step_ss = np.zeros((n_blocks, c))
+        self.step_med = np.zeros((n_blocks, c))
         self.zero_diffs = np.zeros((n_blocks, c))
         self.starts = np.zeros(n_blocks, dtype=np.int64)
         self.m2_sum = np.zeros((c, c))
         self.count = 0  # blocks seen since start
         self._last = np.zeros(c)  # last sample of the previous block (for steps)
         self._have_last = False
+        self._hist = np.zeros((0, c))  # the previous block's last ``lag`` samples (for jumps)
         self._since_refresh = 0
         # Work arrays, allocated once (fresh large arrays cost page faults every block).
         self._xc = np.zeros((block, c))
@@ -140,16 +143,23 @@ class BlockStats:
         steps[0] = x[0] - self._last if self._have_last else 0.0
         np.subtract(x[1:], x[:-1], out=steps[1:])
         st = steps[k0:]
-        # Signed steps: max |step| = max(max, −min), no |·| pass; a repeated value is a zero step.
-        step_max = np.maximum(steps.max(axis=0), -steps.min(axis=0))
-        if np.count_nonzero(st) < st.size:  # some channel repeats a value: count where
+        # Jumps over ``lag`` samples (about 10 ms): a pop's edge, band-limited by the
+        # analysis filter, spreads over a few samples; its change over the lag does not.
+        lag = self.lag
+        ext = np.concatenate((self._hist, x), axis=0) if len(self._hist) else x
+        jumps = np.abs(ext[lag:] - ext[:-lag]) if ext.shape[0] > lag else np.zeros((1, x.shape[1]))
+        step_max = jumps.max(axis=0)
+        half = jumps.shape[0] // 2
+        step_med = np.partition(jumps, half, axis=0)[half]  # the block's median jump
+        self._hist = x[x.shape[0] - lag :].copy()
+        if np.count_nonzero(st) < st.size:  # a repeated value is a zero step  # some channel repeats a value: count where
             n_still = (st == 0.0).sum(axis=0)
         else:
             n_still = np.zeros(x.shape[1], dtype=np.int64)
         self.means[slot] = mean
         self.maxs[slot], self.mins[slot] = mx, mn
         self.step_max[slot] = step_max
-        self.step_ss[slot] = np.einsum("ij,ij->j", steps, steps)
+        self.step_med[slot] = step_med
         self.zero_diffs[slot] = n_still
         self.starts[slot] = start_sample
         self._last = x[-1].copy()
@@ -208,10 +218,7 @@ class BlockStats:
             zero_diff_fraction=self.zero_diffs[order].sum(axis=0) / n,
             clip_fraction=raw.clip_fraction() if raw is not None else np.zeros(len(mean)),
             step_max_uv=self.step_max[order],
-            step_rms_uv=np.sqrt(self.step_ss[order] / b),
-            step_rest_rms_uv=np.sqrt(
-                np.maximum(self.step_ss[order] - self.step_max[order] ** 2, 0.0) / max(b - 1, 1)
-            ),
+            step_med_uv=self.step_med[order],
             nonfinite=raw.nonfinite() if raw is not None else np.zeros(len(mean)),
             recent_ptp_uv=self.maxs[recent].max(axis=0) - self.mins[recent].min(axis=0),
             recent_zero_diff_fraction=self.zero_diffs[recent].sum(axis=0) / (len(recent) * b),
