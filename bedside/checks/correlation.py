@@ -36,19 +36,17 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
     idx = np.flatnonzero(ctx.valid & (var > 0))
     if len(idx) < cs.min_channels:
         return CheckResult(NAME, {"corr_98": corr}, level)
-    r = within[np.ix_(idx, idx)]  # a copy: fancy indexing
-    sd = np.sqrt(np.diag(r))
-    r /= sd[:, None]
-    r /= sd[None, :]
-    np.abs(r, out=r)
+    sub = within if len(idx) == n else within[np.ix_(idx, idx)]
+    inv = 1.0 / np.sqrt(np.diag(sub))
+    r = np.abs(sub * np.outer(inv, inv))
     k = len(idx)
     np.fill_diagonal(r, -1.0)  # below every |r|: each row's own 1.0 sorts first, out of the way
     # The percentile of the k − 1 others as numpy.percentile's default (linear between
-    # order statistics), from a partial sort of just the two order statistics it needs.
+    # order statistics); a row sort is quicker than a two-point partition here.
     pos = cs.percentile / 100.0 * (k - 2)
     lo = int(np.floor(pos))
     hi = min(lo + 1, k - 2)
-    part = np.partition(r, sorted({lo + 1, hi + 1}), axis=1)
+    part = np.sort(r, axis=1)
     frac = pos - lo
     corr[idx] = part[:, lo + 1] * (1.0 - frac) + part[:, hi + 1] * frac
     level = levels_from(corr, cs.check_below, cs.bad_below, below=True)

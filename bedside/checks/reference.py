@@ -31,7 +31,7 @@ green while the fault is there, never a wall of red).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 
 import numpy as np
 
@@ -92,11 +92,12 @@ def evaluate(
     n_pool = int(pool.sum())
     if n_pool < rs.min_channels:
         return results, ()
-    covs: Mapping[str, np.ndarray | None] = {
-        "drift": None if stats is None else stats.block_dev_uv.T @ stats.block_dev_uv,
-        "pops": None if stats is None else stats.cov_uv2,
-        "amplitude": None if stats is None else stats.cov_uv2,
-        "line_noise": None if mains_phasors is None else _phasor_cov(mains_phasors),
+    # The evidence, computed only for a kind that a majority shows (most updates: none).
+    covs: Mapping[str, Callable[[], np.ndarray | None]] = {
+        "drift": lambda: None if stats is None else stats.block_dev_uv.T @ stats.block_dev_uv,
+        "pops": lambda: None if stats is None else stats.cov_uv2,
+        "amplitude": lambda: None if stats is None else stats.cov_uv2,
+        "line_noise": lambda: None if mains_phasors is None else _phasor_cov(mains_phasors),
     }
     out = dict(results)
     findings = []
@@ -111,7 +112,8 @@ def evaluate(
         if name == "flat":
             shared = hit
         else:
-            cov = covs.get(name)
+            make = covs.get(name)
+            cov = make() if make is not None else None
             if cov is None:
                 continue
             share, same_sign = share_of_common(cov, pool)
