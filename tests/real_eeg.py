@@ -61,6 +61,11 @@ def eegmmidb() -> Recording:
         ranges = tuple((float(f.getPhysicalMinimum(i)), float(f.getPhysicalMaximum(i))) for i in range(n))
         dims = {f.getPhysicalDimension(i) for i in range(n)}
     assert dims == {"uV"}, dims  # the file's own unit: µV
+    # The last data record is padded with zeros on every channel after the recording
+    # ended (0.8 s here): that is no EEG, and a flat tail on all 64 channels would be a
+    # fault of the file, not of the electrodes. Keep what was recorded.
+    recorded = np.flatnonzero(np.any(data != 0.0, axis=1))
+    data = data[: int(recorded[-1]) + 1]
     return Recording("EEGMMIDB S001R02", data, labels, ("EEG",) * n, rate, ranges)
 
 

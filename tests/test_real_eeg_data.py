@@ -13,7 +13,9 @@ def test_eegmmidb_file_is_the_published_one() -> None:
     digest = hashlib.md5(real_eeg.EEGMMIDB_EDF.read_bytes()).hexdigest()
     assert digest == "23ab41a3fa1cb522aac21aa2e4c35a70"
     rec = real_eeg.eegmmidb()
-    assert rec.data_uv.shape == (9760, 64) and rec.rate_hz == 160.0
+    # 61 one-second records (9760 samples) of which the last 128 samples are zero
+    # padding on every channel; the loader keeps the 9632 recorded samples (60.2 s).
+    assert rec.data_uv.shape == (9632, 64) and rec.rate_hz == 160.0
     assert rec.labels[:3] == ("Fc5.", "Fc3.", "Fc1.")  # BCI2000's dotted labels
     assert rec.physical_range_uv is not None and rec.physical_range_uv[0] == (-8092.0, 8092.0)
     # 1-µV steps (EDF integers over a ±8092 µV physical range): quantised data.

@@ -1,15 +1,22 @@
 """Artifacts around the main checks: pops, clipping, muscle, excessive amplitude.
 
-* pops: a single-sample step far larger than the channel's typical step (median
-  over the window's blocks of the RMS step, and the RMS of the other steps in its
-  own block) and at least pop_step_min_uv — an
-  abrupt deflection isolated to one electrode (one published detector: Kobler et al. 2019; thresholds ours);
+* pops: a change over about 10 ms (pop_lag_s, on the analysis copy) far larger
+  than the channel's typical change (the median over the window's blocks of each
+  block's median change, and its own block's median) and at least pop_step_min_uv —
+  an abrupt deflection isolated to one electrode (one published detector: Kobler et
+  al. 2019; thresholds ours). Medians, so the pop's own samples do not raise the bar,
+  and muscle (many large changes in a block) does not count as pops;
 * clipping: share of samples in runs at the extreme value (or at the rail);
-* muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), as in
-  PREP's noisiness ratio (Bigdely-Shamlo et al. 2015: robust z > 5), computed from
-  the shared spectrum; muscle is advisory (at most "check");
-* amplitude: RMS over the window (adult background 10–100 µV, from memory), and
-  PREP's deviation criterion (robust z of amplitude > 5), at most "check".
+* muscle: high-frequency amplitude over the EEG band's, √(P_hf / P_eeg), after
+  PREP's noisiness ratio (Bigdely-Shamlo et al. 2015, robust z > 5; PREP splits at
+  50 Hz with its own filters, our band edges are ours), computed from the shared
+  spectrum at the stream's rate — and only where the high-frequency amplitude
+  itself (muscle_uv, RMS in the band without the mains lines, scaled to a 50-Hz wide
+  band) reaches muscle_min_uv, so amplifier noise or a quiet lead with little EEG
+  never reads as muscle; advisory (at most "check");
+* amplitude: RMS over the window, and an outlier rule of our own after PREP's
+  deviation criterion (PREP: robust z > 5 of 0.7413·IQR; here the robust z of the
+  RMS), at most "check".
 """
 
 from __future__ import annotations
@@ -34,11 +41,11 @@ def _median_rows(a: np.ndarray) -> np.ndarray:
 
 def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
-    typical = _median_rows(stats.step_rms_uv)
-    # Isolated: far above the window's typical step and above the rest of its own block
-    # (muscle makes many large steps; a pop is one).
+    typical = _median_rows(stats.step_med_uv)
+    # Isolated: far above the window's typical change and its own block's (muscle makes
+    # many large changes; a pop is one).
     limit = np.maximum(
-        a.pop_step_min_uv, a.pop_step_ratio * np.maximum(typical, stats.step_rest_rms_uv)
+        a.pop_step_min_uv, a.pop_step_ratio * np.maximum(typical, stats.step_med_uv)
     )
     hits = stats.step_max_uv > limit
     count = hits.sum(axis=0).astype(float)
@@ -49,7 +56,7 @@ def pops(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckRe
     reasons = {
         int(i): (
             f"{int(count[i])} electrode pop{'s' if count[i] > 1 else ''} in {window_s:.0f} s"
-            f" (step {biggest[i]:.0f} µV) — press the electrode gently, add gel or re-seat it"
+            f" (jump {biggest[i]:.0f} µV) — press the electrode gently, add gel or re-seat it"
         )
         for i in np.flatnonzero(level)
     }
@@ -78,7 +85,8 @@ def muscle(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResu
     lo, hi = a.muscle_band_hz[0], min(a.muscle_band_hz[1], 0.9 * nyq)
     if hi <= lo:
         nan = np.full(n, np.nan)
-        return CheckResult("muscle", {"muscle_ratio": nan}, np.zeros(n, dtype=np.int8))
+        return CheckResult("muscle", {"muscle_ratio": nan, "muscle_uv": nan.copy(), "muscle_z": nan.copy()},
+                           np.zeros(n, dtype=np.int8))
     # The band without the mains lines (both candidates, fundamental and harmonics).
     bw = settings.line_noise.bandwidth_hz + 1.0
     edges = sorted(
@@ -94,17 +102,20 @@ def muscle(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResu
     p_hf = band_power(spec, bands)
     p_eeg = band_power(spec, [settings.eeg_band_hz])
     ratio = np.sqrt(p_hf / np.maximum(p_eeg, 1e-12))
+    width = sum(b - a_ for a_, b in bands)
+    hf_uv = np.sqrt(p_hf * (50.0 / max(width, 1e-9)))
     z = robust_z(ratio, ctx.valid)
     flag = ((z > a.muscle_z) & (ratio >= a.muscle_z_min_ratio)) | (ratio >= a.muscle_ratio_check)
+    flag &= hf_uv >= a.muscle_min_uv
     level = np.where(flag & ctx.valid, CHECK, GOOD).astype(np.int8)
     reasons = {
         int(i): (
-            f"muscle activity: high-frequency amplitude {ratio[i]:.1f}× the EEG band's"
+            f"muscle activity: {hf_uv[i]:.0f} µV above {lo:.0f} Hz, {ratio[i]:.1f}× the EEG band's"
             " — ask the patient to relax jaw and forehead; check the electrode is not on a muscle"
         )
         for i in np.flatnonzero(level)
     }
-    return CheckResult("muscle", {"muscle_ratio": ratio, "muscle_z": z}, level, reasons)
+    return CheckResult("muscle", {"muscle_ratio": ratio, "muscle_uv": hf_uv, "muscle_z": z}, level, reasons)
 
 
 def amplitude(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:

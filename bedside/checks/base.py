@@ -25,7 +25,8 @@ class Context:
     names: channel names in stream order; scalp: bool (n_channels,), takes part in
     scalp checks; valid: scalp channels fit for comparisons across channels (finite,
     not flat) — filled in by the engine after the flat and finite checks;
-    neighbours: index pairs (i, j), i < j; amplifier_range_uv: ±range when known;
+    neighbours: index pairs (i, j), i < j; rate_hz: the analysis copy's rate (the
+    rate of the time-domain statistics); amplifier_range_uv: ±range when known;
     mains_hz: the mains frequency in use (None while not yet detected).
     """
 

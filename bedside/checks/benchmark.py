@@ -44,10 +44,13 @@ log = logging.getLogger("bedside")
 
 CHANNELS = (21, 64, 128, 256)
 RATES_HZ = (256.0, 512.0, 1024.0, 2048.0)
+#: High-rate amplifiers (research and intracranial rates): rows beside the grid above.
+HIGH_RATE_ROWS = ((64, 8192.0), (64, 16384.0))
 
 #: Targets of the performance issue (printed beside the figures; not enforced by tests).
 TARGETS = {
     "core_share_256ch_2048hz": 0.05,
+    "core_share_64ch_16384hz": 0.05,
     "engine_over_floor": 3.0,
     "naive_over_engine_256ch": 10.0,
     "latency_fast_s": 2.0,  # line noise, flat, pops
@@ -74,12 +77,16 @@ def _grid_neighbours(names: list[str]) -> list[tuple[str, str]]:
 
 
 def _eeg_like(rng: np.random.Generator, n: int, c: int, rate_hz: float) -> np.ndarray:
-    """Benchmark data, (n, c) µV: independent 1/f²-like noise (~15 µV RMS) with a little
-    white noise and 1 µV of 50-Hz mains, as a clean recording looks to the checks."""
+    """Benchmark data, (n, c) µV: 1/f²-like noise (~15 µV RMS) shared by channels next to
+    each other (each the sum of three neighbouring sources, as scalp EEG is shared by
+    neighbouring electrodes), a little white noise and 1 µV of 50-Hz mains, as a clean
+    recording looks to the checks."""
     from scipy.signal import lfilter
 
     a = np.exp(-2 * np.pi * 3.0 / rate_hz)  # one pole at ~3 Hz
     x = lfilter([1.0], [1.0, -a], rng.normal(size=(n, c)), axis=0)
+    if c >= 3:
+        x = x + np.roll(x, 1, axis=1) + np.roll(x, -1, axis=1)
     x *= 15.0 / x.std()
     x += rng.normal(0.0, 0.5, size=(n, c))
     x += np.sin(2 * np.pi * 50.0 * np.arange(n) / rate_hz)[:, None]
@@ -193,12 +200,12 @@ def _reference_ms(window: np.ndarray, rate_hz: float, seg: int) -> float | None:
 
 def speed_table(quick: bool = False, settings: QualitySettings | None = None) -> list[dict[str, Any]]:
     rows = []
-    for c in CHANNELS:
-        for r in RATES_HZ:
-            rows.append(
-                speed_row(c, r, settings, updates=8 if quick else 40, naive_reps=2 if quick else 5,
-                          reference=not quick or (c, r) in ((21, 256.0), (256, 2048.0)))
-            )
+    grid = [(c, r) for c in CHANNELS for r in RATES_HZ] + list(HIGH_RATE_ROWS)
+    for c, r in grid:
+        rows.append(
+            speed_row(c, r, settings, updates=8 if quick else 40, naive_reps=2 if quick else 5,
+                      reference=not quick or (c, r) in ((21, 256.0), (256, 2048.0)))
+        )
     return rows
 
 

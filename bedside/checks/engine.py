@@ -1,10 +1,19 @@
 """The quality engine: new samples in, one QualityFrame per update out.
 
 Sample arrays are (n_samples, n_channels) in µV. ``push`` takes only the samples
-that arrived since the last call and summarises them incrementally (per block:
-window_stats.BlockStats; per completed spectral segment: spectrum.SpectralAccumulator),
-so an update costs about what the new samples require, not a recompute of the
-window. ``evaluate`` combines the window's statistics and its one shared spectrum,
+that arrived since the last call and summarises them incrementally, so an update
+costs about what the new samples require, not a recompute of the window:
+
+* at the stream's own rate, per block: unusable samples and clipping
+  (window_stats.RawStats), and the spectrum (spectrum.SpectralAccumulator: mains
+  and its harmonics, the muscle band);
+* on the analysis copy (analysis.AnalysisCopy: band-limited to 100 Hz and
+  decimated to one analysis rate), per block: the time-domain statistics and the
+  covariance (window_stats.BlockStats) behind flat, drift, pops, amplitude,
+  bridging and the reference — so these verdicts and their cost do not depend on
+  the amplifier's rate.
+
+ ``evaluate`` combines the window's statistics and its one shared spectrum,
 runs every check vectorised across channels, decides reference/ground findings,
 applies the hold and returns the frame.
 """
@@ -21,8 +30,10 @@ from itertools import repeat
 import numpy as np
 
 from bedside.checks import (
+    analysis,
     artifacts,
     bridging,
+    correlation,
     drift,
     flat,
     line_noise,
@@ -34,7 +45,7 @@ from bedside.checks.levels import FindingHold, LevelHold, combine
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import SpectralAccumulator, Spectrum
 from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
-from bedside.checks.window_stats import BlockStats, WindowStats
+from bedside.checks.window_stats import BlockStats, RawStats, WindowStats
 from bedside.errors import InputError, StreamFormatError
 from bedside.stream.types import ChannelInfo, StreamHealth
 
@@ -129,8 +140,16 @@ class Engine:
         self._scalp_list = [bool(v) for v in self.scalp]
         self.geometry = g = Geometry.of(settings, self.rate_hz)
         self.n_channels = c = len(channels)
-        rail = settings.flat.rail_fraction * amplifier_range_uv if amplifier_range_uv else None
-        self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
+        self._analysis = analysis.AnalysisCopy(c, self.rate_hz, settings.analysis.rate_hz,
+                                               settings.analysis.band_hz)
+        self.analysis_rate_hz = self._analysis.rate_hz
+        self.analysis_geometry = ga = Geometry.of(settings, self.analysis_rate_hz)
+        self._lag = max(1, round(settings.artifacts.pop_lag_s * self.analysis_rate_hz))
+        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
+        self._raw = self._new_raw()
+        self._a_pending = np.zeros((ga.block, c))
+        self._n_a_pending = 0
+        self._a_samples = 0
         self._spec = SpectralAccumulator(
             c, self.rate_hz, g.segment, g.n_segments,
             max(1, round(settings.refresh_s / (settings.segment_s / 2))), settings.spectrum_max_hz,
@@ -140,7 +159,8 @@ class Engine:
         self._samples = 0
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
-        self._bridge = bridging.BridgeDetector(c, self.rate_hz, self.neighbours, settings.bridging)
+        # Bridging judges the analysis copy (250–500 Hz): the same band, less work.
+        self._bridge = bridging.BridgeDetector(c, self.analysis_rate_hz, self.neighbours, settings.bridging)
         self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates,
                                settings.hold.relapse_window_s, settings.hold.relapse_hold_s)
         self._fhold = FindingHold(settings.hold.hold_s)
@@ -202,17 +222,42 @@ class Engine:
                     self._n_pending = 0
             pos += take
 
+    def _new_raw(self) -> RawStats:
+        s, g = self.settings, self.geometry
+        rail = s.flat.rail_fraction * self.amplifier_range_uv if self.amplifier_range_uv else None
+        run_min = max(s.artifacts.clip_run_min_samples, math.ceil(s.artifacts.clip_run_s * self.rate_hz))
+        return RawStats(self.n_channels, g.block, g.n_blocks, run_min, rail)
+
     def _add_block(self, x: np.ndarray) -> None:
-        clean = self._blocks.add_block(x, self._samples)
+        clean = self._raw.add_block(x)
         self._spec.add(clean)
-        self._bridge.add(clean)
         self._samples += x.shape[0]
+        y = self._analysis.add(clean)
+        self._bridge.add(y)
+        # The analysis copy in blocks of its own (the filter's outputs come in any count).
+        b = self.analysis_geometry.block
+        pos, n = 0, y.shape[0]
+        while pos < n:
+            take = min(b - self._n_a_pending, n - pos)
+            if self._n_a_pending == 0 and take == b:
+                self._blocks.add_block(y[pos : pos + b], self._a_samples)
+                self._a_samples += b
+            else:
+                self._a_pending[self._n_a_pending : self._n_a_pending + take] = y[pos : pos + take]
+                self._n_a_pending += take
+                if self._n_a_pending == b:
+                    self._blocks.add_block(self._a_pending, self._a_samples)
+                    self._a_samples += b
+                    self._n_a_pending = 0
+            pos += take
 
     def reset(self) -> None:
         """Forget the window (after a gap or a reconnect: old data must not look live)."""
-        g, c = self.geometry, self.n_channels
-        rail = self.settings.flat.rail_fraction * self.amplifier_range_uv if self.amplifier_range_uv else None
-        self._blocks = BlockStats(c, g.block, g.n_blocks, g.refresh_blocks, self.rate_hz, rail)
+        g, ga, c = self.geometry, self.analysis_geometry, self.n_channels
+        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
+        self._raw = self._new_raw()
+        self._analysis.reset()
+        self._n_a_pending = 0
         self._spec = SpectralAccumulator(
             c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments,
             self.settings.spectrum_max_hz,
@@ -232,6 +277,16 @@ class Engine:
     def data_time_s(self) -> float:
         """Seconds of data taken in (the engine's sample clock)."""
         return self._samples / self.rate_hz
+
+    @property
+    def analysis(self) -> analysis.AnalysisCopy:
+        """The analysis copy's filter (rate, decimation factor, taps)."""
+        return self._analysis
+
+    @property
+    def analysis_samples(self) -> int:
+        """Analysis-copy samples taken into complete blocks so far (the window ends there)."""
+        return self._a_samples
 
     @property
     def mains_hz(self) -> float | None:
@@ -257,7 +312,7 @@ class Engine:
         """The verdicts for the current window (level None when there is no live data)."""
         if health is not None and health.state != "live":
             return self.no_data(f"no data: stream {health.state}", health)
-        have_s = self._blocks.filled * self.geometry.block / self.rate_hz
+        have_s = self._blocks.filled * self.analysis_geometry.block / self.analysis_rate_hz
         spec = self._spec.spectrum()
         if have_s < self.settings.min_data_s or spec is None:
             return self.no_data(
@@ -266,10 +321,8 @@ class Engine:
         key = self._blocks.count
         if self._cache_key != key or self._cache is None:
             recent_blocks = max(1, round(self.settings.flat.flat_s / self.settings.block_s))
-            hop_s = self.settings.segment_s / 2
-            recent_segs = max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
-            recent = self._spec.recent(recent_segs) or spec
-            self._cache = self._compute(self._blocks.stats(recent_blocks), spec, recent)
+            recent = self._spec.recent(self._recent_segments()) or spec
+            self._cache = self._compute(self._blocks.stats(recent_blocks, self._raw), spec, recent)
             self._cache_key = key
         raw, reasons, per_check, metrics, findings = self._cache
         now = self.data_time_s
@@ -289,6 +342,11 @@ class Engine:
             self._last_time, time.time(), chans, findings, health, self.settings.window_s,
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
+
+    def _recent_segments(self) -> int:
+        """Spectral segments in the newest line_noise.recent_s (the fast-reacting spectrum)."""
+        hop_s = self.settings.segment_s / 2
+        return max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
 
     def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[dict[str, str]]:
         """Per channel, its {check: level key} (shared prototypes: the caller copies them).
@@ -323,7 +381,7 @@ class Engine:
         finite = stats.nonfinite == 0
         # Flat first, evaluated on every channel (non-scalp ones too: the light check).
         all_ctx = Context(
-            self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.rate_hz,
+            self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.analysis_rate_hz,
             s.window_s, self.amplifier_range_uv, self._mains_hz,
         )
         flat_res = flat.evaluate(stats, all_ctx, s)
@@ -339,14 +397,14 @@ class Engine:
                 self._mains_hz = found
                 log.info("mains frequency detected: %g Hz", found)
         ctx = Context(
-            self.names, self.scalp, valid, self.neighbours, self.rate_hz,
+            self.names, self.scalp, valid, self.neighbours, self.analysis_rate_hz,
             s.window_s, self.amplifier_range_uv, self._mains_hz,
         )
         memo_key = (*spec_key, self._mains_hz)
         if self._spectral is None or self._spectral[0] != memo_key:
             self._spectral = (
                 memo_key,
-                line_noise.evaluate(recent, ctx, s),
+                line_noise.evaluate(recent, ctx, s, spec),
                 artifacts.muscle(spec, ctx, s),
                 placement_sanity.evaluate(spec, self.names, valid, s),
             )
@@ -360,8 +418,12 @@ class Engine:
             "clipping": artifacts.clipping(stats, ctx, s),
             "muscle": muscle_res,
             "amplitude": artifacts.amplitude(stats, ctx, s),
+            "correlation": correlation.evaluate(stats, ctx, s),
         }
-        results, shared = reference.evaluate(results, ctx, finite, s)
+        phasors = None
+        if self._mains_hz is not None:
+            phasors = self._spec.phasors(self._mains_hz, self._recent_segments())
+        results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors)
         # Samples that are not numbers: flag the channel clearly, drop its other verdicts
         # (they were computed on zero-filled data) and keep it out of everything shared.
         bad_nf = ~finite

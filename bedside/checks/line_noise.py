@@ -1,19 +1,31 @@
-"""Line noise: mains power (fundamental and harmonics) against the EEG band.
+"""Line noise: the mains amplitude on each lead, against the other leads and the EEG band.
 
-Metric (ours; a dB ratio as commonly used): line_noise_db =
-10·log10(P_mains / P_eeg), P_mains the power within ±bandwidth of the mains
-frequency and its harmonics below Nyquist, P_eeg the power in the EEG band;
-mains_uv = amplitude of a sine carrying the power at the fundamental,
-√(2·P(f0 ± bw)); mains_peak_db = fundamental over its flanks. Mains detection:
-the stronger of 50/60 Hz over its flanks in the spectrum summed over the channels,
-when it stands ≥ detect_prominence_db out (approach of zapline-plus, Klug & Kloosterman 2022).
+Three rules, each judged per lead (the worst wins):
+
+* absolute: mains_uv, the amplitude of the sine at the mains frequency above the
+  spectrum's local background, √(2·(P(f0 ± bw) − background)), the background
+  being the flanks' power per bin. Broadband EEG or muscle near 50/60 Hz is not
+  mains. Thresholds in µV (ours, see configs/quality.yaml) — a lead with large EEG
+  can no longer hide large mains;
+* imbalance: mains_uv against the median lead's. Mains couples into every lead in
+  proportion to its electrode's impedance mismatch (Huhta & Webster 1973), so one
+  lead far above the median points to that electrode's contact;
+* ratio (ours; a dB ratio as commonly used): line_noise_db = 10·log10(P_mains /
+  P_eeg) over the fundamental and its harmonics below Nyquist, counted only when
+  the mains itself is at least ``ratio_min_uv`` (a lead with no EEG and a trace of
+  mains is a lead with no EEG: the flat and correlation checks speak for it).
+
+mains_peak_db = fundamental over its flanks. Mains detection: the stronger of
+50/60 Hz over its flanks in the spectrum summed over the channels (power-weighted,
+so one lead carrying mains is enough), when it stands ≥ detect_prominence_db out
+(approach of zapline-plus, Klug & Kloosterman 2022).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import CHECK, GOOD, CheckResult, Context, levels_from
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum, band_index
 
@@ -60,9 +72,10 @@ def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict
     p_fund = p[:, 0]
     p_eeg = p[:, nh]
     p_flank = p[:, nh + 1 :].sum(axis=1)
+    p_line = np.maximum(p_fund - p_flank * (n_fund / n_flank), 0.0)
     return {
         "line_noise_db": 10 * np.log10((p_mains + _TINY) / (p_eeg + _TINY)),
-        "mains_uv": np.sqrt(2.0 * p_fund),
+        "mains_uv": np.sqrt(2.0 * p_line),
         "mains_peak_db": 10 * np.log10((p_fund / n_fund + _TINY) / (p_flank / n_flank + _TINY)),
     }
 
@@ -82,27 +95,65 @@ def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) ->
     return best
 
 
-def evaluate(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResult:
+def _metrics(spec: Spectrum, ctx: Context, settings: QualitySettings) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    """The family metrics at the mains in use (or, not known yet, the worse family per
+    channel), mains_uv zeroed where no line stands out of its flanks; and f0 per channel."""
     ln = settings.line_noise
     if ctx.mains_hz is not None:
         m = family_metrics(spec, ctx.mains_hz, settings)
         f0s = np.full(len(ctx.names), ctx.mains_hz)
     else:
-        # Mains not known yet: judge each channel by the worse of the two families.
         m50 = family_metrics(spec, 50.0, settings)
         m60 = family_metrics(spec, 60.0, settings)
-        d50, d60 = m50["line_noise_db"], m60["line_noise_db"]
-        use60 = (d60 > d50) | (np.isnan(d50) & ~np.isnan(d60))  # NaN counts as the lower
+        a50, a60 = m50["mains_uv"], m60["mains_uv"]
+        use60 = (a60 > a50) | (np.isnan(a50) & ~np.isnan(a60))  # NaN counts as the lower
         m = {k: np.where(use60, m60[k], m50[k]) for k in m50}
         f0s = np.where(use60, 60.0, 50.0)
-    db = m["line_noise_db"]
-    level = levels_from(db, ln.check_db, ln.bad_db)
-    level[~ctx.valid] = GOOD  # flat or broken channels: no ratio to speak of
-    reasons = {
-        int(i): (
-            f"mains {db[i]:.0f} dB over EEG band ({m['mains_uv'][i]:.1f} µV at {f0s[i]:.0f} Hz)"
-            " — re-seat or re-prepare the electrode; keep mains cables away from the leads"
+    # A line must stand out of its flanks to be mains (broadband EEG or muscle near
+    # 50/60 Hz, estimated from a few segments, is not).
+    m["mains_uv"] = np.where(m["mains_peak_db"] >= ln.line_min_peak_db, m["mains_uv"], 0.0)
+    return m, f0s
+
+
+def evaluate(recent: Spectrum, ctx: Context, settings: QualitySettings,
+             window: Spectrum | None = None) -> CheckResult:
+    """recent: the newest segments (absolute amplitude and ratio react within ~2 s);
+    window: the whole window's spectrum for the comparison with the median lead (a
+    steadier estimate for a subtler finding; default: recent)."""
+    ln = settings.line_noise
+    m, f0s = _metrics(recent, ctx, settings)
+    amp, db = m["mains_uv"], m["line_noise_db"]
+    steady = _metrics(window, ctx, settings)[0]["mains_uv"] if window is not None else amp
+    valid = ctx.valid & np.isfinite(steady)
+    median = float(np.median(steady[valid])) if valid.any() else float("nan")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        vs_median = steady / max(median, ln.median_floor_uv)
+    imbalance = np.where((vs_median >= ln.imbalance_ratio) & (steady >= ln.imbalance_min_uv), CHECK, GOOD)
+    absolute = levels_from(amp, ln.check_uv, ln.bad_uv)
+    ratio = levels_from(db, ln.check_db, ln.bad_db)
+    ratio[amp < ln.ratio_min_uv] = GOOD
+    level = np.maximum(np.maximum(absolute, imbalance), ratio).astype(np.int8)
+    level[~ctx.valid] = GOOD  # flat or broken channels: no mains to speak of
+    reasons = {}
+    for i in np.flatnonzero(level):
+        parts = [f"mains {max(amp[i], steady[i]):.1f} µV at {f0s[i]:.0f} Hz"]
+        if imbalance[i]:
+            parts.append(
+                f"{vs_median[i]:.0f}× the median lead's {median:.1f} µV over {window_word(window)}:"
+                " this electrode's contact differs"
+            )
+        if ratio[i]:
+            parts.append(f"{db[i]:.0f} dB over its EEG band")
+        reasons[int(i)] = (
+            "; ".join(parts) + " — re-seat or re-prepare the electrode; keep mains cables away from the leads"
         )
-        for i in np.flatnonzero(level)
-    }
-    return CheckResult(NAME, m, level, reasons)
+    metrics = dict(m)
+    metrics["mains_vs_median"] = vs_median
+    return CheckResult(NAME, metrics, level, reasons)
+
+
+def window_word(spec: Spectrum | None) -> str:
+    """'the last 4 s' for a reason (the span the spectrum covers)."""
+    if spec is None or spec.nyquist <= 0:
+        return "the window"
+    return f"the last {spec.span[1] / (2.0 * spec.nyquist):.0f} s"

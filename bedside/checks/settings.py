@@ -35,6 +35,19 @@ def _order(section: str, low_name: str, low: float, high_name: str, high: float)
 
 
 @dataclass(frozen=True)
+class AnalysisSettings:
+    rate_hz: float = field(default=250.0, metadata=_rng(100.0, 2000.0))
+    band_hz: float = field(default=100.0, metadata=_rng(30.0, 500.0))
+
+    def __post_init__(self) -> None:
+        if not self.band_hz < self.rate_hz / 2:
+            raise ValueError(
+                f"'analysis.band_hz' ({self.band_hz:g}) must be below half of 'analysis.rate_hz' "
+                f"({self.rate_hz:g}): the analysis copy must carry its band"
+            )
+
+
+@dataclass(frozen=True)
 class HoldSettings:
     hold_s: float = field(default=1.0, metadata=_rng(0.0, 30.0))
     confirm_updates: int = field(default=1, metadata=_rng(1, 20))
@@ -49,11 +62,19 @@ class LineNoiseSettings:
     bandwidth_hz: float = field(default=1.0, metadata=_rng(0.1, 5.0))
     harmonics: int = field(default=3, metadata=_rng(1, 10))
     detect_prominence_db: float = field(default=4.0, metadata=_rng(0.0, 40.0))
+    line_min_peak_db: float = field(default=6.0, metadata=_rng(0.0, 60.0))
+    check_uv: float = field(default=10.0, metadata=_rng(0.0, 1e5))
+    bad_uv: float = field(default=20.0, metadata=_rng(0.0, 1e5))
+    imbalance_ratio: float = field(default=4.0, metadata=_rng(1.0, 1000.0))
+    imbalance_min_uv: float = field(default=5.0, metadata=_rng(0.0, 1e5))
+    median_floor_uv: float = field(default=0.5, metadata=_rng(0.01, 1e5))
     check_db: float = field(default=0.0, metadata=_rng(-40.0, 40.0))
     bad_db: float = field(default=10.0, metadata=_rng(-40.0, 60.0))
+    ratio_min_uv: float = field(default=3.0, metadata=_rng(0.0, 1e5))
 
     def __post_init__(self) -> None:
         _order("line_noise", "check_db", self.check_db, "bad_db", self.bad_db)
+        _order("line_noise", "check_uv", self.check_uv, "bad_uv", self.bad_uv)
 
 
 @dataclass(frozen=True)
@@ -70,10 +91,10 @@ class FlatSettings:
 
 @dataclass(frozen=True)
 class DriftSettings:
-    slope_check_uv_per_s: float = field(default=50.0, metadata=_rng(0.0, 1e6))
-    slope_bad_uv_per_s: float = field(default=200.0, metadata=_rng(0.0, 1e6))
-    slow_check_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
-    slow_bad_uv: float = field(default=200.0, metadata=_rng(0.0, 1e6))
+    slope_check_uv_per_s: float = field(default=120.0, metadata=_rng(0.0, 1e6))
+    slope_bad_uv_per_s: float = field(default=400.0, metadata=_rng(0.0, 1e6))
+    slow_check_uv: float = field(default=150.0, metadata=_rng(0.0, 1e6))
+    slow_bad_uv: float = field(default=400.0, metadata=_rng(0.0, 1e6))
     offset_check_fraction: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     offset_bad_fraction: float = field(default=0.9, metadata=_rng(0.0, 1.0))
 
@@ -108,20 +129,24 @@ class BridgingSettings:
 
 @dataclass(frozen=True)
 class ArtifactSettings:
+    pop_lag_s: float = field(default=0.01, metadata=_rng(0.0, 0.1))
     pop_step_min_uv: float = field(default=50.0, metadata=_rng(0.0, 1e6))
     pop_step_ratio: float = field(default=10.0, metadata=_rng(1.0, 1e6))
     pop_check_count: int = field(default=1, metadata=_rng(1, 1000))
     pop_bad_count: int = field(default=3, metadata=_rng(1, 1000))
+    clip_run_s: float = field(default=0.02, metadata=_rng(0.0, 10.0))
+    clip_run_min_samples: int = field(default=4, metadata=_rng(2, 100000))
     clip_check_fraction: float = field(default=0.002, metadata=_rng(0.0, 1.0))
     clip_bad_fraction: float = field(default=0.02, metadata=_rng(0.0, 1.0))
     muscle_band_hz: tuple[float, float] = (50.0, 100.0)
     muscle_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
     muscle_z_min_ratio: float = field(default=0.3, metadata=_rng(0.0, 100.0))
     muscle_ratio_check: float = field(default=1.0, metadata=_rng(0.0, 100.0))
-    rms_check_uv: float = field(default=100.0, metadata=_rng(0.0, 1e6))
-    rms_bad_uv: float = field(default=250.0, metadata=_rng(0.0, 1e6))
+    muscle_min_uv: float = field(default=20.0, metadata=_rng(0.0, 1e5))
+    rms_check_uv: float = field(default=150.0, metadata=_rng(0.0, 1e6))
+    rms_bad_uv: float = field(default=300.0, metadata=_rng(0.0, 1e6))
     deviation_z: float = field(default=5.0, metadata=_rng(0.0, 100.0))
-    deviation_min_rms_uv: float = field(default=60.0, metadata=_rng(0.0, 1e6))
+    deviation_min_rms_uv: float = field(default=120.0, metadata=_rng(0.0, 1e6))
 
     def __post_init__(self) -> None:
         _band("artifacts.muscle_band_hz", self.muscle_band_hz)
@@ -132,8 +157,20 @@ class ArtifactSettings:
 
 
 @dataclass(frozen=True)
+class CorrelationSettings:
+    percentile: float = field(default=98.0, metadata=_rng(50.0, 100.0))
+    check_below: float = field(default=0.25, metadata=_rng(0.0, 1.0))
+    bad_below: float = field(default=0.15, metadata=_rng(0.0, 1.0))
+    min_channels: int = field(default=4, metadata=_rng(3, 1000))
+
+    def __post_init__(self) -> None:
+        _order("correlation", "bad_below", self.bad_below, "check_below", self.check_below)
+
+
+@dataclass(frozen=True)
 class ReferenceSettings:
     majority_fraction: float = field(default=0.7, metadata=_rng(0.5, 1.0))
+    shared_min: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     min_channels: int = field(default=4, metadata=_rng(2, 1000))
 
 
@@ -160,12 +197,14 @@ class QualitySettings:
     max_rate_hz: float = field(default=20000.0, metadata=_rng(1.0, 1e6))
     eeg_band_hz: tuple[float, float] = (1.0, 40.0)
     spectrum_max_hz: float = field(default=250.0, metadata=_rng(50.0, 1e5))
+    analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     hold: HoldSettings = field(default_factory=HoldSettings)
     line_noise: LineNoiseSettings = field(default_factory=LineNoiseSettings)
     flat: FlatSettings = field(default_factory=FlatSettings)
     drift: DriftSettings = field(default_factory=DriftSettings)
     bridging: BridgingSettings = field(default_factory=BridgingSettings)
     artifacts: ArtifactSettings = field(default_factory=ArtifactSettings)
+    correlation: CorrelationSettings = field(default_factory=CorrelationSettings)
     reference: ReferenceSettings = field(default_factory=ReferenceSettings)
     placement: PlacementSettings = field(default_factory=PlacementSettings)
 

@@ -121,6 +121,9 @@ def _periodogram_cm(seg_cm: np.ndarray, w: np.ndarray, scale: float) -> np.ndarr
     return p
 
 
+#: Mains candidates whose complex spectrum is kept per segment (50 and 60 Hz).
+PHASOR_HZ = (50.0, 60.0)
+
 #: Channels transformed together (their FFT output, ~0.5 MB at 2 kHz, stays in cache).
 _GROUP = 32
 
@@ -158,6 +161,12 @@ class SpectralAccumulator:
         self._half = 1  # which half of _seg is being filled (the other holds the previous hop)
         self._have_prev = False
         self._ring = np.zeros((n_segments, n_channels, f))
+        # Complex (windowed) spectrum at the two mains candidates per segment: the phase
+        # tells one shared mains waveform (a reference or ground fault) from many.
+        self.phasor_hz = tuple(float(v) for v in PHASOR_HZ)
+        df = rate_hz / segment
+        self._phasor_bins = np.array([min(int(round(v / df)), f - 1) for v in self.phasor_hz])
+        self._phasors = np.zeros((n_segments, n_channels, len(self.phasor_hz)), dtype=np.complex128)
         self._ring_start = np.zeros(n_segments, dtype=np.int64)
         self._sum = np.zeros((n_channels, f))
         self._recent = np.zeros((n_channels, f))
@@ -194,9 +203,9 @@ class SpectralAccumulator:
             self._sum -= self._ring[slot]
         p = self._ring[slot]
         if self._freq_window:
-            self._periodogram_freq(p)
+            self._periodogram_freq(p, slot)
         else:
-            self._periodogram_time(p)
+            self._periodogram_time(p, slot)
         self._ring_start[slot] = self._sample - self.segment
         self._sum += p
         self.count += 1
@@ -205,7 +214,7 @@ class SpectralAccumulator:
         if self._since_refresh >= self.refresh_segments:
             self.refresh()
 
-    def _periodogram_freq(self, p: np.ndarray) -> None:
+    def _periodogram_freq(self, p: np.ndarray, slot: int) -> None:
         """Periodogram of the buffered segment into p (C, F), windowing in frequency.
 
         The periodic Hann window w[n] = ½ − ½·cos(2πn/N) has a DFT with three
@@ -220,7 +229,9 @@ class SpectralAccumulator:
         n = self._seg.shape[0]
         for c0 in range(0, n, _GROUP):
             c1 = min(n, c0 + _GROUP)
-            self._window_group(p[c0:c1], self._seg[c0:c1], self._side[: c1 - c0], self._tmp[: c1 - c0])
+            side = self._side[: c1 - c0]
+            self._window_group(p[c0:c1], self._seg[c0:c1], side, self._tmp[: c1 - c0])
+            self._phasors[slot, c0:c1] = side[:, self._phasor_bins]
 
     def _window_group(self, p: np.ndarray, seg: np.ndarray, side: np.ndarray, tmp: np.ndarray) -> None:
         kk = self._keep
@@ -243,7 +254,7 @@ class SpectralAccumulator:
         if self._has_nyquist_bin:
             p[:, -1] /= 2.0
 
-    def _periodogram_time(self, p: np.ndarray) -> None:
+    def _periodogram_time(self, p: np.ndarray, slot: int) -> None:
         """Periodogram of the buffered segment into p (C, F): detrend, window, FFT."""
         hop, seg, work, w = self.hop, self._seg, self._work, self.window
         old, new = (1, 0) if self._half == 0 else (0, 1)  # the just-filled half is the newer
@@ -252,6 +263,7 @@ class SpectralAccumulator:
         np.subtract(seg[:, new * hop : new * hop + hop], mean, out=work[:, hop:])
         work *= w
         spec = np.fft.rfft(work, axis=1, out=self._spec_c)[:, : self._keep]
+        self._phasors[slot] = spec[:, self._phasor_bins]
         np.square(spec.real, out=p)
         np.square(spec.imag, out=self._tmp)
         p += self._tmp
@@ -284,6 +296,21 @@ class SpectralAccumulator:
             psd /= k
             self._cached[key] = self._make(psd, self._ring_start[slots], k)
         return self._cached[key]
+
+    def phasors(self, f0_hz: float, k: int | None = None) -> np.ndarray | None:
+        """(K, C) complex spectrum at the bin of f0_hz (50 or 60) for the newest K
+        segments of the window (all of them by default), newest first; None when f0 is
+        not one of the candidates or no segment is complete. Within one segment the
+        channels share one phase reference, so the ratio of two channels' values is
+        their relative amplitude and phase at f0."""
+        if f0_hz not in self.phasor_hz:
+            return None
+        have = min(self.count, self.n_segments)
+        if have == 0:
+            return None
+        k = have if k is None else max(1, min(k, have))
+        slots = [(self.count - 1 - j) % self.n_segments for j in range(k)]
+        return np.asarray(self._phasors[slots, :, self.phasor_hz.index(f0_hz)])
 
     def spectrum(self) -> Spectrum | None:
         """Mean over every periodogram in the window (Welch's estimate)."""

@@ -27,16 +27,21 @@ import numpy as np
 class WindowStats:
     """The window's time-domain statistics, per channel unless stated.
 
+    Everything here is measured on the analysis copy (checks/analysis.py: band
+    limited to 100 Hz, at the analysis rate), except nonfinite and clip_fraction,
+    which RawStats counts on the stream's own samples.
+
     n_samples: samples in the window; block_means_uv: (n_blocks, C), oldest first;
     block_times_s: (n_blocks,) centre time of each block on the engine's sample
     clock; within_uv2: (C, C) sum of the blocks' scatter about their own means;
     block_dev_uv: (n_blocks, C) block means minus the window mean; block: samples
     per block (cov_uv2 and pair_cov combine these); mean_uv, var_uv2, ptp_uv,
     max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
-    change; clip_fraction: share of samples in runs at the block extreme (or at
-    the rail when the amplifier range is known); step_max_uv: (n_blocks, C)
-    largest single-sample step per block; step_rms_uv: (n_blocks, C) RMS of the
-    steps per block; step_rest_rms_uv: the same without the largest step; nonfinite: (C,) NaN/±Inf samples in the window; recent_ptp_uv,
+    change; clip_fraction: share of samples held in flat-topped runs at an
+    extreme or at the rail; step_max_uv: (n_blocks, C) largest change over
+    ``lag`` samples (about 10 ms) per block; step_med_uv: (n_blocks, C) the block's
+    median change over the lag; nonfinite: (C,) NaN/±Inf samples in the window;
+    recent_ptp_uv,
     recent_zero_diff_fraction: the same over the newest blocks only (fast reaction).
     """
 
@@ -53,8 +58,7 @@ class WindowStats:
     zero_diff_fraction: np.ndarray
     clip_fraction: np.ndarray
     step_max_uv: np.ndarray
-    step_rms_uv: np.ndarray
-    step_rest_rms_uv: np.ndarray
+    step_med_uv: np.ndarray
     nonfinite: np.ndarray
     recent_ptp_uv: np.ndarray
     recent_zero_diff_fraction: np.ndarray
@@ -94,26 +98,25 @@ class BlockStats:
         n_blocks: int,
         refresh_blocks: int,
         rate_hz: float,
-        rail_uv: float | None = None,
+        lag: int = 1,
     ) -> None:
         c = n_channels
         self.block, self.n_blocks, self.rate_hz = block, n_blocks, rate_hz
+        self.lag = max(1, min(int(lag), block))
         self.refresh_blocks = max(1, refresh_blocks)
-        self.rail_uv = rail_uv
         self.means = np.zeros((n_blocks, c))
         self.m2 = np.zeros((n_blocks, c, c))
         self.maxs = np.zeros((n_blocks, c))
         self.mins = np.zeros((n_blocks, c))
         self.step_max = np.zeros((n_blocks, c))
-        self.step_ss = np.zeros((n_blocks, c))
+        self.step_med = np.zeros((n_blocks, c))
         self.zero_diffs = np.zeros((n_blocks, c))
-        self.clipped = np.zeros((n_blocks, c))
-        self.nonfinite = np.zeros((n_blocks, c))
         self.starts = np.zeros(n_blocks, dtype=np.int64)
         self.m2_sum = np.zeros((c, c))
         self.count = 0  # blocks seen since start
         self._last = np.zeros(c)  # last sample of the previous block (for steps)
         self._have_last = False
+        self._hist = np.zeros((0, c))  # the previous block's last ``lag`` samples (for jumps)
         self._since_refresh = 0
         # Work arrays, allocated once (fresh large arrays cost page faults every block).
         self._xc = np.zeros((block, c))
@@ -123,18 +126,9 @@ class BlockStats:
     def filled(self) -> int:
         return min(self.count, self.n_blocks)
 
-    def add_block(self, x: np.ndarray, start_sample: int) -> np.ndarray:
-        """Summarise one block (block, C) µV; returns the block with NaN/Inf replaced by 0."""
-        with np.errstate(over="ignore", invalid="ignore"):
-            total = x.sum(axis=0)
-        if np.isfinite(total).all() and np.abs(total).max(initial=0.0) < ABSURD_UV * x.shape[0]:
-            nonfinite = np.zeros(x.shape[1])
-        else:  # NaN/±Inf or values at the numeric limits somewhere: count and zero them
-            with np.errstate(invalid="ignore"):
-                finite = np.isfinite(x) & (np.abs(x) < ABSURD_UV)
-            nonfinite = (~finite).sum(axis=0).astype(float)
-            x = np.where(finite, x, 0.0)
-            total = x.sum(axis=0)
+    def add_block(self, x: np.ndarray, start_sample: int) -> None:
+        """Summarise one block (block, C) µV of finite samples (RawStats cleaned them)."""
+        total = x.sum(axis=0)
         slot = self.count % self.n_blocks
         if self.count >= self.n_blocks:
             self.m2_sum -= self.m2[slot]
@@ -149,26 +143,24 @@ class BlockStats:
         steps[0] = x[0] - self._last if self._have_last else 0.0
         np.subtract(x[1:], x[:-1], out=steps[1:])
         st = steps[k0:]
-        # Signed steps: max |step| = max(max, −min), no |·| pass; a repeated value is a zero step.
-        step_max = np.maximum(steps.max(axis=0), -steps.min(axis=0))
-        if np.count_nonzero(st) < st.size:  # some channel repeats a value: count where
-            still = st == 0.0
-            n_still = still.sum(axis=0)
-            xs = x[k0:]
-            at_edge = (xs == mx) | (xs == mn)
-            clipped = (still & at_edge).sum(axis=0)
+        # Jumps over ``lag`` samples (about 10 ms): a pop's edge, band-limited by the
+        # analysis filter, spreads over a few samples; its change over the lag does not.
+        lag = self.lag
+        ext = np.concatenate((self._hist, x), axis=0) if len(self._hist) else x
+        jumps = np.abs(ext[lag:] - ext[:-lag]) if ext.shape[0] > lag else np.zeros((1, x.shape[1]))
+        step_max = jumps.max(axis=0)
+        half = jumps.shape[0] // 2
+        step_med = np.partition(jumps, half, axis=0)[half]  # the block's median jump
+        self._hist = x[x.shape[0] - lag :].copy()
+        if np.count_nonzero(st) < st.size:  # a repeated value is a zero step  # some channel repeats a value: count where
+            n_still = (st == 0.0).sum(axis=0)
         else:
             n_still = np.zeros(x.shape[1], dtype=np.int64)
-            clipped = np.zeros(x.shape[1], dtype=np.int64)
-        if self.rail_uv is not None:
-            clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
         self.means[slot] = mean
         self.maxs[slot], self.mins[slot] = mx, mn
         self.step_max[slot] = step_max
-        self.step_ss[slot] = np.einsum("ij,ij->j", steps, steps)
+        self.step_med[slot] = step_med
         self.zero_diffs[slot] = n_still
-        self.clipped[slot] = clipped
-        self.nonfinite[slot] = nonfinite
         self.starts[slot] = start_sample
         self._last = x[-1].copy()
         self._have_last = True
@@ -176,7 +168,6 @@ class BlockStats:
         self._since_refresh += 1
         if self._since_refresh >= self.refresh_blocks:
             self.refresh()
-        return x
 
     def refresh(self) -> None:
         """Re-sum the running scatter exactly from the ring (undoes rounding drift)."""
@@ -199,8 +190,9 @@ class BlockStats:
         first = self.count % self.n_blocks
         return (np.arange(self.n_blocks) + first) % self.n_blocks
 
-    def stats(self, recent_blocks: int = 4) -> WindowStats:
-        """Combine the ring into the window's statistics (recent_*: the newest blocks only)."""
+    def stats(self, recent_blocks: int = 4, raw: RawStats | None = None) -> WindowStats:
+        """Combine the ring into the window's statistics (recent_*: the newest blocks only;
+        NaN/Inf and clipping counts from ``raw``, the stream-rate pass, when given)."""
         order = self._order()
         recent = order[-max(1, min(recent_blocks, len(order))):]
         k = len(order)
@@ -224,13 +216,106 @@ class BlockStats:
             ptp_uv=maxs - mins,
             max_abs_uv=np.maximum(np.abs(maxs), np.abs(mins)),
             zero_diff_fraction=self.zero_diffs[order].sum(axis=0) / n,
-            clip_fraction=self.clipped[order].sum(axis=0) / n,
+            clip_fraction=raw.clip_fraction() if raw is not None else np.zeros(len(mean)),
             step_max_uv=self.step_max[order],
-            step_rms_uv=np.sqrt(self.step_ss[order] / b),
-            step_rest_rms_uv=np.sqrt(
-                np.maximum(self.step_ss[order] - self.step_max[order] ** 2, 0.0) / max(b - 1, 1)
-            ),
-            nonfinite=self.nonfinite[order].sum(axis=0),
+            step_med_uv=self.step_med[order],
+            nonfinite=raw.nonfinite() if raw is not None else np.zeros(len(mean)),
             recent_ptp_uv=self.maxs[recent].max(axis=0) - self.mins[recent].min(axis=0),
             recent_zero_diff_fraction=self.zero_diffs[recent].sum(axis=0) / (len(recent) * b),
         )
+
+
+class RawStats:
+    """What must be counted at the stream's own rate, before the analysis filter, per
+    block of ``block`` samples over the last ``n_blocks`` blocks (the same window):
+
+    * unusable samples (NaN, ±Inf, beyond ABSURD_UV), replaced by 0 for everything after;
+    * clipped samples: at or beyond the rail (``rail_uv``, from the amplifier's range or
+      the stream's numeric limits) and samples in a flat-topped run — at least
+      ``run_min`` consecutive identical samples at the extreme value of the newest data.
+      A window's maximum that merely occurs twice (1-µV steps in quantised data) is no
+      flat top; an amplifier at its limit holds the value for tens of milliseconds or
+      longer.
+    """
+
+    def __init__(self, n_channels: int, block: int, n_blocks: int, run_min: int,
+                 rail_uv: float | None = None) -> None:
+        c = n_channels
+        self.block, self.n_blocks = block, n_blocks
+        self.run_min = max(2, int(run_min))
+        self.rail_uv = rail_uv
+        self.nonfinite_ring = np.zeros((n_blocks, c))
+        self.clipped_ring = np.zeros((n_blocks, c))
+        self.sizes = np.zeros(n_blocks)
+        self.count = 0
+        # The last run_min − 1 samples of the previous block: runs across a block edge.
+        self._tail = np.zeros((0, c))
+
+    def add_block(self, x: np.ndarray) -> np.ndarray:
+        """Count one block (n, C) µV; returns it with unusable samples replaced by 0."""
+        with np.errstate(over="ignore", invalid="ignore"):
+            total = x.sum(axis=0)
+        if np.isfinite(total).all() and np.abs(total).max(initial=0.0) < ABSURD_UV * x.shape[0]:
+            nonfinite = np.zeros(x.shape[1])
+        else:  # NaN/±Inf or values at the numeric limits somewhere: count and zero them
+            with np.errstate(invalid="ignore"):
+                finite = np.isfinite(x) & (np.abs(x) < ABSURD_UV)
+            nonfinite = (~finite).sum(axis=0).astype(float)
+            x = np.where(finite, x, 0.0)
+        clipped = self._held(x)
+        if self.rail_uv is not None:
+            clipped = np.maximum(clipped, (np.abs(x) >= self.rail_uv).sum(axis=0))
+        slot = self.count % self.n_blocks
+        self.nonfinite_ring[slot] = nonfinite
+        self.clipped_ring[slot] = clipped
+        self.sizes[slot] = x.shape[0]
+        self.count += 1
+        keep = self.run_min - 1
+        if x.shape[0] >= keep:
+            self._tail = x[x.shape[0] - keep :].copy()
+        else:
+            self._tail = np.concatenate((self._tail, x), axis=0)[-keep:]
+        return x
+
+    def _held(self, x: np.ndarray) -> np.ndarray:
+        """(C,) samples of x in flat-topped runs (≥ run_min identical samples at the
+        extreme of the tail and x together); runs that began in the tail count only
+        their samples inside x."""
+        c = x.shape[1]
+        ext = np.concatenate((self._tail, x), axis=0) if len(self._tail) else x
+        off = ext.shape[0] - x.shape[0]
+        same = ext[1:] == ext[:-1]
+        if not same.any():  # float data: no two consecutive samples alike
+            return np.zeros(c)
+        mx, mn = ext.max(axis=0), ext.min(axis=0)
+        at_edge = (ext[1:] == mx) | (ext[1:] == mn)
+        held = same & at_edge  # held[k] True: sample k+1 repeats sample k at an extreme
+        if not held.any():
+            return np.zeros(c)
+        # Runs of True per channel (channel-major so runs never cross channels).
+        h = np.zeros((c, held.shape[0] + 2), dtype=np.int8)
+        h[:, 1:-1] = held.T
+        d = np.diff(h, axis=1)
+        ch_s, start = np.nonzero(d == 1)
+        _ch_e, end = np.nonzero(d == -1)
+        # A run of r repeats is r + 1 identical samples: samples start … end (in ext).
+        long = (end - start + 1) >= self.run_min
+        out = np.zeros(c)
+        if long.any():
+            first = np.maximum(start[long], off)  # samples before x were counted already
+            n_in = np.maximum(end[long] + 1 - first, 0)
+            np.add.at(out, ch_s[long], n_in)
+        return out
+
+    def _filled(self) -> int:
+        return min(self.count, self.n_blocks)
+
+    def nonfinite(self) -> np.ndarray:
+        k = self._filled()
+        return np.asarray(self.nonfinite_ring[:k].sum(axis=0)) if k else np.zeros(self.nonfinite_ring.shape[1])
+
+    def clip_fraction(self) -> np.ndarray:
+        k = self._filled()
+        if not k:
+            return np.zeros(self.clipped_ring.shape[1])
+        return np.asarray(self.clipped_ring[:k].sum(axis=0) / max(self.sizes[:k].sum(), 1.0))

@@ -208,6 +208,11 @@ def as_table(report: dict[str, Any]) -> str:
             f"engine/floor {big['engine/floor']:.1f} (≤ {t['engine_over_floor']}), "
             f"naive/engine {big['naive/engine']:.1f} (≥ {t['naive_over_engine_256ch']})"
         )
+    fast = next((r for r in report["speed"] if r["channels"] == 64 and r["rate_hz"] == 16384.0), None)
+    if fast:
+        lines.append(
+            f"target at 64 ch × 16384 Hz: core_share {fast['core_share']:.3f} (≤ {t['core_share_64ch_16384hz']})"
+        )
     lines += ["", "latency on the simulator (s; onset → non-good, end → good)",
               f"{'kind':<11} {'electrodes':<10} {'detect':>7} {'clear':>7}"]
     for r in report["latency"]:

@@ -105,7 +105,9 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
 
 def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], str]:
     """Engine keyword arguments from what the source knows of its channels (bridging
-    neighbours from the geometry, the amplifier's range), and a note on the geometry."""
+    neighbours from the geometry; the amplifier's range: from its profile — metadata,
+    ``--amplifier``, or on replay the file's physical range — else an integer stream's
+    numeric limits), and a note on the geometry."""
     from bedside.placement.layout import geometry_neighbours
     from bedside.stream.labels import load_labels
 
@@ -117,6 +119,10 @@ def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], s
     profile = getattr(source, "profile", None)
     if profile is not None and profile.input_range_uv:
         kwargs["amplifier_range_uv"] = profile.input_range_uv
+    else:  # an integer stream cannot go beyond its numeric limits: that is its rail
+        limit = getattr(source, "numeric_range_uv", None)
+        if isinstance(limit, float) and limit > 0:
+            kwargs["amplifier_range_uv"] = limit
     return kwargs, note
 
 

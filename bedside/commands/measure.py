@@ -23,7 +23,7 @@ from bedside.placement.bids import write_coordsystem_json, write_electrodes_tsv
 from bedside.placement.calculator import line_title, plan_placement
 from bedside.placement.model import HeadModel
 from bedside.placement.types import Mark, PlacementPlan
-from bedside.placement.validate import UNITS, parse_measurements
+from bedside.placement.validate import UNITS, parse_inferior_circumference, parse_measurements
 
 NAME = "measure"
 ORDER = 10
@@ -69,6 +69,15 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         required=True,
         help="round the head through Fpz, T3/T7, Oz, T4/T8 (the 10 %% level)",
     )
+    p.add_argument(
+        "--inferior-circumference",
+        metavar="LEN",
+        help=(
+            "optional, 10-10: round the head through the nasion, both preauricular points "
+            "and the inion; the inferior row (F9 … P10) is then marked from your tape "
+            "instead of the model's estimate"
+        ),
+    )
     p.add_argument("--system", choices=systems.SYSTEMS, default="10-20", help="default 10-20")
     p.add_argument(
         "--names",
@@ -92,7 +101,20 @@ def run(args: argparse.Namespace) -> int:
     measurements = parse_measurements(
         args.nasion_inion, args.preauricular, args.circumference, unit=args.unit
     )
-    plan = plan_placement(measurements, system=args.system, names=args.names)
+    inferior = None
+    if args.inferior_circumference is not None:
+        inferior = parse_inferior_circumference(
+            args.inferior_circumference, measurements, unit=args.unit
+        )
+        if args.system != "10-10":
+            print(
+                f"note: --inferior-circumference ({inferior:.1f} cm) is used by --system 10-10 "
+                f"(its inferior row F9 … P10); {args.system} has no site on that line",
+                file=sys.stderr,
+            )
+    plan = plan_placement(
+        measurements, system=args.system, names=args.names, inferior_circumference_cm=inferior
+    )
     if args.format == "json":
         out = json.dumps(plan_to_dict(plan, args.unit), indent=2, ensure_ascii=False)
     elif args.format == "csv":
@@ -131,6 +153,11 @@ def plan_to_dict(plan: PlacementPlan, unit: str = "cm") -> dict[str, object]:
             "nasion_inion_cm": round(m.nasion_inion_cm, 2),
             "preauricular_cm": round(m.preauricular_cm, 2),
             "circumference_cm": round(m.circumference_cm, 2),
+            "inferior_circumference_cm": (
+                None
+                if plan.inferior_circumference_cm is None
+                else round(plan.inferior_circumference_cm, 2)
+            ),
             "unit_given": unit,
         },
         "system": plan.system,
@@ -186,7 +213,12 @@ def plan_to_table(plan: PlacementPlan, unit: str = "cm") -> str:
     lines = [
         f"{plan.system} marks ({naming})",
         f"head: nasion–inion {m.nasion_inion_cm:.1f} cm, preauricular {m.preauricular_cm:.1f} cm, "
-        f"circumference {m.circumference_cm:.1f} cm",
+        f"circumference {m.circumference_cm:.1f} cm"
+        + (
+            f", inferior circumference {plan.inferior_circumference_cm:.1f} cm"
+            if plan.inferior_circumference_cm is not None
+            else ""
+        ),
     ]
     lengths = {
         "midline": f"from the nasion (Nz) over the vertex to the inion, {m.nasion_inion_cm:.1f} cm",
@@ -206,9 +238,16 @@ def plan_to_table(plan: PlacementPlan, unit: str = "cm") -> str:
         if line in lengths:
             title += f" — {lengths[line]}"
         elif line.startswith("inferior") and marks[0].arc_cm is not None:
-            title += (
-                f" — from Nz through T9/T10 level to Iz (model: {marks[0].arc_cm:.1f} cm round)"
-            )
+            if plan.inferior_circumference_cm is not None:
+                title += (
+                    f" — from Nz through T9/T10 level to Iz "
+                    f"(your tape: {marks[0].arc_cm:.1f} cm round)"
+                )
+            else:
+                title += (
+                    f" — from Nz through T9/T10 level to Iz (model estimate: "
+                    f"{marks[0].arc_cm:.1f} cm round; tape it and give --inferior-circumference)"
+                )
         lines.append(title)
         if line == "reference":
             for k in marks:

@@ -4,7 +4,9 @@ Public API::
 
     validate.parse_measurements(nasion_inion, preauricular, circumference, unit="cm")
         -> HeadMeasurements
-    calculator.plan_placement(measurements, system="10-20", names="modern") -> PlacementPlan
+    validate.parse_inferior_circumference(value, measurements, unit="cm") -> float (cm)
+    calculator.plan_placement(measurements, system="10-20", names="modern",
+                              *, inferior_circumference_cm=None) -> PlacementPlan
     neighbours_for(names, system="10-10") -> tuple[tuple[str, str], ...]
     positions_for(names, system="10-10") -> dict[str, (x, y, z) mm]
     project_2d(xyz_mm) -> (x, y) in [-1, 1]

@@ -5,7 +5,7 @@ the tape measurements (Jasper 1958 for 10-20; each step halved for 10-10, the mo
 combinatorial nomenclature — Chatrian 1985, AEEGS 1994, ACNS 2016): they do not
 depend on the head model. The model (:mod:`bedside.placement.model`) gives 3-D
 positions and the lengths of the arcs that are not measured (the rows through F3,
-P3 …, and the inferior circumference of 10-10).
+P3 …, and the inferior circumference of 10-10 when it was not taped).
 
 Walking order: midline (from the nasion), coronal line (from the left preauricular
 point), the circumference left then right (from Fpz), then — 10-10 only — the
@@ -25,7 +25,7 @@ from bedside.placement import systems
 from bedside.placement.model import FloatArray, HeadModel, fit_head
 from bedside.placement.neighbours import neighbour_pairs
 from bedside.placement.types import HeadMeasurements, Mark, PlacementPlan
-from bedside.placement.validate import parse_measurements
+from bedside.placement.validate import parse_inferior_circumference, parse_measurements
 
 #: Percent of each measured line where each site lies (modern names).
 #: Jasper 1958 (10-20) and the 10-10 nomenclature (from memory: each 20 % step halved).
@@ -141,11 +141,23 @@ class _Builder:
 
 
 def plan_placement(
-    measurements: HeadMeasurements, system: str = "10-20", names: str = "modern"
+    measurements: HeadMeasurements,
+    system: str = "10-20",
+    names: str = "modern",
+    *,
+    inferior_circumference_cm: float | None = None,
 ) -> PlacementPlan:
     """Every mark for ``system`` ("10-20" or "10-10") in the naming ``names``.
 
     measurements: checked tape measurements (see ``validate.parse_measurements``).
+    inferior_circumference_cm: optional fourth tape, round the head through the nasion,
+    both preauricular points and the inion (see ``validate.parse_inferior_circumference``).
+    10-10 only: the inferior row's distances (F9 … P10) are then its percentages of this
+    tape, as on the other measured lines; without it they are percentages of the model's
+    estimate, which on a real head can be 2–3 cm long (MNE-Python's Colin27 template:
+    63.3 cm on the model against about 60.6 cm on the head). The positions stay on the
+    model (three arcs fix its three half-axes; a fourth would no longer let it
+    reproduce all three tapes exactly). Ignored by 10-20, which has no inferior row.
     Returns a PlacementPlan: marks in walking order, positions_mm (x right, y front,
     z up; mm) per site, neighbour pairs, and the fitted HeadModel.
     Raises InputError for an unknown system or naming, MeasurementError when the
@@ -163,6 +175,11 @@ def plan_placement(
     # Built by hand rather than by parse_measurements? Check them the same way.
     m = parse_measurements(
         measurements.nasion_inion_cm, measurements.preauricular_cm, measurements.circumference_cm
+    )
+    inferior = (
+        None
+        if inferior_circumference_cm is None
+        else parse_inferior_circumference(inferior_circumference_cm, m)
     )
     model = fit_head(m.nasion_inion_cm, m.preauricular_cm, m.circumference_cm)
     ten = system == "10-10"
@@ -204,14 +221,20 @@ def plan_placement(
                 model.on_contour(pct / 100, side),
             )
     if ten:
-        lower_cm = model.circumference_mm(level=0.0) / 10.0
+        model_cm = model.circumference_mm(level=0.0) / 10.0
+        lower_cm = model_cm if inferior is None else inferior
+        where = (
+            f"the model puts it at {model_cm:.1f} cm; tape it for exact distances"
+            if inferior is None
+            else f"your tape: {inferior:.1f} cm"
+        )
         for side in ("left", "right"):
             prev = 0.0
             for site, pct in INFERIOR_10_10:
                 s = site if side == "left" else systems.mirror(site)
                 how = (
                     f"on a tape round the head through Nz, the preauricular points and Iz "
-                    f"(the model puts it at {lower_cm:.1f} cm): {pct} % of it from Nz"
+                    f"({where}): {pct} % of it from Nz"
                 )
                 prev = b.add(
                     s,
@@ -258,6 +281,7 @@ def plan_placement(
         neighbours=neighbour_pairs(positions, m.circumference_cm * 10.0),
         positions_mm=positions,
         model=model,
+        inferior_circumference_cm=inferior,
     )
 
 

@@ -2,8 +2,10 @@
 
 Sources:
 
-* 10-20: Jasper 1958 (the 19 scalp sites plus Fpz and Oz at 10 % of the midline;
-  ear references A1/A2); ACNS Guideline 2 (Acharya et al. 2016) keeps the 21 sites.
+* 10-20: Jasper 1958 — 21 electrodes: the 19 scalp sites plus the ear references
+  A1/A2. Fpz and Oz (10 % from each end of the midline) are measuring landmarks the
+  circumference starts and ends at; they are marked on the way and listed here too.
+  ACNS Guideline 2 (Acharya et al. 2016) keeps these names.
 * 10-10: the modified combinatorial nomenclature (Chatrian 1985; AEEGS Guideline 13,
   1994; ACNS Guideline 2, 2016). The list below is from memory: each 20 % step of the
   10-20 system halved, plus the inferior row F9/FT9/T9/TP9/P9 (and the right side) at
@@ -26,7 +28,17 @@ MODERN_TO_CLASSIC: dict[str, str] = {v: k for k, v in CLASSIC_TO_MODERN.items()}
 #: Reference sites: earlobes and mastoids are different places (not synonyms).
 REFERENCES: tuple[str, ...] = ("A1", "A2", "M1", "M2")
 
-#: The 21 sites of the 10-20 system (modern names), front to back.
+#: The 19 scalp sites of the 10-20 system (modern names), front to back.
+SCALP_10_20: tuple[str, ...] = (
+    "Fp1", "Fp2",
+    "F7", "F3", "Fz", "F4", "F8",
+    "T7", "C3", "Cz", "C4", "T8",
+    "P7", "P3", "Pz", "P4", "P8",
+    "O1", "O2",
+)  # fmt: skip
+
+#: What the 10-20 plan marks (modern names), front to back: the 19 scalp sites and the
+#: two measuring landmarks Fpz and Oz (21 names; the references come separately).
 SITES_10_20: tuple[str, ...] = (
     "Fp1", "Fpz", "Fp2",
     "F7", "F3", "Fz", "F4", "F8",

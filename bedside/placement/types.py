@@ -72,6 +72,8 @@ class PlacementPlan:
     marks: in the order a technologist walks the head (a site on two lines may
     appear once per line). neighbours: adjacent site pairs (names as in marks,
     each pair sorted, no duplicates). positions_mm: one position per site name.
+    inferior_circumference_cm: the taped inferior circumference (10-10's inferior
+    row), or None when it was not measured (the row then uses the model's estimate).
     """
 
     measurements: HeadMeasurements
@@ -81,3 +83,4 @@ class PlacementPlan:
     neighbours: tuple[tuple[str, str], ...]
     positions_mm: dict[str, tuple[float, float, float]] = field(default_factory=dict)
     model: object | None = None
+    inferior_circumference_cm: float | None = None

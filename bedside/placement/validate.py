@@ -13,6 +13,13 @@ preterm neonate to a large adult with a margin):
   36/35/56 cm): each arc between 45 % and 85 % of the circumference, the two arcs
   within a factor 1.35 of each other, and an ellipsoid with all three arcs must exist.
 
+* the optional inferior circumference (10-10: the tape round the head through the
+  nasion, both preauricular points and the inion) 18–70 cm like the circumference, and
+  between 90 % and 115 % of it (ours: the two tapes run only 10 % of the arcs apart
+  on one skull; on MNE-Python's Colin27 template the ratio is about 1.01, on a sphere
+  1/cos 18° = 1.05; a value outside that is the wrong line or the wrong unit, e.g. an
+  arc of 36 cm is 64 % of a 56-cm circumference).
+
 Likely unit mix-ups are named: a value ten times too large looks like millimetres
 (360 for 36 cm), one 2.54 times too small like inches (22 for 56 cm).
 """
@@ -42,7 +49,9 @@ class _Range:
 CIRCUMFERENCE = _Range("circumference", 18.0, 70.0)
 NASION_INION = _Range("nasion–inion arc", 11.0, 50.0)
 PREAURICULAR = _Range("preauricular arc", 11.0, 50.0)
+INFERIOR_CIRCUMFERENCE = _Range("inferior circumference", 18.0, 70.0)
 ARC_TO_CIRCUMFERENCE = (0.45, 0.85)
+INFERIOR_TO_CIRCUMFERENCE = (0.90, 1.15)
 ARC_RATIO_MAX = 1.35
 
 
@@ -77,7 +86,7 @@ def _fmt(x: float) -> str:
     return f"{x:g}" if abs(x) < 1e6 else f"{x:.3g}"
 
 
-def _in_range(value: float, unit: str, rng: _Range) -> float:
+def _in_range(value: float, unit: str, rng: _Range, together: str = "all three") -> float:
     """Convert to cm and check the size; name a likely unit mix-up."""
     cm = value * UNITS[unit]
     if rng.low_cm <= cm <= rng.high_cm:
@@ -97,8 +106,8 @@ def _in_range(value: float, unit: str, rng: _Range) -> float:
             same = f" = {as_cm:.1f} cm" if other != "cm" else ""
             msg += (
                 f"; it looks like {UNIT_WORDS[other]} ({_fmt(value)} {other}{same}): "
-                f"give all three in one unit — {as_cm / UNITS[unit]:.3g} {unit} here, or all "
-                f"three in {UNIT_WORDS[other]} with --unit {other}"
+                f"give {together} in one unit — {as_cm / UNITS[unit]:.3g} {unit} here, or "
+                f"{together} in {UNIT_WORDS[other]} with --unit {other}"
             )
             break
     raise MeasurementError(msg)
@@ -179,3 +188,32 @@ def _check_consistent(ni: float, pa: float, circ: float, unit: str) -> None:
 def _plausible(index: int, cm: float) -> bool:
     rng = (NASION_INION, PREAURICULAR, CIRCUMFERENCE)[index]
     return rng.low_cm <= cm <= rng.high_cm
+
+
+def parse_inferior_circumference(
+    value: object, measurements: HeadMeasurements, unit: str = "cm"
+) -> float:
+    """Check an optional taped inferior circumference and return it in cm.
+
+    value: the tape round the head through the nasion, both preauricular points and the
+    inion (10-10's inferior row F9 … P10 lies on it), in ``unit``; measurements: the
+    checked three (the circumference it is compared with). Raises MeasurementError
+    saying what was wrong and what is accepted.
+    """
+    if unit not in UNITS:
+        raise MeasurementError(
+            f"unit {unit!r} is not known; accepted: {', '.join(UNITS)} (centimetres by default)"
+        )
+    number = _number(value, INFERIOR_CIRCUMFERENCE, unit)
+    cm = _in_range(number, unit, INFERIOR_CIRCUMFERENCE, together="all four")
+    circ = measurements.circumference_cm
+    lo, hi = INFERIOR_TO_CIRCUMFERENCE
+    ratio = cm / circ
+    if not lo <= ratio <= hi:
+        raise MeasurementError(
+            f"the inferior circumference ({cm:.1f} cm) is {ratio:.0%} of the circumference "
+            f"({circ:.1f} cm); the tape through the nasion, the preauricular points and the "
+            f"inion is {lo:.0%}–{hi:.0%} of it on a head ({lo * circ:.1f}–{hi * circ:.1f} cm "
+            f"here); re-measure, and check both are in the same unit"
+        )
+    return cm

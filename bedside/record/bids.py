@@ -3,13 +3,21 @@
 Written into ``OUT/sub-<label>/[ses-<label>/]eeg/``:
 
 * ``…_task-<label>_channels.tsv``: ``name``, ``type``, ``units`` (required, in that
-  order), then ``status`` (good/bad/n/a) and ``status_description``, one row per stream
-  channel in stream order, named as the stream labels them (as the recording will);
+  order), then ``reference`` (what a voltage channel is referred to: the reference its
+  label names, e.g. A1 in ``T3-A1``, else the setup's reference; ``n/a`` when unknown or
+  not a voltage channel), ``status`` (good/bad/n/a) and ``status_description``, one row
+  per stream channel in stream order, named as the stream labels them (as the recording
+  will);
 * ``…_electrodes.tsv`` and ``…_coordsystem.json``: the plan's positions, written by
   :mod:`bedside.placement.bids`;
 * ``…_task-<label>_eeg.json``: ``TaskName``, ``EEGReference``, ``SamplingFrequency``,
   ``PowerLineFrequency``, ``SoftwareFilters`` (required) and, when known, ``EEGGround``,
-  ``EEGPlacementScheme``, ``HeadCircumference`` (cm), channel counts;
+  ``EEGPlacementScheme``, ``HeadCircumference`` (cm), channel counts. The BIDS schema
+  lets ``PowerLineFrequency`` and ``SoftwareFilters`` be ``"n/a"`` but requires
+  ``SamplingFrequency`` to be a number, so without a stream (no rate) this file is not
+  written and a warning says so. Each count is the number of channels.tsv rows of
+  exactly that type (the schema's checks count ``EOG`` rows for EOGChannelCount, not
+  HEOG/VEOG; ``MISC`` rows for MiscChannelCount);
 * ``OUT/dataset_description.json`` if the folder has none yet.
 
 These describe the recording made after the setup; the EEG data file itself comes from
@@ -37,9 +45,14 @@ from bedside.record.log import SetupLog
 log = logging.getLogger("bedside")
 
 BIDS_VERSION = "1.11.0"
-#: channels.tsv ``type`` values of BIDS 1.11 that bedside can produce (upper-case).
-CHANNEL_TYPES = ("EEG", "EOG", "ECG", "EMG", "MISC", "TRIG", "REF")
-CHANNEL_COLUMNS = ("name", "type", "units", "status", "status_description")
+#: channels.tsv ``type`` values of BIDS 1.11 that bedside can produce (upper-case): every
+#: kind the stream package gives a channel (bedside.stream.labels.KINDS). Checked against
+#: the BIDS schema's own list in tests/record/test_bids_schema.py.
+CHANNEL_TYPES = (
+    "EEG", "EOG", "HEOG", "VEOG", "ECG", "EMG", "TRIG", "MISC", "REF",
+    "GSR", "RESP", "PPG", "TEMP", "EYEGAZE", "PUPIL", "SYSCLOCK", "AUDIO",
+)  # fmt: skip
+CHANNEL_COLUMNS = ("name", "type", "units", "reference", "status", "status_description")
 
 _UNIT_WORDS = {
     # stream unit text (lower-case) → BIDS/CMIXF unit. XDF meta-data says "microvolts".
@@ -48,7 +61,8 @@ _UNIT_WORDS = {
     "volts": "V", "volt": "V", "v": "V",
     "nanovolts": "nV", "nv": "nV",
 }  # fmt: skip
-_VOLTAGE_KINDS = {"EEG", "EOG", "ECG", "EMG", "REF"}
+#: Kinds measured in volts (electrodes on the skin); their units default to µV.
+_VOLTAGE_KINDS = {"EEG", "EOG", "HEOG", "VEOG", "ECG", "EMG", "REF"}
 _LABEL_RE = re.compile(r"[A-Za-z0-9]+")
 
 
@@ -75,6 +89,11 @@ def _tsv_cell(value: object) -> str:
     return text or "n/a"
 
 
+def _bids_type(kind: str) -> str:
+    """The channels.tsv type of a stream kind (upper-case; MISC for one BIDS lacks)."""
+    return kind.upper() if kind.upper() in CHANNEL_TYPES else "MISC"
+
+
 def _units(kind: str, unit: str) -> str:
     mapped = _UNIT_WORDS.get(unit.strip().lower())
     if mapped:
@@ -86,13 +105,13 @@ def _units(kind: str, unit: str) -> str:
 
 def channels_rows(
     log_: SetupLog, *, check_status: Literal["n/a", "bad", "good"] = "n/a"
-) -> list[tuple[str, str, str, str, str]]:
-    """The channels.tsv rows (name, type, units, status, status_description)."""
+) -> list[tuple[str, str, str, str, str, str]]:
+    """The channels.tsv rows (name, type, units, reference, status, status_description)."""
     if log_.stream is None:
         return []
     rows = []
     for ch in log_.stream.channels:
-        kind = ch.kind.upper() if ch.kind.upper() in CHANNEL_TYPES else "MISC"
+        kind = _bids_type(ch.kind)
         final = log_.final.get(ch.name)
         if final is None:
             status, description = "n/a", "no live verdict during the setup check"
@@ -102,11 +121,13 @@ def channels_rows(
             description = f"setup check {word} at {final.at.strftime('%H:%M:%S')}"
             if final.reasons:
                 description += ": " + "; ".join(final.reasons)
+        reference = (ch.reference or log_.reference) if kind in _VOLTAGE_KINDS - {"REF"} else ""
         rows.append(
             (
                 _tsv_cell(ch.label or ch.name),
                 kind,
                 _units(kind, ch.unit),
+                _tsv_cell(reference),
                 status,
                 _tsv_cell(description),
             )
@@ -132,7 +153,11 @@ def eeg_sidecar(
     if log_.stream is not None and log_.stream.identity.nominal_rate_hz > 0:
         rate = float(log_.stream.identity.nominal_rate_hz)
     else:
-        warnings.append("SamplingFrequency unknown (no stream in the log): written as n/a")
+        warnings.append(
+            "SamplingFrequency unknown (no stream with a regular rate in the log): "
+            "_eeg.json not written (BIDS requires a number there)"
+        )
+    # The BIDS schema (objects.metadata.PowerLineFrequency) accepts a number > 0 or "n/a".
     mains: float | str = power_line_hz or log_.power_line_hz or "n/a"
     if mains == "n/a":
         warnings.append("PowerLineFrequency unknown (set it with --line-freq 50 or 60): written as n/a")
@@ -153,16 +178,18 @@ def eeg_sidecar(
     if log_.plan is not None:
         sidecar["HeadCircumference"] = float(log_.plan.measurements.circumference_cm)
     if log_.stream is not None:
-        kinds = [c.kind.upper() for c in log_.stream.channels]
+        # The types exactly as channels.tsv writes them: the schema checks each count
+        # against count(channels.type, TYPE).
+        kinds = [_bids_type(c.kind) for c in log_.stream.channels]
         for key, kind in (
             ("EEGChannelCount", "EEG"),
             ("EOGChannelCount", "EOG"),
             ("ECGChannelCount", "ECG"),
             ("EMGChannelCount", "EMG"),
             ("TriggerChannelCount", "TRIG"),
+            ("MiscChannelCount", "MISC"),
         ):
             sidecar[key] = kinds.count(kind)
-        sidecar["MiscChannelCount"] = sum(1 for k in kinds if k not in CHANNEL_TYPES or k in ("MISC", "REF"))
     sidecar["SoftwareVersions"] = f"bedside {log_.software_version or __version__} (setup check)"
     return sidecar, warnings
 
@@ -209,7 +236,8 @@ def write_bids(
         log_, task=task, reference=reference, ground=ground, power_line_hz=power_line_hz
     )
     warnings += more
-    planned[folder / f"{task_stem}_eeg.json"] = json.dumps(sidecar, indent=2, ensure_ascii=False) + "\n"
+    if sidecar["SamplingFrequency"] != "n/a":
+        planned[folder / f"{task_stem}_eeg.json"] = json.dumps(sidecar, indent=2, ensure_ascii=False) + "\n"
     electrodes = folder / f"{stem}_electrodes.tsv"
     coordsystem = folder / f"{stem}_coordsystem.json"
     positions = _electrode_positions(log_)

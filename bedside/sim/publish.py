@@ -77,6 +77,7 @@ class OutletSpec:
     cap: tuple[tuple[str, str], ...] = ()  # (key, value) under desc/cap
     reference: str = ""
     extra: tuple[tuple[str, str], ...] = field(default=())  # desc/bedside/{key}
+    input_range_uv: float | None = None  # desc/acquisition/input_range_uv (bedside's own key)
 
     @property
     def n_channels(self) -> int:
@@ -127,6 +128,8 @@ def build_stream_info(spec: OutletSpec) -> Any:
     acq = desc.append_child("acquisition")
     acq.append_child_value("manufacturer", spec.manufacturer)
     acq.append_child_value("model", spec.model)
+    if spec.input_range_uv is not None:
+        acq.append_child_value("input_range_uv", f"{spec.input_range_uv:g}")
     if spec.extra:
         extra = desc.append_child("bedside")
         for key, value in spec.extra:

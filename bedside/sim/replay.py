@@ -19,6 +19,7 @@ Voltage units are sent in the XDF spelling ("microvolts", "millivolts", "volts",
 from __future__ import annotations
 
 import logging
+import math
 import socket
 from dataclasses import dataclass
 from pathlib import Path
@@ -68,6 +69,10 @@ class Recording:
     channels: tuple[ChannelSpec, ...]
     data: np.ndarray
     skipped: tuple[str, ...] = ()
+    #: ± input range in µV where the file declares one (EDF/BDF: the physical minimum and
+    #: maximum, the smallest over the voltage channels); published so that clipping at the
+    #: file's limits is judged against them.
+    input_range_uv: float | None = None
 
     @property
     def n_samples(self) -> int:
@@ -133,7 +138,29 @@ def _load_edf(path: Path) -> Recording:
     channels = tuple(
         ChannelSpec(s.label.strip(), xdf_unit(s.physical_dimension), _type_of(s.label)) for s in keep
     )
-    return Recording(path, "BDF" if bdf else "EDF", best, channels, data, skipped)
+    return Recording(path, "BDF" if bdf else "EDF", best, channels, data, skipped,
+                     _physical_range_uv(keep, channels))
+
+
+def _physical_range_uv(signals: list[Any], channels: tuple[ChannelSpec, ...]) -> float | None:
+    """The smallest ±range (µV) over the voltage signals' physical minimum and maximum."""
+    from bedside.stream.units import scale_to_uv, unit_kind
+
+    ranges = []
+    for sig, ch in zip(signals, channels, strict=True):
+        if unit_kind(ch.unit) is not None or not ch.unit:
+            continue  # not a voltage, or no unit to scale by
+        try:
+            scale, note = scale_to_uv(ch.unit)
+            if note:
+                continue  # a unit not understood: no range to trust
+            lo, hi = float(sig.physical_min), float(sig.physical_max)
+        except (AttributeError, TypeError, ValueError):
+            continue
+        r = min(abs(lo), abs(hi)) * scale
+        if math.isfinite(r) and r > 0:
+            ranges.append(r)
+    return min(ranges) if ranges else None
 
 
 def _load_xdf(path: Path) -> Recording:
@@ -220,6 +247,7 @@ def recording_spec(rec: Recording, name: str | None = None, source_id: str | Non
         manufacturer="bedside",
         model=f"replay of {rec.format}",
         extra=(("file", rec.path.name), ("format", rec.format)),
+        input_range_uv=rec.input_range_uv,
     )
 
 

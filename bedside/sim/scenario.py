@@ -74,8 +74,10 @@ FAULT_DEFAULTS: dict[str, dict[str, float]] = {
     "line_noise": {"amplitude_uv": 40.0, "harmonics": 3},
     # A dead channel: amplifier noise only (IFCN 1998: < 1.5 µV p-p amplifier noise).
     "flat": {"noise_uv": 0.2},
-    # A drying or moving electrode: slow wander plus a growing offset.
-    "drift": {"amplitude_uv": 150.0, "slope_uv_per_s": 15.0, "offset_uv": 0.0},
+    # A drying or moving electrode: slow wander plus a growing offset (ours: well beyond
+    # the eye-movement wander of clean frontal leads in real EEG, at most 94 µV as the
+    # SD of 0.25-s means in EEGMMIDB S001R02).
+    "drift": {"amplitude_uv": 400.0, "slope_uv_per_s": 15.0, "offset_uv": 0.0},
     # A gel bridge: both electrodes see one signal; only a little independent noise.
     "bridge": {"residual_uv": 0.5},
     # Electrode pops: steps of a few hundred µV decaying over a fraction of a second.

@@ -298,6 +298,16 @@ class LslSource:
         """The amplifier's coupling and input range, where known."""
         return self._profile
 
+    @property
+    def numeric_range_uv(self) -> float | None:
+        """± the largest value an integer stream can carry, in µV (the smallest over the
+        scalp channels' scales); None for float streams, whose limits are no EEG's."""
+        if self._dtype is None or not np.issubdtype(self._dtype, np.integer):
+            return None
+        top = float(np.iinfo(np.dtype(self._dtype)).max)  # type: ignore[type-var]
+        scales = [abs(c.scale_to_uv) for c in self._channels if c.is_scalp and c.scale_to_uv]
+        return top * min(scales) if scales else None
+
     def _check_units(self, samples_uv: np.ndarray) -> None:
         """Once, over the first unit_check_s of data: do µV values look like V or mV?"""
         self._unit_seen.append(samples_uv)

@@ -119,9 +119,10 @@ def test_robust_z_matches_scipy_mad() -> None:
 
 
 def test_prep_deviation_flags_a_loud_channel_as_check() -> None:
-    """PREP deviation criterion: robust z of amplitude > 5 → at least 'check'."""
+    """Our outlier rule after PREP's deviation criterion (Bigdely-Shamlo 2015: robust z of
+    amplitude > 5): robust z of the RMS > 5 and at least deviation_min_rms_uv → 'check'."""
     x = _clean()
-    x[:, _idx("T8")] *= 5.0  # 75 µV RMS: under the absolute limit, far above the others
+    x[:, _idx("T8")] *= 9.0  # 135 µV RMS: under the absolute limit, far above the others
     frame = feed(make_engine(), x)[-1]
     t8 = by_name(frame, "T8")
     assert t8.checks["amplitude"] == "check"

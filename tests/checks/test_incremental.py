@@ -6,6 +6,10 @@ streaming with large DC offsets and changing amplitude, the window's covariance,
 variance and PSD agree with a full recompute by numpy.cov / scipy.signal.welch
 (outside references) to 1e-9 relative, and the verdicts and metrics equal those of
 a fresh engine given only the window's samples.
+
+The time-domain statistics are those of the analysis copy (the stream band-limited
+by the engine's FIR filter); the reference for them is that copy computed with
+scipy.signal.lfilter (tests/checks/helpers.analysis_copy).
 """
 
 from __future__ import annotations
@@ -14,7 +18,7 @@ import numpy as np
 import pytest
 from scipy.signal import welch
 
-from .helpers import TEN_TWENTY, by_name, eeg_like, feed, make_engine
+from .helpers import TEN_TWENTY, analysis_copy, by_name, eeg_like, feed, make_engine
 
 RATE = 256.0
 RTOL = 1e-9
@@ -41,7 +45,8 @@ def streamed() -> tuple[np.ndarray, object, object]:
 def test_covariance_equals_numpy_cov(streamed) -> None:  # type: ignore[no-untyped-def]
     x, eng, _frame = streamed
     stats = eng.window_stats()
-    window = x[len(x) - stats.n_samples :]
+    end = eng.analysis_samples
+    window = analysis_copy(eng, x)[end - stats.n_samples : end]
     ref = np.cov(window, rowvar=False)
     np.testing.assert_allclose(stats.cov_uv2, ref, rtol=RTOL, atol=RTOL * np.abs(ref).max())
     np.testing.assert_allclose(stats.var_uv2, window.var(axis=0, ddof=1), rtol=RTOL)
@@ -60,8 +65,16 @@ def test_psd_equals_scipy_welch_after_many_refreshes(streamed) -> None:  # type:
 def test_verdicts_equal_a_fresh_engine_on_the_window(streamed) -> None:  # type: ignore[no-untyped-def]
     x, eng, frame = streamed
     n = eng.window_stats().n_samples
+    # Start the fresh engine early enough for both windows (the analysis copy's and the
+    # spectrum's), on a boundary of the segments, blocks and decimation alike: its rings
+    # then hold exactly the samples the long-running engine's rings hold.
+    q = eng.analysis.q
+    hop = eng.geometry.segment // 2
+    start = min(eng.spectrum().span[0], (eng.analysis_samples - n) * q)
+    step = int(np.lcm.reduce([hop, eng.geometry.block, eng.analysis_geometry.block * q]))
+    start = start // step * step
     fresh = make_engine()
-    fresh.push(x[len(x) - n :], np.arange(n) / RATE)
+    fresh.push(x[start:], (start + np.arange(len(x) - start)) / RATE)
     ref = fresh.evaluate()
     # Bridging is not a function of the 4-s window: it band-passes with a filter state
     # and votes over its own epochs (bridging.BridgeDetector); its incremental sums are

@@ -90,7 +90,7 @@ def test_engine_flags_mains_channel_and_detects_50_hz() -> None:
     assert levels["Fp1"] == "bad"
     assert levels["Fp2"] == "good"
     reason = next(c for c in frame.channels if c.name == "Fp1").reasons[0]
-    assert "dB over EEG band" in reason and "re-seat" in reason
+    assert "mains 8" in reason and "dB over its EEG band" in reason and "re-seat" in reason
 
 
 def test_fast_rate_keeps_only_the_bins_the_checks_use() -> None:

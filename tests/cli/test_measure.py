@@ -1,7 +1,8 @@
 """``bedside measure``: the table, JSON, CSV and BIDS outputs; clear errors; fuzzed options.
 
-Expected distances are the Jasper 1958 worked example (hand arithmetic):
-Nz–Iz 36 cm -> Fz 10.8 cm; circumference 56 cm -> T7 14.0 cm from Fpz.
+Expected distances are Jasper 1958's percentages applied by hand to our example head
+(36/35/56 cm, not an example from the paper): Nz–Iz 36 cm -> Fz 10.8 cm; circumference
+56 cm -> T7 14.0 cm from Fpz.
 """
 
 from __future__ import annotations
@@ -126,6 +127,72 @@ def test_bad_input_is_error_exit_2(
     assert "error:" in err and needle in err and "Traceback" not in err
 
 
+def test_inferior_circumference_marks_the_inferior_row(capsys: pytest.CaptureFixture[str]) -> None:
+    """10-10 inferior row (F9 15 %, FT9 20 %, T9 25 %, TP9 30 %, P9 35 % of the tape through
+    Nz, T9 and Iz from Nz; the nomenclature's halved steps, from memory). Hand arithmetic
+    for a taped 57 cm: 8.55 -> 8.6, 11.4, 14.25 -> 14.3, 17.1, 19.95 -> 20.0 cm (halves
+    up, as a tape is read)."""
+    code, out, err = _run(
+        capsys, *BASE, "--system", "10-10", "--inferior-circumference", "57", "--format", "json"
+    )
+    assert code == 0 and err == ""
+    doc = json.loads(out)
+    assert doc["measurements"]["inferior_circumference_cm"] == 57.0
+    left = {m["name"]: m for m in doc["marks"] if m["line"] == "inferior-left"}
+    assert {k: v["distance_cm"] for k, v in left.items()} == {
+        "F9": 8.6, "FT9": 11.4, "T9": 14.3, "TP9": 17.1, "P9": 20.0,
+    }  # fmt: skip
+    assert all(v["arc_cm"] == 57.0 and "your tape: 57.0 cm" in v["how"] for v in left.values())
+    right = {m["name"]: m["distance_cm"] for m in doc["marks"] if m["line"] == "inferior-right"}
+    assert right == {"F10": 8.6, "FT10": 11.4, "T10": 14.3, "TP10": 17.1, "P10": 20.0}
+    # the same in millimetres, like the other three
+    code, out, _ = _run(
+        capsys, "measure", "--nasion-inion", "360", "--preauricular", "350",
+        "--circumference", "560", "--unit", "mm", "--system", "10-10",
+        "--inferior-circumference", "570",
+    )  # fmt: skip
+    assert code == 0 and "inferior circumference 57.0 cm" in out and "your tape: 57.0 cm" in out
+
+
+def test_without_the_inferior_tape_the_model_estimate_is_named(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    code, out, _ = _run(capsys, *BASE, "--system", "10-10")
+    assert code == 0
+    title = next(ln for ln in out.splitlines() if "inferior circumference, left" in ln)
+    assert "model estimate" in title and "--inferior-circumference" in title
+    code, out, _ = _run(capsys, *BASE, "--system", "10-10", "--format", "json")
+    assert json.loads(out)["measurements"]["inferior_circumference_cm"] is None
+
+
+@pytest.mark.parametrize(
+    ("value", "needle"),
+    [
+        ("abc", "inferior circumference must be a number"),
+        ("0", "inferior circumference must be greater than zero"),
+        ("nan", "inferior circumference must be a finite number"),
+        ("570", "looks like millimetres"),
+        ("90", "outside what heads measure (18–70 cm"),
+        ("36", "is 64% of the circumference"),  # an arc taped instead: 36/56
+        ("70", "90%–115%"),
+    ],
+)
+def test_bad_inferior_circumference_is_error_exit_2(
+    capsys: pytest.CaptureFixture[str], value: str, needle: str
+) -> None:
+    code, out, err = _run(capsys, *BASE, "--system", "10-10", "--inferior-circumference", value)
+    assert code == 2 and out == ""
+    assert err.startswith("error: ") and needle in err and "Traceback" not in err
+
+
+def test_inferior_circumference_with_10_20_is_noted(capsys: pytest.CaptureFixture[str]) -> None:
+    """10-20 has no site on the inferior line: the value is checked, kept in the plan's
+    measurements, and a note says it places nothing (never dropped silently)."""
+    code, out, err = _run(capsys, *BASE, "--inferior-circumference", "57", "--format", "json")
+    assert code == 0 and "note:" in err and "10-10" in err
+    assert json.loads(out)["measurements"]["inferior_circumference_cm"] == 57.0
+
+
 def test_missing_measurement(capsys: pytest.CaptureFixture[str]) -> None:
     code, _, err = _run(capsys, "measure", "--nasion-inion", "36")
     assert code == 2 and "required" in err and "--preauricular" in err
@@ -157,7 +224,12 @@ _token = st.one_of(
     st.floats(allow_nan=True).map(str),
 )
 _option = st.one_of(
-    st.tuples(st.sampled_from(["--nasion-inion", "--preauricular", "--circumference"]), _token),
+    st.tuples(
+        st.sampled_from(
+            ["--nasion-inion", "--preauricular", "--circumference", "--inferior-circumference"]
+        ),
+        _token,
+    ),
     st.tuples(st.just("--system"), st.sampled_from(["10-20", "10-10", "10-5", ""])),
     st.tuples(st.just("--names"), st.sampled_from(["modern", "classic", "MODERN"])),
     st.tuples(st.just("--unit"), st.sampled_from(["cm", "mm", "in", "m"])),

@@ -207,6 +207,10 @@ def test_readme_example_runs(example: str, stream: str, tmp_path: Path) -> None:
     elif example.startswith("bedside measure --nasion"):
         assert done.returncode == 0, done.stderr
         assert "18.0" in done.stdout  # Cz at 50 % of 36 cm (Jasper 1958)
+        if "--inferior-circumference 57" in example:
+            # F9 at 15 % of the taped 57 cm from Nz (hand arithmetic: 8.55 -> 8.6, halves up)
+            assert "your tape: 57.0 cm" in done.stdout
+            assert any(ln.split()[:3] == ["F9", "Nz", "8.6"] for ln in done.stdout.splitlines())
     else:
         assert done.returncode == 0, (example, done.stderr)
         assert done.stdout.strip(), example

@@ -1,12 +1,14 @@
-"""Positions against MNE-Python's template montages (a test-only outside reference).
+"""Positions and tape distances against MNE-Python's template montages (a test-only
+outside reference).
 
 * ``spherical_1005``: an idealised spherical head with sites placed by the 10-5 rules
   (Oostenveld & Praamstra 2001). On a sphere our model is exact, so every 10-20/10-10
   site must agree to a fraction of a millimetre.
 * ``colin27_1005``: a real MRI head (the Colin27 scalp) with the 10-5 rules applied to
-  its surface. We measure that head's own three arcs along its own sites, feed them to
-  the calculator and compare. An ellipsoid cannot follow a real scalp exactly, so the
-  tolerance is wide and stated with its reasons in the test.
+  its surface. We measure that head's own arcs along its own sites, feed them to the
+  calculator and compare the distances it prints and the positions it gives. An
+  ellipsoid cannot follow a real scalp exactly; each tolerance below is derived from
+  the tape, the printing, or the template's own spacing, and says how.
 """
 
 from __future__ import annotations
@@ -17,8 +19,10 @@ import re
 import mne
 import numpy as np
 import pytest
+from scipy.interpolate import CubicSpline
 
 from bedside.placement import HeadMeasurements, plan_placement
+from bedside.placement.calculator import CIRCUMFERENCE_10_10, CORONAL_10_10, MIDLINE_10_10
 
 MIDLINE = [
     "Nz",
@@ -85,13 +89,26 @@ def _template(name: str) -> dict[str, np.ndarray]:
 
 
 def _chain_mm(p: dict[str, np.ndarray], names: list[str]) -> float:
+    return _tape_mm(p, names)[names[-1]]
+
+
+def _tape_mm(p: dict[str, np.ndarray], names: list[str]) -> dict[str, float]:
+    """Length along the scalp from the first site to each site of a line, as a tape
+    laid through the template's own sites: a cubic spline through them (SciPy),
+    integrated finely. A chord sum would be about 0.2 % short at the 5 % spacing, and
+    much more across a gap in the template (it has no N1 or I1h on the inferior row)."""
     pts = np.array([p[n] for n in names])
-    return float(np.linalg.norm(np.diff(pts, axis=0), axis=1).sum())
+    t = np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(pts, axis=0), axis=1))])
+    spline = CubicSpline(t, pts, axis=0)
+    out = [0.0]
+    for a, b in zip(t[:-1], t[1:], strict=True):
+        q = spline(np.linspace(a, b, 201))
+        out.append(out[-1] + float(np.linalg.norm(np.diff(q, axis=0), axis=1).sum()))
+    return dict(zip(names, out, strict=True))
 
 
 def _arcs_cm(p: dict[str, np.ndarray]) -> HeadMeasurements:
-    """The template's own arcs, as chord sums along its 5 % sites (each chord is within
-    about 0.2 % of its arc at that spacing)."""
+    """The template's own three arcs, taped through its 5 % sites (see _tape_mm)."""
     circumference = _chain_mm(p, LEFT_CHAIN) + _chain_mm(p, [_mirror(n) for n in LEFT_CHAIN])
     return HeadMeasurements(
         nasion_inion_cm=_chain_mm(p, MIDLINE) / 10.0,
@@ -113,14 +130,17 @@ def _head_frame(p: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
     return {k: rot @ (v - origin) for k, v in p.items()}
 
 
-def _rigid_residuals(ours: np.ndarray, theirs: np.ndarray) -> np.ndarray:
-    """Per-site distances after the best rotation + translation (Kabsch), no scaling."""
+def _rigid_moved(ours: np.ndarray, theirs: np.ndarray) -> np.ndarray:
+    """Our sites after the best rotation + translation onto theirs (Kabsch), no scaling."""
     ca, cb = ours.mean(axis=0), theirs.mean(axis=0)
     u, _, vt = np.linalg.svd((ours - ca).T @ (theirs - cb))
     d = np.diag([1.0, 1.0, np.sign(np.linalg.det(vt.T @ u.T))])
-    rot = vt.T @ d @ u.T
-    moved = (rot @ (ours - ca).T).T + cb
-    return np.linalg.norm(moved - theirs, axis=1)
+    return ((vt.T @ d @ u.T) @ (ours - ca).T).T + cb
+
+
+def _rigid_residuals(ours: np.ndarray, theirs: np.ndarray) -> np.ndarray:
+    """Per-site distances after the best rigid alignment."""
+    return np.linalg.norm(_rigid_moved(ours, theirs) - theirs, axis=1)
 
 
 def test_spherical_template_reproduced_exactly() -> None:
@@ -143,42 +163,54 @@ def test_spherical_template_reproduced_exactly() -> None:
     assert errors[worst] < 0.5, f"{worst} is {errors[worst]:.2f} mm off"
 
 
-def test_spherical_two_rules_disagree_as_published_angles() -> None:
-    """On the spherical template F3 lies 29.8° from Fp1 and 35.5° from C3 (computed
-    on MNE's spherical 10-20 template): not midway on Fp1–C3, though exactly
-    midway on F7–Fz. Our F3 (row rule) must show the same angles (±0.2°)."""
-    p = _template("spherical_1005")
+def _sphere_head(p: dict[str, np.ndarray]) -> HeadMeasurements:
+    """The three tapes of a sphere of the template's radius (hand arithmetic: both arcs
+    pi r, the 10 % circumference 2 pi r cos 18°)."""
     r = float(np.linalg.norm(p["Cz"]))
-    head = HeadMeasurements(
+    return HeadMeasurements(
         math.pi * r / 10, math.pi * r / 10, 2 * math.pi * r * math.cos(math.radians(18)) / 10
     )
-    pos = {k: np.array(v) for k, v in plan_placement(head).positions_mm.items()}
-
-    def angle(a: str, b: str) -> float:
-        u, v = pos[a], pos[b]
-        return math.degrees(math.acos(float(u @ v / (np.linalg.norm(u) * np.linalg.norm(v)))))
-
-    assert angle("F3", "Fp1") == pytest.approx(29.8, abs=0.2)
-    assert angle("F3", "C3") == pytest.approx(35.5, abs=0.2)
-    assert angle("F3", "F7") == pytest.approx(angle("F3", "Fz"), abs=0.2)
 
 
-# Tolerances for the real head. Measured with this model (Colin27's arcs 37.8 / 38.8 /
-# 61.0 cm): after rigid alignment, 10-20 median 9.5 mm, worst 17.9 mm (T7); 10-10
-# median 9.3 mm, worst 20.7 mm (T10); in the fiducial frame without fitting, median
-# 19.4 mm; neighbour chords median 2.4 %, worst 13.4 %. Why so wide: the ellipsoid
-# puts the nasion, the preauricular points and the inion on one plane, while on
-# Colin27 the inion's level lies about 4 cm above the nasion's and the vertex 2–3 cm
-# in front of the ears; and a real scalp is flatter on the sides than an ellipsoid,
-# which moves T9/T7/FT7 outwards by 1.5–2 cm. For marking this does not matter (tape
-# distances follow the rules exactly); positions feed the head map and the neighbour
-# graph, where 1–2 cm is well under the 10-20 spacing (about 6 cm). Limits: the
-# measured figures plus about 20–30 % headroom.
-RIGID_MEDIAN_MM = 12.0
-RIGID_WORST_MM = 25.0
-DIRECT_MEDIAN_MM = 25.0
-PAIR_MEDIAN_REL = 0.05
-PAIR_WORST_REL = 0.17
+def _angle_deg(u: np.ndarray, v: np.ndarray) -> float:
+    return math.degrees(math.acos(float(u @ v / (np.linalg.norm(u) * np.linalg.norm(v)))))
+
+
+def test_spherical_two_rules_disagree_as_on_the_template() -> None:
+    """MNE spherical_1005 as shipped: the angles F3–Fp1, F3–C3, F3–F7 and F3–Fz are
+    read from the template's own sites (not computed by us). Our F3 (row rule) must
+    show the same angles; ±0.2° is the template's own rounding and our numerical
+    integration (0.2° is 0.3 mm at r = 85 mm, inside the 0.5 mm of the test above).
+    On the template F3 is midway on F7–Fz but not on Fp1–C3 — the two published rules
+    disagree, which is why the plan prints both."""
+    p = _template("spherical_1005")
+    pos = {k: np.array(v) for k, v in plan_placement(_sphere_head(p)).positions_mm.items()}
+    for other in ("Fp1", "C3", "F7", "Fz"):
+        theirs = _angle_deg(p["F3"], p[other])
+        assert _angle_deg(pos["F3"], pos[other]) == pytest.approx(theirs, abs=0.2), other
+    assert _angle_deg(p["F3"], p["F7"]) == pytest.approx(_angle_deg(p["F3"], p["Fz"]), abs=0.2)
+    assert abs(_angle_deg(p["F3"], p["Fp1"]) - _angle_deg(p["F3"], p["C3"])) > 3.0
+
+
+def test_spherical_two_rule_gap_as_on_the_template() -> None:
+    """The printed gap between the two rules for F3/F4/P3/P4, against the gap on MNE's
+    spherical_1005 template: its own F3 against the midpoint of the great circle from
+    its own Fp1 to its own C3 (on a sphere the taut tape between two sites). The plan
+    prints the gap to 0.1 cm, so it is within 0.05 cm of the template's, plus 0.05 cm
+    for the template's coordinates (given to 0.1 mm) and our 0.5-mm position
+    agreement (test above)."""
+    p = _template("spherical_1005")
+    plan = plan_placement(_sphere_head(p))
+    r = float(np.linalg.norm(p["Cz"]))
+    for site, (a, b) in {"F3": ("Fp1", "C3"), "P3": ("C3", "O1"),
+                         "F4": ("Fp2", "C4"), "P4": ("C4", "O2")}.items():  # fmt: skip
+        mid = p[a] / np.linalg.norm(p[a]) + p[b] / np.linalg.norm(p[b])
+        mid = mid / np.linalg.norm(mid) * r
+        theirs_cm = float(np.linalg.norm(p[site] - mid)) / 10.0
+        mark = next(m for m in plan.marks if m.name == site)
+        assert mark.rule_gap_cm is not None
+        assert mark.rule_gap_cm == pytest.approx(theirs_cm, abs=0.1), site
+        assert theirs_cm > 0.3  # the two rules really do disagree on the template
 
 
 def _colin() -> tuple[dict[str, np.ndarray], HeadMeasurements]:
@@ -188,42 +220,224 @@ def _colin() -> tuple[dict[str, np.ndarray], HeadMeasurements]:
 
 def test_colin27_arcs_are_adult_sized() -> None:
     """Sanity of the reference itself: Colin27 is a large adult head (about
-    61 cm round at the 10 % level, measured on MNE's colin27 template)."""
+    61 cm round at the 10 % level, measured on MNE's colin27 template; adult means
+    55.2 and 57.2 cm, Bushby et al. 1992)."""
     _, arcs = _colin()
     assert arcs.circumference_cm == pytest.approx(61.0, abs=1.0)
     assert 35.0 < arcs.nasion_inion_cm < 41.0 and 35.0 < arcs.preauricular_cm < 41.0
 
 
+# --- tape distances on the real head ------------------------------------------------
+# A technologist reads the tape to the nearest 0.5 cm at the bedside (common practice),
+# and the plan prints distances rounded to 0.1 cm (±0.05): a printed distance within
+# 0.55 cm of the template's own arc is as good as a tape can use. On the measured lines
+# this also holds the template's own departure from its percentages: its Fpz lies
+# 0.46 cm short of 10 % of its midline from its nasion fiducial (the 10-5 rules were
+# not started from exactly that point), checked below on the template alone.
+TAPE_CM = 0.5 + 0.05
+
+INFERIOR = [
+    "Nz",
+    "AFp9",
+    "AF9",
+    "AFF9",
+    "F9",
+    "FFT9",
+    "FT9",
+    "FTT9",
+    "T9",
+    "TTP9",
+    "TP9",
+    "TPP9",
+    "P9",
+    "PPO9",
+    "PO9",
+    "POO9",
+    "I1",
+    "Iz",
+]
+#: The 10-10 rows through the template's 10-5 sites, midline site first.
+ROW_CHAINS = [
+    "AFz AF1 AF3 AF5 AF7", "Fz F1h F1 F3h F3 F5h F5 F7h F7",
+    "FCz FC1h FC1 FC3h FC3 FC5h FC5 FT7h FT7", "CPz CP1h CP1 CP3h CP3 CP5h CP5 TP7h TP7",
+    "Pz P1h P1 P3h P3 P5h P5 P7h P7", "POz PO1 PO3 PO5 PO7",
+]  # fmt: skip
+
+
+def _measured_lines(p: dict[str, np.ndarray]) -> dict[str, tuple[dict[str, float], float]]:
+    """For each measured line: the template's tape from its start to each site (mm),
+    and the line's whole length the percentages are of (mm)."""
+    right = [_mirror(n) for n in LEFT_CHAIN]
+    left_mm, right_mm = _tape_mm(p, LEFT_CHAIN), _tape_mm(p, right)
+    circ = left_mm["Oz"] + right_mm["Oz"]
+    mid, cor = _tape_mm(p, MIDLINE), _tape_mm(p, CORONAL)
+    return {
+        "midline": (mid, mid["Iz"]),
+        "coronal": (cor, cor["T10"]),
+        "circumference-left": (left_mm, circ),
+        "circumference-right": (right_mm, circ),
+    }
+
+
+def test_colin27_template_follows_its_percentages() -> None:
+    """The reference itself (no code of ours): on MNE's colin27_1005 the sites of the
+    measured lines lie at their 10-10 percentages of the template's own arcs, to within
+    0.5 cm (the offset at Fpz named above); so the template can judge printed distances
+    at tape resolution."""
+    p, _ = _colin()
+    lines = _measured_lines(p)
+    tables = {
+        "midline": MIDLINE_10_10,
+        "coronal": CORONAL_10_10,
+        "circumference-left": CIRCUMFERENCE_10_10,
+        "circumference-right": tuple((_mirror(k), v) for k, v in CIRCUMFERENCE_10_10),
+    }
+    for line, table in tables.items():
+        along, length = lines[line]
+        for site, pct in table:
+            assert abs(along[site] - pct / 100 * length) < 5.0, (line, site)
+
+
+def test_colin27_printed_distances_on_the_measured_lines() -> None:
+    """MNE colin27_1005: every distance the plan prints on the midline, the coronal line
+    and the circumference (from the template's own three tapes) lands within TAPE_CM of
+    the template's own site, measured along its scalp from the same start."""
+    p, arcs = _colin()
+    lines = _measured_lines(p)
+    plan = plan_placement(arcs, system="10-10")
+    checked = 0
+    for m in plan.marks:
+        if m.line in lines:
+            along, _ = lines[m.line]
+            assert m.distance_cm == pytest.approx(along[m.name] / 10.0, abs=TAPE_CM), m
+            checked += 1
+    assert checked == 11 + 11 + 10 + 10
+
+
+def _inferior_tape(p: dict[str, np.ndarray]) -> tuple[dict[str, float], dict[str, float]]:
+    left = _tape_mm(p, INFERIOR)
+    right = _tape_mm(p, [_mirror(n) for n in INFERIOR])
+    return left, right
+
+
+def test_colin27_inferior_row_from_a_taped_inferior_circumference() -> None:
+    """MNE colin27_1005: with the template's own inferior circumference (through its
+    nasion, T9, Iz, T10; about 60.6 cm) given as the fourth tape, every printed F9 …
+    P10 distance lands within TAPE_CM of the template's site along that line. Without
+    it the model's estimate (the ellipsoid's equator, 63.3 cm: the model puts the
+    inion level with the nasion, the real inion sits higher) is longer than a tape can
+    absorb at P9/P10 — which is why the tape is asked for — yet still within half the
+    template's own 10-10 step along the row (about 3 cm: 1.5 cm), so the model's marks
+    never land nearer the next site than their own."""
+    p, arcs = _colin()
+    left, right = _inferior_tape(p)
+    taped_cm = (left["Iz"] + right["Iz"]) / 10.0
+    assert 59.0 < taped_cm < 62.0  # the template's own line, measured here
+    half_step_cm = 0.5 * 0.05 * taped_cm
+    for tape, tol, worst_seen in ((taped_cm, TAPE_CM, 0.0), (None, half_step_cm, TAPE_CM)):
+        plan = plan_placement(arcs, system="10-10", inferior_circumference_cm=tape)
+        assert plan.inferior_circumference_cm == tape
+        errors = []
+        for m in plan.marks:
+            if m.line.startswith("inferior"):
+                along = left if m.line == "inferior-left" else right
+                errors.append(abs(m.distance_cm - along[m.name] / 10.0))
+        assert len(errors) == 10
+        assert max(errors) < tol, (tape, errors)
+        assert max(errors) > worst_seen, (tape, errors)
+
+
+def test_colin27_between_mark_distances_within_half_a_step() -> None:
+    """MNE colin27_1005: the plan's distance for a site found between marks (F3 from
+    Fz …) is an estimate from the model's arc — the sheet says to tape the arc and
+    take the fraction. Against the template's own arc from the midline site, each
+    estimate must lie within half the template's 10-10 step along that row (so a mark
+    set by the printed number is still nearer its own site than its neighbour's)."""
+    p, arcs = _colin()
+    plan = plan_placement(arcs, system="10-10")
+    rows = [c.split() for c in ROW_CHAINS]
+    rows += [[_mirror(n) for n in r] for r in rows]
+    checked = 0
+    for m in (m for m in plan.marks if m.line == "derived"):
+        row = next(r for r in rows if m.name in r)
+        along = _tape_mm(p, row)
+        ten_ten = [n for n in row if not n.endswith("h")]
+        step_mm = along[row[-1]] / (len(ten_ten) - 1)
+        assert abs(m.distance_cm * 10.0 - along[m.name]) < 0.5 * step_mm, m.name
+        checked += 1
+    assert checked == 28
+
+
+# --- positions on the real head ----------------------------------------------------
+# Positions feed the head map and the neighbour graph (the tape distances above are
+# what is marked). What they need is geometric, and the tolerances come from the
+# template's own spacing, not from our errors: after the best rigid alignment each
+# site of ours must be nearer its own template site than any other template site
+# (else the map shows it in another electrode's place); a typical site within half
+# the template's distance from that site to its nearest other (``spacing``); and a
+# neighbour chord off by less than half the smaller spacing at its two ends (so a
+# neighbour never looks like the next one out). In the fiducial frame alone, without
+# fitting, a typical site lies within one spacing. Measured (Colin27's tapes 37.9 /
+# 38.9 / 61.0 cm): worst own/nearest-other 0.41 (10-20, Fpz) and 0.59 (10-10, T10);
+# median error/spacing 0.18 and 0.30; fiducial frame median 0.36 and 0.61; worst
+# chord error/spacing 0.21. The ellipsoid puts nasion, preauricular points and inion
+# on one plane (on Colin27 the inion sits about 4 cm higher) and is rounder on the
+# sides than a scalp, which moves T9/T7/T10 outwards by 1.5–2 cm. For scale: electrodes
+# placed by tape measurement and re-placed on another day move by up to 7 mm (Towle et
+# al. 1993, Electroencephalogr Clin Neurophysiol 86:1–6), so a millimetre bound tighter
+# than that would judge the tape, not the model.
+
+
+def _spacing_mm(theirs: np.ndarray) -> np.ndarray:
+    d = np.linalg.norm(theirs[:, None, :] - theirs[None, :, :], axis=2)
+    np.fill_diagonal(d, np.inf)
+    return d.min(axis=1)
+
+
+def _shared(
+    plan_positions: dict[str, tuple[float, float, float]], p: dict[str, np.ndarray]
+) -> list[str]:
+    return [k for k in plan_positions if k in p and k not in ("A1", "A2", "M1", "M2")]
+
+
 @pytest.mark.parametrize("system", ["10-20", "10-10"])
 def test_colin27_positions_after_rigid_alignment(system: str) -> None:
-    """MNE colin27_1005: per-site distance after the best rigid alignment (see the
-    tolerance note above)."""
+    """MNE colin27_1005: each site nearest its own template site; typical error under
+    half the template's spacing; fiducial frame within one spacing (see above)."""
     p, arcs = _colin()
     plan = plan_placement(arcs, system=system)
-    shared = [k for k in plan.positions_mm if k in p and k not in ("A1", "A2", "M1", "M2")]
+    shared = _shared(plan.positions_mm, p)
     ours = np.array([plan.positions_mm[k] for k in shared])
     theirs = np.array([p[k] for k in shared])
+    spacing = _spacing_mm(theirs)
     res = _rigid_residuals(ours, theirs)
-    assert float(np.median(res)) < RIGID_MEDIAN_MM
-    assert float(res.max()) < RIGID_WORST_MM, shared[int(np.argmax(res))]
-    # The fiducial frame alone (no fitting): still within a few centimetres.
+    moved = _rigid_moved(ours, theirs)
+    to_all = np.linalg.norm(moved[:, None, :] - theirs[None, :, :], axis=2)
+    own = np.diag(to_all).copy()
+    np.fill_diagonal(to_all, np.inf)
+    nearest_other = to_all.min(axis=1)
+    worst = int(np.argmax(own / nearest_other))
+    assert own[worst] < nearest_other[worst], shared[worst]
+    assert float(np.median(res / spacing)) < 0.5
     direct = np.linalg.norm(ours - theirs, axis=1)
-    assert float(np.median(direct)) < DIRECT_MEDIAN_MM
+    assert float(np.median(direct / spacing)) < 1.0
 
 
 def test_colin27_neighbour_distances() -> None:
     """MNE colin27_1005: for every neighbour pair of the 10-10 plan, the chord between
     the two sites on our model vs on the template (frame-free; what the bridging check
-    and electrode spacing care about). Pairs with Nz are left out: the template has no
-    Nz site, only its MRI nasion fiducial, which the 10-5 rules did not place."""
+    and electrode spacing care about) differs by less than half the template's smaller
+    spacing at the two ends (see above). Pairs with Nz are left out: the template has
+    no Nz site, only its MRI nasion fiducial, which the 10-5 rules did not place."""
     p, arcs = _colin()
     plan = plan_placement(arcs, system="10-10")
-    rel = []
+    shared = _shared(plan.positions_mm, p)
+    spacing = dict(zip(shared, _spacing_mm(np.array([p[k] for k in shared])), strict=True))
+    checked = 0
     for a, b in plan.neighbours:
-        if a in p and b in p and not {a, b} & {"A1", "A2", "M1", "M2", "Nz"}:
+        if a in spacing and b in spacing and "Nz" not in (a, b):
             ours = np.linalg.norm(np.subtract(plan.positions_mm[a], plan.positions_mm[b]))
             theirs = np.linalg.norm(p[a] - p[b])
-            rel.append(abs(ours - theirs) / theirs)
-    assert len(rel) > 150
-    assert float(np.median(rel)) < PAIR_MEDIAN_REL
-    assert float(np.max(rel)) < PAIR_WORST_REL
+            assert abs(ours - theirs) < 0.5 * min(spacing[a], spacing[b]), (a, b)
+            checked += 1
+    assert checked > 150

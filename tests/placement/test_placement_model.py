@@ -14,7 +14,7 @@ from bedside.placement import HeadMeasurements, plan_placement, systems
 from bedside.placement.model import HeadModel, fit_head, quarter_perimeter
 
 HEADS = [
-    (36.0, 35.0, 56.0),  # Jasper 1958 worked example by hand (adult)
+    (36.0, 35.0, 56.0),  # our example adult head (Bushby 1992 means 55.2/57.2 cm)
     (37.8, 38.8, 61.0),  # a large adult (about Colin27's arcs)
     (23.0, 22.0, 34.5),  # about the WHO median at birth, 34.5 cm
     (14.0, 13.5, 22.0),  # very preterm (INTERGROWTH-21st, ~22 cm at 24 weeks)

@@ -15,6 +15,7 @@ from hypothesis import strategies as st
 
 from bedside.errors import InputError, MeasurementError
 from bedside.placement import parse_measurements, plan_placement
+from bedside.placement.validate import parse_inferior_circumference
 
 
 def test_accepts_numbers_and_strings_in_cm() -> None:
@@ -178,3 +179,59 @@ def test_numpy_numbers_accepted() -> None:
 
     m = parse_measurements(np.float32(36.0), np.int64(35), np.float64(56.0))
     assert m.preauricular_cm == 35.0
+
+
+# --- the optional fourth tape: the inferior circumference (10-10) -------------------
+ADULT = parse_measurements(36, 35, 56)
+
+
+def test_inferior_circumference_accepted_in_any_unit() -> None:
+    """Checked like the circumference (18–70 cm; INTERGROWTH-21st to large adults) and
+    converted the same way (hand arithmetic: 570 mm = 57 cm; 22.44 in × 2.54 = 57.0 cm)."""
+    assert parse_inferior_circumference("57", ADULT) == 57.0
+    assert parse_inferior_circumference("57,5", ADULT) == 57.5
+    assert parse_inferior_circumference("570", ADULT, unit="mm") == pytest.approx(57.0)
+    assert parse_inferior_circumference(22.44, ADULT, unit="in") == pytest.approx(57.0, abs=0.01)
+
+
+@pytest.mark.parametrize(
+    ("value", "unit", "match"),
+    [
+        (None, "cm", "inferior circumference must be a number"),
+        (True, "cm", "inferior circumference must be a number"),
+        ("-57", "cm", "greater than zero"),
+        ("inf", "cm", "finite"),
+        ("570", "cm", r"looks like millimetres \(570 mm = 57.0 cm\): give all four in one unit"),
+        ("57", "mm", "looks like centimetres"),
+        ("80", "cm", "outside what heads measure"),
+        # on one head the two circumferences are close (validate.py: 90–115 %)
+        ("48", "cm", r"is 86% of the circumference \(56.0 cm\).*50.4–64.4 cm here"),
+        ("65", "cm", "is 116% of the circumference"),
+        ("57", "ft", "unit 'ft' is not known"),
+    ],
+)
+def test_inferior_circumference_refused_with_what_is_accepted(
+    value: object, unit: str, match: str
+) -> None:
+    with pytest.raises(MeasurementError, match=match):
+        parse_inferior_circumference(value, ADULT, unit=unit)
+
+
+def test_plan_checks_the_inferior_circumference_too() -> None:
+    """plan_placement checks a value given by hand the same way (never a silent plan)."""
+    with pytest.raises(MeasurementError, match="inferior circumference"):
+        plan_placement(ADULT, system="10-10", inferior_circumference_cm=36.0)
+    plan = plan_placement(ADULT, system="10-10", inferior_circumference_cm=57.0)
+    assert plan.inferior_circumference_cm == 57.0
+
+
+@given(value=_values, unit=st.sampled_from(["cm", "mm", "in", "m", ""]))
+def test_any_inferior_value_is_accepted_or_clearly_refused(value: object, unit: str) -> None:
+    """Property: any value gives a number in 18–70 cm or a MeasurementError naming the
+    inferior circumference — never another exception."""
+    try:
+        cm = parse_inferior_circumference(value, ADULT, unit=unit)
+    except MeasurementError as exc:
+        assert "inferior circumference" in str(exc) or "unit" in str(exc)
+    else:
+        assert 18.0 <= cm <= 70.0 and 0.9 <= cm / 56.0 <= 1.15

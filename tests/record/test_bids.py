@@ -54,7 +54,7 @@ def test_channels_tsv_columns_order_and_values(tmp_path: Path, clock: FakeClock)
     assert path in res.files
     header = path.read_text(encoding="utf-8").splitlines()[0].split("\t")
     assert header[:3] == ["name", "type", "units"], BIDS_SPEC + ": required columns first, in order"
-    assert header[3:] == ["status", "status_description"]
+    assert header[3:] == ["reference", "status", "status_description"]
     rows = _tsv(path)
     assert [r["name"] for r in rows] == [c.label for c in make_channels()], "stream order"
     assert all(r["type"] in CHANNEL_TYPES and r["type"].isupper() for r in rows)

@@ -32,7 +32,9 @@ def test_engine_frames_reach_the_log_bids_and_report(tmp_path: Path) -> None:
     engine = Engine(load_quality(), chans, rate, None)
     rng = np.random.default_rng(3)
     t = np.arange(int(rate * 20)) / rate
-    x = rng.normal(0, 15, (t.size, len(NAMES))) + 10 * np.sin(2 * np.pi * 10 * t)[:, None]
+    # Shared 10-Hz rhythm over independent noise: scalp EEG is shared between leads (a lead
+    # sharing nothing is told it carries no EEG: PREP's correlation criterion).
+    x = rng.normal(0, 15, (t.size, len(NAMES))) + 30 * np.sin(2 * np.pi * 10 * t)[:, None]
     x[:, NAMES.index("C3")] = 0.0
     x[:, NAMES.index("P4")] += 80 * np.sin(2 * np.pi * 50 * t)
     health = StreamHealth("live", rate, rate)

@@ -31,6 +31,7 @@ from bedside.cli import main
 from bedside.config import CONFIG_DIR, read_yaml
 from bedside.errors import ConfigError
 from bedside.sim.scenario import DEMO_DIR, Scenario, load_scenario
+from bedside.sources import Bibliography, load_bibliography
 from bedside.stream import labels as labels_mod
 from bedside.stream import settings as stream_settings_mod
 from bedside.stream.amplifier import AmplifierCatalogue, load_amplifiers
@@ -44,6 +45,7 @@ _CONFIGS: dict[str, tuple[type, str | None, Loader]] = {
     "stream.yaml": (StreamSettings, "stream", load_stream_settings),
     "labels.yaml": (LabelRules, "labels", load_labels),
     "amplifiers.yaml": (AmplifierCatalogue, "amplifiers", load_amplifiers),
+    "bibliography.yaml": (Bibliography, "bibliography", load_bibliography),
 }
 
 
@@ -186,8 +188,9 @@ def test_every_bounded_value_out_of_range_is_named(
     data, _ = _section_lines(path, section)
     bads = list(_out_of_range(data, schema, section or ""))
     # labels.yaml holds names only, no numbers; amplifiers.yaml keeps its numbers under
-    # profile names (a mapping this walker does not enter): tests/stream/test_amplifier.py.
-    if schema not in (LabelRules, AmplifierCatalogue):
+    # profile names (a mapping this walker does not enter): tests/stream/test_amplifier.py;
+    # bibliography.yaml's years sit under entry keys: tests/test_config_sources.py.
+    if schema not in (LabelRules, AmplifierCatalogue, Bibliography):
         assert bads, f"{path.name}: no range-checked number found to damage"
     for bad in bads:
         broken = _copy(path, tmp_path, _replace_value(text, bad.line, bad.name, bad.value))

@@ -210,3 +210,39 @@ def test_bdf_is_read_too(tmp_path: Path) -> None:
         expected = ref.readSignal(0)
     assert rec.format == "BDF" and rec.channels[0].label == "Oz"
     np.testing.assert_allclose(rec.data[:, 0], expected, rtol=0, atol=1e-9)
+
+
+def test_edf_physical_range_is_the_replays_input_range() -> None:
+    """EEGMMIDB S001R02 (tests/data): pyEDFlib reads its physical range as ±8092 µV on
+    every signal; the replay takes that as the input range (so clipping is judged against
+    the file's limits, not against a repeated maximum)."""
+    edf = Path(__file__).parents[1] / "data" / "S001R02.edf"
+    with pyedflib.EdfReader(str(edf)) as ref:
+        ranges = {(ref.getPhysicalMinimum(i), ref.getPhysicalMaximum(i)) for i in range(ref.signals_in_file)}
+    assert ranges == {(-8092.0, 8092.0)}
+    assert load_recording(edf).input_range_uv == 8092.0
+    # pyEDFlib's generator file: the smallest ± range over its µV signals.
+    assert load_recording(TEST_EDF).input_range_uv == pytest.approx(
+        min(min(abs(a), abs(b)) for a, b in _generator_ranges())
+    )
+
+
+def _generator_ranges() -> list[tuple[float, float]]:
+    with pyedflib.EdfReader(str(TEST_EDF)) as ref:
+        return [(ref.getPhysicalMinimum(i), ref.getPhysicalMaximum(i)) for i in range(ref.signals_in_file)]
+
+
+@pytest.mark.lsl
+def test_replayed_stream_carries_the_input_range_and_the_source_reads_it() -> None:
+    """The outlet's desc/acquisition/input_range_uv (bedside's own key beside the XDF
+    meta-data convention's acquisition fields), read back by a plain pylsl inlet."""
+    edf = Path(__file__).parents[1] / "data" / "S001R02.edf"
+    name = _name()
+    pub = replay_publisher(edf, name=name, speed=5.0)
+    pub.start(wait_for_consumer_s=5.0)
+    try:
+        _x, _ts, info = _receive(name, 160)
+    finally:
+        pub.stop()
+    acq = info.desc().child("acquisition")  # type: ignore[attr-defined]
+    assert float(acq.child_value("input_range_uv")) == 8092.0

@@ -145,6 +145,13 @@ def test_counts_are_scaled_by_uv_per_count(feeders) -> None:  # type: ignore[no-
     with LslSource(ident, FAST, options=ChannelOptions(uv_per_count=0.5)) as src:
         x, _ = drain(src, 0.3, f)
         np.testing.assert_array_equal(x, 6.0)
+        # An int16 stream cannot go past ±32767 counts (numpy.iinfo): its rail, in µV,
+        # is what the engine judges clipping against when no amplifier range is known.
+        assert src.numeric_range_uv == np.iinfo(np.int16).max * 0.5
+        from bedside.commands.check import engine_options
+
+        kwargs, _note = engine_options(src)
+        assert kwargs["amplifier_range_uv"] == np.iinfo(np.int16).max * 0.5
 
 
 def test_values_in_volts_labelled_microvolts_are_named(feeders) -> None:  # type: ignore[no-untyped-def]
