@@ -53,6 +53,7 @@ class WatchScreen(Screen[None]):
         Binding("t", "toggle_trace", "Trace"),
         Binding("v", "cycle_derivation", "Derivation"),
         Binding("n", "next_not_good", "Next to fix"),
+        Binding("c", "channels", "Channels"),
         Binding("p", "pick_stream", "Pick stream"),
         Binding("r", "rescan", "Look again", show=False),
     ]
@@ -217,6 +218,9 @@ class WatchScreen(Screen[None]):
         if self.selected in names:
             nxt = names[(names.index(self.selected) + 1) % len(names)]
         self.query_one(ChannelTable).select_name(nxt)
+
+    def action_channels(self) -> None:
+        self.bedside.open_channels()
 
     def action_pick_stream(self) -> None:
         self.bedside.discover(force_picker=True)
