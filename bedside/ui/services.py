@@ -92,18 +92,23 @@ def _select_stream(
     return select_stream(list(streams), name=name, source_id=source_id, host=host)
 
 
-def _open_source(identity: StreamIdentity, choices: Mapping[str, Any] | None = None) -> Source:
+def source_options(source_id: str, choices: Mapping[str, Any] | None = None) -> Any:
+    """The ChannelOptions the app opens a stream with: ``choices`` just confirmed in the
+    app (strict: they were made for this stream), else the ones saved for this
+    source_id (not strict: the amplifier may carry other channels today), else none."""
     from bedside.stream.channel_map import saved_choices
     from bedside.stream.channels import ChannelOptions
+
+    if choices is not None:
+        return ChannelOptions(choices=choices, choices_from="the channel choices made in the app")
+    return ChannelOptions(choices=saved_choices(source_id) or {},
+                          choices_from="the channel choices saved for this source_id", choices_strict=False)
+
+
+def _open_source(identity: StreamIdentity, choices: Mapping[str, Any] | None = None) -> Source:
     from bedside.stream.reader import LslSource
 
-    if choices is not None:  # what the technologist just confirmed in the app
-        options = ChannelOptions(choices=choices, choices_from="the channel choices made in the app")
-    else:  # the technologist's channel choices saved for this amplifier (source_id), if any
-        options = ChannelOptions(choices=saved_choices(identity.source_id) or {},
-                                 choices_from="the channel choices saved for this source_id",
-                                 choices_strict=False)
-    return LslSource(identity, options=options)
+    return LslSource(identity, options=source_options(identity.source_id, choices))
 
 
 @dataclass(frozen=True)
