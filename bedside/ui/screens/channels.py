@@ -46,8 +46,9 @@ EVIDENCE_WORDS = {
 }
 
 #: What each kind of channel gets (the rule of the engine, said once here for the screen).
-TYPE_HINT = ("Only EEG channels are judged as scalp electrodes. EOG, ECG and EMG get the lead "
-             "checks of their kind; TRIG, MISC and the others are shown as not judged.")
+TYPE_HINT = ("Only EEG is judged as a scalp electrode; EOG, ECG, EMG get the checks of their lead; "
+             "TRIG, MISC and the rest are not judged.")
+KEY_HINT = "↑↓ channel · Tab its name, type · Enter set · a apply and save for this amplifier · Esc cancel"
 
 LABEL_CHARS = 24  # a label is shown up to this long (the full one is kept)
 
@@ -115,14 +116,12 @@ class ChannelsScreen(ModalScreen[ChannelPreview | None]):
             yield DataTable(id="channels-table", cursor_type="row", zebra_stripes=True)
             with Horizontal(id="channels-edit"):
                 yield Label("name", classes="form-label")
-                yield Input(id="channel-name", placeholder="name to show", select_on_focus=True)
+                yield Input(id="channel-name", placeholder="name to show", select_on_focus=True, compact=True)
                 yield Label("type", classes="form-label")
-                yield Input(id="channel-type", placeholder="EEG, EOG, ECG, EMG, MISC…", select_on_focus=True,
+                yield Input(id="channel-type", placeholder="EEG, EOG, ECG, EMG, MISC…", select_on_focus=True, compact=True,
                             suggester=SuggestFromList(self.connection.channel_types, case_sensitive=False))
             yield Static(id="channels-message")
-            yield Static(Text(TYPE_HINT + "\n↑↓ a channel · Tab to its name and type · Enter sets the field · "
-                              "a applies these channels (saved for this amplifier) · Esc leaves them as they were",
-                              style="grey62"), id="channels-hint")
+            yield Static(Text(TYPE_HINT + "\n" + KEY_HINT, style="grey62"), id="channels-hint")
 
     def on_mount(self) -> None:
         table = self.query_one(DataTable)
@@ -152,13 +151,16 @@ class ChannelsScreen(ModalScreen[ChannelPreview | None]):
             table.update_cell(str(i), column, value)
 
     def _show_summary(self) -> None:
+        self.query_one("#channels-summary", Static).update(Text(self.summary, style="bold"))
         changed = sum(1 for r in self.rows if r.changed)
-        text = Text(self.summary, style="bold")
-        if changed:
-            text.append(f"   ({changed} changed, not applied yet)", style="yellow")
-        self.query_one("#channels-summary", Static).update(text)
         msg = self.query_one("#channels-message", Static)
-        msg.update(Text(self.message, style="bold red") if self.message else "")
+        if self.message:
+            msg.update(Text(self.message, style="bold red"))
+        elif changed:
+            msg.update(Text(f"{changed} changed, not applied yet (a applies, Esc leaves them as they were)",
+                            style="yellow"))
+        else:
+            msg.update("")
 
     def _fill_inputs(self, i: int) -> None:
         if not 0 <= i < len(self.rows):
@@ -194,7 +196,9 @@ class ChannelsScreen(ModalScreen[ChannelPreview | None]):
         kind = self.query_one("#channel-type", Input).value.strip().upper()
         row.name, row.kind = name.strip(), kind
         self._refresh_row(i)
-        self.query_one(DataTable).focus()
+        table = self.query_one(DataTable)
+        table.focus()
+        table.move_cursor(row=i)  # and scroll it into view
         self._check(apply=False)
 
     def action_apply(self) -> None:
