@@ -227,7 +227,7 @@ class BedsideApp(App[int]):
         self._update_subtitle(name)
         if name == "watch":
             self._open_picker()
-            self._open_pending_confirm()
+            self.open_pending_confirm()
 
     def _update_subtitle(self, view: str | None = None) -> None:
         """The header names the view and, on every view, the pinned stream and its state."""
@@ -367,7 +367,9 @@ class BedsideApp(App[int]):
         self._pending_confirm = False
         self.push_screen(ChannelsScreen(conn), lambda preview: self._channels_chosen(conn, preview))
 
-    def _open_pending_confirm(self) -> None:
+    def open_pending_confirm(self) -> None:
+        """Open the channels screen if a new stream waits for it and Watch is in front
+        (elsewhere it waits: it would take the keys of someone typing)."""
         if self._pending_confirm and self.current_view == "watch" and self.connection is not None:
             self.open_channels()
 
@@ -476,7 +478,9 @@ class BedsideApp(App[int]):
                             timeout=6)
             else:
                 self._pending_confirm = True
-                self._open_pending_confirm()
+                self.open_pending_confirm()
+                if self._pending_confirm:
+                    self.notify(f"channels: {conn.summary} — confirm or change them in Watch (F3)", timeout=8)
 
     def on_frame_arrived(self, message: FrameArrived) -> None:
         if message.generation is not None and message.generation != self._generation:

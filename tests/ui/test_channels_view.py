@@ -113,13 +113,13 @@ class Opened:
         return src
 
 
-def _app(sid: str, opened: Opened) -> Any:
+def _app(sid: str, opened: Opened, start_view: Any = "watch") -> Any:
     from bedside.checks.monitor import Monitor
 
     # Everything real but discovery and the transport (see the module docstring).
     services = Services(open_source=opened, make_monitor=Monitor, open_recorder=None)
     ident = StreamIdentity("amp-like", "EEG", sid, "ward-pc", len(LABELS), RATE)
-    return make_app(AppConfig(discover=False, confirm_channels=True, update_hz=4.0),
+    return make_app(AppConfig(discover=False, confirm_channels=True, update_hz=4.0, start_view=start_view),
                     source=opened(ident, None), services=services)
 
 
@@ -277,6 +277,20 @@ async def test_cancel_leaves_everything_as_it_was(state_home: Path) -> None:
         await pilot.press("c")
         assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
         assert app.screen.query_one(DataTable).get_row(str(E5))[3].plain == "EEG"
+
+
+async def test_while_measuring_the_screen_waits_for_watch(state_home: Path) -> None:
+    """Someone typing measurements keeps the keys: the channels wait, said in a note."""
+    opened = Opened("amp-9")
+    app = _app("amp-9", opened, start_view="measure")
+    async with app.run_test(size=(110, 40)) as pilot:
+        assert await _until(pilot, lambda: app.connection is not None)
+        await pilot.pause(0.3)
+        assert not isinstance(app.screen, ChannelsScreen)
+        said = [n.message for n in app._notifications]  # Textual 8.2 keeps the app's notifications here
+        assert any("20 scalp, 2 EOG" in m and "confirm or change them in Watch (F3)" in m for m in said)
+        await pilot.press("f3")
+        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
 
 
 async def test_the_app_engine_gets_the_same_options_as_check(state_home: Path) -> None:

@@ -110,6 +110,7 @@ class WatchScreen(Screen[None]):
         self._ready = False
 
     def on_screen_resume(self) -> None:
+        self.bedside.open_pending_confirm()  # a new stream's channels, if they wait
         self.set_points(self.bedside.points)
         self.refresh_status()
         app = self.bedside
