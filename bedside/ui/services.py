@@ -172,14 +172,14 @@ def _load_quality() -> Any:
     return load_quality()
 
 
-def _make_engine(settings: Any, source: Source) -> Any:
+def _make_engine(settings: Any, source: Source) -> tuple[Any, str]:
     from bedside.checks.engine import Engine
     from bedside.engine_setup import engine_options
 
     # The same options as ``bedside check`` (geometry neighbours, amplifier range), so
     # the app and the command judge a stream alike.
-    kwargs, _note = engine_options(source)
-    return Engine(settings, source.channels, source.identity.nominal_rate_hz, **kwargs)
+    kwargs, note = engine_options(source)
+    return Engine(settings, source.channels, source.identity.nominal_rate_hz, **kwargs), note
 
 
 def _make_monitor(
@@ -215,8 +215,9 @@ class Services:
     #: (identity, choices): choices None → the ones saved for its source_id, if any.
     open_source: Callable[[StreamIdentity, Mapping[str, Any] | None], Source] = _open_source
     load_quality: Callable[[], Any] = _load_quality
-    #: (settings, source): the engine for the source's channels, geometry and amplifier.
-    make_engine: Callable[[Any, Source], Any] = _make_engine
+    #: (settings, source) → (engine, note): the engine for the source's channels, geometry
+    #: and amplifier, and where its bridging neighbours came from.
+    make_engine: Callable[[Any, Source], tuple[Any, str]] = _make_engine
     describe_channels: Callable[[Sequence[ChannelInfo]], str] = _describe_channels
     #: The BIDS channels.tsv types a channel may be given (EEG, EOG, ECG, …).
     channel_types: Callable[[], tuple[str, ...]] = _channel_types

@@ -38,6 +38,8 @@ class Connection:
     summary: str = ""
     #: The types a channel may be given (BIDS channels.tsv), for the channels screen.
     channel_types: tuple[str, ...] = ()
+    #: Where the bridging neighbours came from (positions, 10-10 names, or all pairs).
+    geometry_note: str = ""
     #: The app's connection counter when this one was started (stale messages are dropped).
     generation: int = 0
     _stopped: bool = False
@@ -67,7 +69,7 @@ def connect(
         # Neighbours from the stream's own geometry (never the measured plan's graph: it
         # covers only its system and naming, so bridging would skip pairs) and the
         # amplifier's range, as ``bedside check`` builds them.
-        engine = services.make_engine(settings, source)
+        engine, geometry = services.make_engine(settings, source)
         summary = services.describe_channels(source.channels)
         kinds = services.channel_types()
         monitor = services.make_monitor(tee, engine, on_frame, config.update_hz)
@@ -76,7 +78,7 @@ def connect(
         tee.close()
         raise
     return Connection(ident, source.channels, tee, engine, monitor, engine_neighbours(engine), summary,
-                      kinds, generation)
+                      kinds, geometry, generation)
 
 
 def engine_neighbours(engine: Any) -> tuple[tuple[str, str], ...]:

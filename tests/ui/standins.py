@@ -263,7 +263,7 @@ def services(
         select_stream=select,
         open_source=lambda ident, choices: FixedSource(),
         load_quality=lambda: None,
-        make_engine=lambda settings, source: None,
+        make_engine=lambda settings, source: (None, ""),
         make_monitor=lambda src, eng, on_frame, hz: ScriptedMonitor(src, frame_list, on_frame, hz),
         open_recorder=(lambda path, tech, subj, cfgs: recorder) if recorder is not None else None,
     )

@@ -301,8 +301,9 @@ async def test_the_app_engine_gets_the_same_options_as_check(state_home: Path) -
     from bedside.ui.session import engine_neighbours
 
     src = AmplifierLikeSource("amp-7", ChannelOptions(amplifier="ac-passive"))
-    engine = Services().make_engine(load_quality(), src)
-    kwargs, _note = engine_options(src)
+    engine, note = Services().make_engine(load_quality(), src)
+    kwargs, check_note = engine_options(src)
+    assert note == check_note and "10-10 names" in note
     # configs/amplifiers.yaml: the ac-passive profile's input range is ±5 mV.
     assert engine.amplifier_range_uv == 5000.0 == kwargs["amplifier_range_uv"]
     pairs = engine_neighbours(engine)

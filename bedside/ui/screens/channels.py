@@ -151,7 +151,10 @@ class ChannelsScreen(ModalScreen[ChannelPreview | None]):
             table.update_cell(str(i), column, value)
 
     def _show_summary(self) -> None:
-        self.query_one("#channels-summary", Static).update(Text(self.summary, style="bold"))
+        text = Text(self.summary, style="bold")
+        if self.connection.geometry_note:
+            text.append(f"  · {self.connection.geometry_note}", style="grey62")
+        self.query_one("#channels-summary", Static).update(text)
         changed = sum(1 for r in self.rows if r.changed)
         msg = self.query_one("#channels-message", Static)
         if self.message:
