@@ -16,7 +16,6 @@ from typing import Any
 
 import pytest
 import standins as si
-from textual.widgets import DataTable
 
 from bedside.cli import main
 from bedside.sim.publish import Publisher
@@ -51,13 +50,10 @@ async def test_a_change_is_applied_saved_and_used_again(
     with Publisher("ward_demo", name=name, source_id=sid, duration_s=60.0).start():
         app = _app(name)
         async with app.run_test(size=(110, 40)) as pilot:
-            assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+            assert await _until(pilot, lambda: si.confirm_open(app))
             first = app.connection
             assert first is not None and first.channels[0].label == "Fp1"
-            table = app.screen.query_one(DataTable)
-            table.move_cursor(row=0)
-            await pilot.pause(0.05)
-            await pilot.press("tab", *"LOC", "tab", *"eog", "enter")
+            await si.edit_channel(pilot, 0, name="LOC", kind="EOG")
             assert await _until(pilot, lambda: "1 changed, not applied yet" in si.screen_text(app))
             await pilot.press("a")
             assert await _until(pilot, lambda: app.connection is not None and app.connection is not first)

@@ -25,7 +25,7 @@ from typing import Any
 import numpy as np
 import pytest
 import standins as si
-from textual.widgets import DataTable, Input
+from textual.widgets import DataTable
 
 from bedside.errors import BedsideError
 from bedside.stream.channel_map import saved_choices, store_folder
@@ -140,31 +140,11 @@ def _e5(app: Any) -> Any:
     return frame.channels[E5]
 
 
-async def _edit(pilot: Any, row: int, *, name: str | None = None, kind: str | None = None) -> None:
-    """As typed: choose the row, Tab to its name field, then its type field (each
-    selects its old text on focus, so typing replaces it), Enter sets both."""
-    screen = pilot.app.screen
-    table = screen.query_one(DataTable)
-    table.focus()
-    table.move_cursor(row=row)
-    await pilot.pause(0.05)
-    await pilot.press("tab")
-    assert screen.focused is screen.query_one("#channel-name", Input)
-    if name is not None:
-        await pilot.press(*name)
-    if kind is not None:
-        await pilot.press("tab")
-        assert screen.focused is screen.query_one("#channel-type", Input)
-        await pilot.press(*kind.lower())
-    await pilot.press("enter")
-    await pilot.pause(0.1)
-
-
 async def test_summary_line_and_table_at_connect(state_home: Path) -> None:
     opened = Opened("amp-1")
     app = _app("amp-1", opened)
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         # Counted by hand from the stream above (module docstring).
         assert await _until(pilot, lambda: "20 scalp, 2 EOG, 1 ECG, 1 EMG, 2 not judged" in si.screen_text(app))
         table = app.screen.query_one(DataTable)
@@ -179,13 +159,13 @@ async def test_eeg_to_eog_takes_the_channel_out_of_electrode_verdicts_and_is_sav
     opened = Opened("amp-2")
     app = _app("amp-2", opened)
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         # Before: E5 is judged as a scalp electrode, and its mains makes it not good.
         assert await _until(pilot, lambda: _e5(app) is not None and _e5(app).level is not None
                             and app.progress is not None and "E5" in app.progress.not_good)
         assert _e5(app).is_scalp and app.progress.total == 20
         first = app.connection
-        await _edit(pilot, E5, kind="EOG")
+        await si.edit_channel(pilot, E5, kind="EOG")
         assert await _until(pilot, lambda: "19 scalp, 3 EOG, 1 ECG, 1 EMG, 2 not judged" in si.screen_text(app))
         await pilot.press("a")
         assert await _until(pilot, lambda: app.connection is not None and app.connection is not first)
@@ -207,8 +187,8 @@ async def test_saved_choice_is_used_on_reconnect(state_home: Path) -> None:
     opened = Opened("amp-3")
     app = _app("amp-3", opened)
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
-        await _edit(pilot, E5, name="LOC", kind="EOG")
+        assert await _until(pilot, lambda: si.confirm_open(app))
+        await si.edit_channel(pilot, E5, name="LOC", kind="EOG")
         await pilot.press("a")
         assert await _until(pilot, lambda: app.connection is not None and len(opened.sources) == 2
                             and app.connection.channels[E5].name == "LOC")
@@ -228,28 +208,28 @@ async def test_saved_choice_is_used_on_reconnect(state_home: Path) -> None:
     async with app3.run_test(size=(110, 40)) as pilot:
         assert await _until(pilot, lambda: app3.connection is not None)
         assert app3.connection.channels[E5].kind == "EEG"
-        assert await _until(pilot, lambda: isinstance(app3.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app3))
 
 
 async def test_invalid_edits_are_said_on_screen_and_nothing_is_applied(state_home: Path) -> None:
     opened = Opened("amp-5")
     app = _app("amp-5", opened)
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         first = app.connection
         screen = app.screen
         # A type that is not a BIDS channel type: named, with what is accepted.
-        await _edit(pilot, E5, kind="EGG")
+        await si.edit_channel(pilot, E5, kind="EGG")
         assert await _until(pilot, lambda: "'EGG' is not known" in si.screen_text(app))
         assert "accepted: EEG, EOG" in si.screen_text(app)
         await pilot.press("a")
         assert await _until(pilot, lambda: "nothing was applied" in si.screen_text(app))
         assert app.screen is screen and app.connection is first
         # A name another channel already has.
-        await _edit(pilot, E5, name="Cz", kind="EOG")
+        await si.edit_channel(pilot, E5, name="Cz", kind="EOG")
         assert await _until(pilot, lambda: "gives the name 'Cz' to more than one channel" in si.screen_text(app))
         # Back to a valid set: the message goes; confirmed as it is.
-        await _edit(pilot, E5, name="E5", kind="EEG")
+        await si.edit_channel(pilot, E5, name="E5", kind="EEG")
         assert await _until(pilot, lambda: "more than one channel" not in si.screen_text(app))
         await pilot.press("a")
         assert await _until(pilot, lambda: not isinstance(app.screen, ChannelsScreen))
@@ -262,10 +242,10 @@ async def test_cancel_leaves_everything_as_it_was(state_home: Path) -> None:
     opened = Opened("amp-6")
     app = _app("amp-6", opened)
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         first = app.connection
         channels = first.channels
-        await _edit(pilot, E5, name="LOC", kind="EOG")
+        await si.edit_channel(pilot, E5, name="LOC", kind="EOG")
         assert await _until(pilot, lambda: "1 changed, not applied yet" in si.screen_text(app))
         await pilot.press("escape")
         assert await _until(pilot, lambda: not isinstance(app.screen, ChannelsScreen))
@@ -275,7 +255,7 @@ async def test_cancel_leaves_everything_as_it_was(state_home: Path) -> None:
         assert saved_choices("amp-6") is None and not store_folder().exists()
         # From Watch, c opens it again, as it was.
         await pilot.press("c")
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         assert app.screen.query_one(DataTable).get_row(str(E5))[3].plain == "EEG"
 
 
@@ -296,10 +276,10 @@ async def test_a_label_sent_twice_cannot_be_changed_and_says_why(state_home: Pat
                    source=opened(ident, None), services=Services(open_source=opened, make_monitor=Monitor,
                                                                  open_recorder=None))
     async with app.run_test(size=(110, 40)) as pilot:
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
         assert app.connection.channels[E5].name == "Cz#2"  # bedside keeps names unique
         assert "label repeats" in str(app.screen.query_one(DataTable).get_row(str(E5))[4])
-        await _edit(pilot, E5, kind="EOG")
+        await si.edit_channel(pilot, E5, kind="EOG")
         assert await _until(pilot, lambda: "to more than one channel (or none)" in si.screen_text(app))
         assert app.screen.query_one(DataTable).get_row(str(E5))[3].plain == "EEG"  # unchanged
 
@@ -315,7 +295,7 @@ async def test_while_measuring_the_screen_waits_for_watch(state_home: Path) -> N
         said = [n.message for n in app._notifications]  # Textual 8.2 keeps the app's notifications here
         assert any("20 scalp, 2 EOG" in m and "confirm or change them in Watch (F3)" in m for m in said)
         await pilot.press("f3")
-        assert await _until(pilot, lambda: isinstance(app.screen, ChannelsScreen))
+        assert await _until(pilot, lambda: si.confirm_open(app))
 
 
 async def test_the_app_engine_gets_the_same_options_as_check(state_home: Path) -> None:
