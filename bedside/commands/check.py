@@ -39,6 +39,7 @@ from bedside.commands._common import (
     positive_float,
     remember_choices,
 )
+from bedside.engine_setup import engine_options
 from bedside.errors import InputError
 
 NAME = "check"
@@ -101,29 +102,6 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         help="length of the clip (default: the whole look, --seconds; at most --seconds)",
     )
     p.set_defaults(func=run)
-
-
-def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], str]:
-    """Engine keyword arguments from what the source knows of its channels (bridging
-    neighbours from the geometry; the amplifier's range: from its profile — metadata,
-    ``--amplifier``, or on replay the file's physical range — else an integer stream's
-    numeric limits), and a note on the geometry."""
-    from bedside.placement.layout import geometry_neighbours
-    from bedside.stream.labels import load_labels
-
-    rules = rules or load_labels()
-    scalp = [c for c in source.channels if c.is_scalp]
-    positions = {c.name: c.position_mm for c in scalp if c.position_mm is not None}
-    pairs, note = geometry_neighbours([c.name for c in scalp], positions, rules.local_sites)
-    kwargs: dict[str, Any] = {"neighbours": pairs}
-    profile = getattr(source, "profile", None)
-    if profile is not None and profile.input_range_uv:
-        kwargs["amplifier_range_uv"] = profile.input_range_uv
-    else:  # an integer stream cannot go beyond its numeric limits: that is its rail
-        limit = getattr(source, "numeric_range_uv", None)
-        if isinstance(limit, float) and limit > 0:
-            kwargs["amplifier_range_uv"] = limit
-    return kwargs, note
 
 
 def collect(

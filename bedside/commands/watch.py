@@ -96,6 +96,7 @@ def app_config(args: argparse.Namespace, *, stream_name: str | None = None, star
         start_view=cast("View", args.view or start_view),
         update_hz=args.update_hz,
         export_dir=args.export_dir,
+        confirm_channels=True,
     )
 
 

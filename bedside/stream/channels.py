@@ -224,7 +224,7 @@ def apply_choices(
         out[i] = replace(ch, kind=kind, name=name, is_scalp=kind == "EEG", evidence="technologist",
                          note="; ".join(n for n in (ch.note, f"{said} set by the technologist") if n))
     names = Counter(c.name.upper() for c in out)
-    twice = [n for n, k in names.items() if k > 1]
+    twice = [c.name for c in out if names[c.name.upper()] > 1]
     if twice:
         raise InputError(f"{where} gives the name {twice[0]!r} to more than one channel; names must be unique")
     return tuple(out)

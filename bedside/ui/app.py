@@ -28,12 +28,13 @@ from bedside.ui.config import VIEWS, AppConfig, View
 from bedside.ui.export import plan_as_text, write_text_atomic
 from bedside.ui.feed import FeedProblem, FrameArrived, FrameFeed
 from bedside.ui.progress import GoodTracker, Progress
+from bedside.ui.screens.channels import ChannelsScreen
 from bedside.ui.screens.help import HelpScreen
 from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
 from bedside.ui.screens.picker import StreamPicker, streams_visible
 from bedside.ui.screens.watch import WatchScreen
-from bedside.ui.services import Services, default_services
+from bedside.ui.services import ChannelPreview, Services, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
@@ -50,9 +51,25 @@ class StreamsFound(Message):
 
 
 class Connected(Message):
-    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]]) -> None:
+    """A connection is running (its ``generation`` says which request started it).
+
+    note: said to the technologist once it is shown; confirmed: its channels are the
+    ones just confirmed in the channels screen (not asked again)."""
+
+    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]],
+                 note: str = "", confirmed: bool = False) -> None:
         super().__init__()
         self.connection, self.points = connection, points
+        self.note, self.confirmed = note, confirmed
+
+
+class ChannelsNotApplied(Message):
+    """The channel choices could not be applied; the stream is watched as before
+    (the connection of generation ``kept``, still running)."""
+
+    def __init__(self, generation: int, kept: int, text: str) -> None:
+        super().__init__()
+        self.generation, self.kept, self.text = generation, kept, text
 
 
 class MapPoints(Message):
@@ -115,6 +132,10 @@ class BedsideApp(App[int]):
         self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
+        #: Counts connection requests; a thread's message from an older one is dropped.
+        self._generation = 0
+        #: The channels screen is waiting to open on Watch (a new stream to confirm).
+        self._pending_confirm = False
         #: What became of the setup log, said once the app has closed (the CLI prints it).
         self.log_outcome = ""
 
@@ -206,6 +227,7 @@ class BedsideApp(App[int]):
         self._update_subtitle(name)
         if name == "watch":
             self._open_picker()
+            self.open_pending_confirm()
 
     def _update_subtitle(self, view: str | None = None) -> None:
         """The header names the view and, on every view, the pinned stream and its state."""
@@ -299,28 +321,117 @@ class BedsideApp(App[int]):
 
     def _connect(self, identity: StreamIdentity | None, source: Source | None) -> None:
         """Start watching (UI thread): forget the old stream's state, connect in a worker."""
+        self._forget_frames()
+        self._pending_confirm = False
+        old, self.connection = self.connection, None
+        self._generation += 1
+        self._connect_worker(identity, source, old, self._generation)
+
+    def _forget_frames(self) -> None:
         self.tracker.reset()
         self.latest_frame, self.progress = None, None
         self._last_frame_at = None
         self._connected_at = time.monotonic()
-        self._connect_worker(identity, source)
 
     @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
-    def _connect_worker(self, identity: StreamIdentity | None, source: Source | None) -> None:
-        old, self.connection = self.connection, None
+    def _connect_worker(self, identity: StreamIdentity | None, source: Source | None,
+                        old: Connection | None, generation: int) -> None:
         if old is not None:
             old.stop()
         try:
             if source is None:
                 assert identity is not None
-                source = self.services.open_source(identity)
-            feed = FrameFeed(self.post_message, self._frame_recorder)
-            conn = connect(self.services, source, self.config, feed)
+                source = self.services.open_source(identity, None)
+            conn = self._start(source, generation)
             points = self._points_for(conn)
         except BedsideError as exc:
             self.post_message(FeedProblem(f"could not start watching: {exc}"))
             return
         self.post_message(Connected(conn, points))
+
+    def _start(self, source: Source, generation: int) -> Connection:
+        """Engine and monitor on ``source`` (worker thread); frames carry ``generation``."""
+        feed = FrameFeed(self.post_message, self._frame_recorder, generation)
+        return connect(self.services, source, self.config, feed, generation)
+
+    # --- channels: what bedside inferred, confirmed or changed by the technologist ----
+    def open_channels(self) -> None:
+        """The channels screen for the stream being watched (Watch: c; also at connect)."""
+        conn = self.connection
+        if conn is None:
+            self.notify("no stream is being watched yet; its channels can be changed once it is",
+                        severity="warning", timeout=4)
+            return
+        if isinstance(self.screen, ChannelsScreen):
+            return
+        self._pending_confirm = False
+        self.push_screen(ChannelsScreen(conn), lambda preview: self._channels_chosen(conn, preview))
+
+    def open_pending_confirm(self) -> None:
+        """Open the channels screen if a new stream waits for it and Watch is in front
+        (elsewhere it waits: it would take the keys of someone typing)."""
+        if self._pending_confirm and self.current_view == "watch" and self.connection is not None:
+            self.open_channels()
+
+    def _channels_chosen(self, conn: Connection, preview: ChannelPreview | None) -> None:
+        """The screen's answer (UI thread). None: cancelled, nothing changes."""
+        if preview is None:
+            return
+        if conn is not self.connection:
+            self.notify("the stream changed while the channels were open; nothing was applied",
+                        severity="warning", timeout=6)
+            return
+        same = [(c.kind, c.name) for c in conn.channels] == [(c.kind, c.name) for c in preview.channels]
+        if same:  # confirmed as they are: remember that, keep the engine and its verdicts
+            self._save_choices(conn.identity.source_id, preview)
+            return
+        self._generation += 1
+        self._apply_channels(conn, preview, self._generation)
+
+    @work(thread=True, group="save-channels", exit_on_error=False)
+    def _save_choices(self, source_id: str, preview: ChannelPreview) -> None:
+        self.call_from_thread(self.notify, self._saved_note(source_id, preview), timeout=6)
+
+    def _saved_note(self, source_id: str, preview: ChannelPreview) -> str:
+        """Save the choices for this source_id (worker thread) and say so."""
+        try:
+            path = self.services.save_channel_choices(source_id, preview.choices)
+        except BedsideError as exc:
+            path, why = None, str(exc)
+        else:
+            why = "see bedside.log"
+        if path is None:
+            return f"channels: {preview.summary} — not saved for next time ({why}); they hold for this session"
+        return f"channels: {preview.summary} — saved for this amplifier (source_id {source_id!r})"
+
+    @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
+    def _apply_channels(self, old: Connection, preview: ChannelPreview, generation: int) -> None:
+        """Reopen the stream with the new channel set and rebuild the engine on it; the
+        old connection runs on until the new source is open (a refusal keeps it)."""
+        try:
+            source = self.services.open_source(old.identity, preview.choices)
+        except BedsideError as exc:
+            self.post_message(ChannelsNotApplied(generation, old.generation, f"channels not changed: {exc}"))
+            return
+        old.stop()
+        try:
+            conn = self._start(source, generation)
+            points = self._points_for(conn)
+        except BedsideError as exc:
+            source.close()
+            self.post_message(FeedProblem(f"could not start watching with the new channels: {exc}"))
+            return
+        note = self._saved_note(conn.identity.source_id, preview)
+        self.post_message(Connected(conn, points, note=note, confirmed=True))
+
+    def on_channels_not_applied(self, message: ChannelsNotApplied) -> None:
+        if message.generation == self._generation:  # nothing newer asked meanwhile
+            self._generation = message.kept  # the old connection's frames count again
+            self.notify(message.text, severity="error", timeout=10)
+
+    @work(thread=True, group="stale", exit_on_error=False)
+    def _stop_stale(self, conn: Connection) -> None:
+        conn.stop()
 
     def _frame_recorder(self) -> tuple[Any, Any] | None:
         gate = self.recorder
@@ -341,7 +452,13 @@ class BedsideApp(App[int]):
         return {n: self.services.project_2d(p) for n, p in xyz.items()}
 
     def on_connected(self, message: Connected) -> None:
-        self.connection = message.connection
+        conn = message.connection
+        if conn.generation != self._generation:  # a newer request started meanwhile
+            self._stop_stale(conn)
+            return
+        if message.confirmed:  # the new channel set: the old one's verdicts are void
+            self._forget_frames()
+        self.connection = conn
         self.identity = message.connection.identity
         self.points = message.points
         self._monitor_error_shown = False
@@ -353,8 +470,21 @@ class BedsideApp(App[int]):
         if self._watch_ready():
             self.views["watch"].set_points(message.points)
         self._refresh_watch_status()
+        if message.note:
+            self.notify(message.note, timeout=8)
+        if self.config.confirm_channels and not message.confirmed:
+            if all(ch.evidence == "technologist" for ch in conn.channels):
+                self.notify(f"channels as confirmed before for this amplifier: {conn.summary} (Watch: c to change)",
+                            timeout=6)
+            else:
+                self._pending_confirm = True
+                self.open_pending_confirm()
+                if self._pending_confirm:
+                    self.notify(f"channels: {conn.summary} — confirm or change them in Watch (F3)", timeout=8)
 
     def on_frame_arrived(self, message: FrameArrived) -> None:
+        if message.generation is not None and message.generation != self._generation:
+            return  # from a connection that has been replaced
         frame = message.frame
         self.latest_frame = frame
         self._last_frame_at = time.monotonic()

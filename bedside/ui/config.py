@@ -19,7 +19,11 @@ class AppConfig:
     kept, e.g. in snapshot tests). update_hz: the monitor's rate (frames per second).
     trace_s: seconds of the selected channel shown as a trace. stale_after_s: if no
     frame arrives for this long the UI itself shows "no data" (a stalled monitor
-    never leaves old colours on screen as if live).
+    never leaves old colours on screen as if live). confirm_channels: when a stream
+    connects whose channels were not confirmed before (for its source_id), open the
+    channels screen on Watch so the technologist confirms or changes what bedside
+    inferred (``bedside watch`` and ``bedside demo`` turn it on; off by default so an
+    embedding or a test sees Watch as it is).
     """
 
     system: str = "10-20"
@@ -40,5 +44,6 @@ class AppConfig:
     trace_s: float = 2.0
     stale_after_s: float = 2.5
     discover: bool = True
+    confirm_channels: bool = False
     export_dir: Path = field(default_factory=Path.cwd)
     title: str = "bedside"

@@ -31,11 +31,16 @@ log = logging.getLogger("bedside")
 
 
 class FrameArrived(Message):
-    """A new QualityFrame from the monitor (replaces an older one still queued)."""
+    """A new QualityFrame from the monitor (replaces an older one still queued).
 
-    def __init__(self, frame: QualityFrame) -> None:
+    generation: the connection that sent it (the app drops frames of a connection it
+    has replaced, e.g. after the channels were changed); None: shown whatever the
+    connection (frames handed in by tests and replays)."""
+
+    def __init__(self, frame: QualityFrame, generation: int | None = None) -> None:
         super().__init__()
         self.frame = frame
+        self.generation = generation
 
     def can_replace(self, message: Message) -> bool:
         return isinstance(message, FrameArrived)
@@ -111,7 +116,7 @@ class FrameFeed:
     """The monitor's ``on_frame``: log the frame (off the UI thread), then post it.
 
     ``post`` is the app's thread-safe ``post_message``; ``record`` is the log's
-    ``on_frame`` (or None). A failing log write never stops the frames: it is
+    ``on_frame`` (or None); ``generation`` tags every frame with its connection. A failing log write never stops the frames: it is
     reported once per distinct message.
     """
 
@@ -119,9 +124,11 @@ class FrameFeed:
         self,
         post: Callable[[Message], Any],
         recorder: Callable[[], tuple[Callable[[QualityFrame], None], AbstractContextManager[Any]] | None],
+        generation: int | None = None,
     ) -> None:
         self._post = post
         self._recorder = recorder
+        self._generation = generation
         self._last_problem = ""
 
     def __call__(self, frame: QualityFrame) -> None:
@@ -136,4 +143,4 @@ class FrameFeed:
                 if text != self._last_problem:
                     self._last_problem = text
                     self._post(FeedProblem(text))
-        self._post(FrameArrived(frame))
+        self._post(FrameArrived(frame, self._generation))

@@ -8,7 +8,7 @@ import or a missing liblsl never blocks the screen.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Protocol
@@ -92,15 +92,78 @@ def _select_stream(
     return select_stream(list(streams), name=name, source_id=source_id, host=host)
 
 
-def _open_source(identity: StreamIdentity) -> Source:
+def source_options(source_id: str, choices: Mapping[str, Any] | None = None) -> Any:
+    """The ChannelOptions the app opens a stream with: ``choices`` just confirmed in the
+    app (strict: they were made for this stream), else the ones saved for this
+    source_id (not strict: the amplifier may carry other channels today), else none."""
     from bedside.stream.channel_map import saved_choices
     from bedside.stream.channels import ChannelOptions
+
+    if choices is not None:
+        return ChannelOptions(choices=choices, choices_from="the channel choices made in the app")
+    return ChannelOptions(choices=saved_choices(source_id) or {},
+                          choices_from="the channel choices saved for this source_id", choices_strict=False)
+
+
+def _open_source(identity: StreamIdentity, choices: Mapping[str, Any] | None = None) -> Source:
     from bedside.stream.reader import LslSource
 
-    # The technologist's channel choices saved for this amplifier (source_id), if any.
-    saved = saved_choices(identity.source_id) or {}
-    return LslSource(identity, options=ChannelOptions(
-        choices=saved, choices_from="the channel choices saved for this source_id", choices_strict=False))
+    return LslSource(identity, options=source_options(identity.source_id, choices))
+
+
+@dataclass(frozen=True)
+class ChannelPreview:
+    """The channels as they would be with the technologist's edits.
+
+    channels: the new channel set; choices: label → ChannelChoice, ready for
+    ``open_source`` and ``save_channel_choices``; summary: "19 scalp, 2 EOG, …"."""
+
+    channels: tuple[ChannelInfo, ...]
+    choices: Mapping[str, Any]
+    summary: str
+
+
+def _channel_types() -> tuple[str, ...]:
+    from bedside.stream.labels import KINDS
+
+    return tuple(KINDS)
+
+
+def _describe_channels(channels: Sequence[ChannelInfo]) -> str:
+    from bedside.stream.channels import kind_counts
+
+    return kind_counts(channels)
+
+
+def _preview_channels(channels: Sequence[ChannelInfo], edits: Mapping[str, tuple[str, str]]) -> ChannelPreview:
+    """``edits``: stream label → (type, name) as typed. Types and names are checked by
+    the same code as a ``--channels`` file (unknown type, empty or repeated name: an
+    InputError that says what is accepted)."""
+    from bedside.errors import InputError
+    from bedside.stream.channels import ChannelChoice, apply_choices, kind_counts
+
+    choices: dict[str, ChannelChoice] = {}
+    for label, (kind, name) in edits.items():
+        text = kind.strip().upper()
+        if not text:
+            raise InputError(f"channel {label!r} has no type; give one of the BIDS types (EEG, EOG, ECG, EMG, MISC, …)")
+        if not name.strip():
+            raise InputError(f"channel {label!r} has an empty name; give the name to show")
+        try:
+            choices[label] = ChannelChoice(text, name.strip())
+        except InputError as exc:
+            raise InputError(f"channel {label!r}: {exc}") from None
+    out = apply_choices(channels, choices, "these choices")
+    if not any(c.is_scalp for c in out):
+        raise InputError("with these choices no channel is scalp EEG, so nothing would be judged; "
+                         "give at least one channel the type EEG")
+    return ChannelPreview(out, choices, kind_counts(out))
+
+
+def _save_channel_choices(source_id: str, choices: Mapping[str, Any]) -> Path | None:
+    from bedside.stream.channel_map import save_choices
+
+    return save_choices(source_id, choices)
 
 
 def _load_quality() -> Any:
@@ -109,22 +172,14 @@ def _load_quality() -> Any:
     return load_quality()
 
 
-def _make_engine(
-    settings: Any,
-    channels: tuple[ChannelInfo, ...],
-    rate_hz: float,
-    neighbours: tuple[tuple[str, str], ...] | None,
-) -> Any:
+def _make_engine(settings: Any, source: Source) -> tuple[Any, str]:
     from bedside.checks.engine import Engine
+    from bedside.engine_setup import engine_options
 
-    if neighbours is None:  # from the channels' own positions where the stream gives them
-        from bedside.placement.layout import geometry_neighbours
-        from bedside.stream.labels import load_labels
-
-        scalp = [c for c in channels if c.is_scalp]
-        pos = {c.name: c.position_mm for c in scalp if c.position_mm is not None}
-        neighbours, _note = geometry_neighbours([c.name for c in scalp], pos, load_labels().local_sites)
-    return Engine(settings, channels, rate_hz, neighbours)
+    # The same options as ``bedside check`` (geometry neighbours, amplifier range), so
+    # the app and the command judge a stream alike.
+    kwargs, note = engine_options(source)
+    return Engine(settings, source.channels, source.identity.nominal_rate_hz, **kwargs), note
 
 
 def _make_monitor(
@@ -157,11 +212,18 @@ class Services:
     select_stream: Callable[
         [Sequence[StreamIdentity], str | None, str | None, str | None], StreamIdentity
     ] = _select_stream
-    open_source: Callable[[StreamIdentity], Source] = _open_source
+    #: (identity, choices): choices None → the ones saved for its source_id, if any.
+    open_source: Callable[[StreamIdentity, Mapping[str, Any] | None], Source] = _open_source
     load_quality: Callable[[], Any] = _load_quality
-    make_engine: Callable[
-        [Any, tuple[ChannelInfo, ...], float, tuple[tuple[str, str], ...] | None], Any
-    ] = _make_engine
+    #: (settings, source) → (engine, note): the engine for the source's channels, geometry
+    #: and amplifier, and where its bridging neighbours came from.
+    make_engine: Callable[[Any, Source], tuple[Any, str]] = _make_engine
+    describe_channels: Callable[[Sequence[ChannelInfo]], str] = _describe_channels
+    #: The BIDS channels.tsv types a channel may be given (EEG, EOG, ECG, …).
+    channel_types: Callable[[], tuple[str, ...]] = _channel_types
+    preview_channels: Callable[[Sequence[ChannelInfo], Mapping[str, tuple[str, str]]], ChannelPreview] = (
+        _preview_channels)
+    save_channel_choices: Callable[[str, Mapping[str, Any]], Path | None] = _save_channel_choices
     make_monitor: Callable[[Source, Any, Callable[[Any], None], float], MonitorLike] = _make_monitor
     open_recorder: Callable[[Path, str, str, Sequence[Path]], RecorderLike] | None = _open_recorder
     extra: dict[str, Any] = field(default_factory=dict)

@@ -34,6 +34,14 @@ class Connection:
     engine: Any
     monitor: MonitorLike
     neighbours: tuple[tuple[str, str], ...]
+    #: What bedside inferred, in words ("19 scalp, 2 EOG, 1 ECG, 1 EMG, 2 not judged").
+    summary: str = ""
+    #: The types a channel may be given (BIDS channels.tsv), for the channels screen.
+    channel_types: tuple[str, ...] = ()
+    #: Where the bridging neighbours came from (positions, 10-10 names, or all pairs).
+    geometry_note: str = ""
+    #: The app's connection counter when this one was started (stale messages are dropped).
+    generation: int = 0
     _stopped: bool = False
 
     def stop(self) -> None:
@@ -51,22 +59,26 @@ def connect(
     source: Source,
     config: AppConfig,
     on_frame: Callable[[QualityFrame], None],
+    generation: int = 0,
 ) -> Connection:
     """Wrap ``source`` for display, build the engine and start the monitor thread."""
     tee = TeeSource(source, seconds=max(config.trace_s, 4.0))
     try:
         settings = services.load_quality()
         ident = source.identity
-        # No neighbours given: the engine takes the placement's graph for the stream's own
-        # labels. A plan's graph covers only its system and naming (a 10-20 plan knows no
-        # FC1; a classic plan says T3 where the stream says T7): bridging would skip pairs.
-        engine = services.make_engine(settings, source.channels, ident.nominal_rate_hz, None)
+        # Neighbours from the stream's own geometry (never the measured plan's graph: it
+        # covers only its system and naming, so bridging would skip pairs) and the
+        # amplifier's range, as ``bedside check`` builds them.
+        engine, geometry = services.make_engine(settings, source)
+        summary = services.describe_channels(source.channels)
+        kinds = services.channel_types()
         monitor = services.make_monitor(tee, engine, on_frame, config.update_hz)
         monitor.start()
     except BaseException:
         tee.close()
         raise
-    return Connection(ident, source.channels, tee, engine, monitor, engine_neighbours(engine))
+    return Connection(ident, source.channels, tee, engine, monitor, engine_neighbours(engine), summary,
+                      kinds, geometry, generation)
 
 
 def engine_neighbours(engine: Any) -> tuple[tuple[str, str], ...]:

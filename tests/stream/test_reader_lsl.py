@@ -148,7 +148,7 @@ def test_counts_are_scaled_by_uv_per_count(feeders) -> None:  # type: ignore[no-
         # An int16 stream cannot go past ±32767 counts (numpy.iinfo): its rail, in µV,
         # is what the engine judges clipping against when no amplifier range is known.
         assert src.numeric_range_uv == np.iinfo(np.int16).max * 0.5
-        from bedside.commands.check import engine_options
+        from bedside.engine_setup import engine_options
 
         kwargs, _note = engine_options(src)
         assert kwargs["amplifier_range_uv"] == np.iinfo(np.int16).max * 0.5

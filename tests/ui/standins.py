@@ -261,9 +261,9 @@ def services(
         project_2d=project_2d,
         find_streams=lambda wait_s: list(found),
         select_stream=select,
-        open_source=lambda ident: FixedSource(),
+        open_source=lambda ident, choices: FixedSource(),
         load_quality=lambda: None,
-        make_engine=lambda settings, chans, rate, nb: None,
+        make_engine=lambda settings, source: (None, ""),
         make_monitor=lambda src, eng, on_frame, hz: ScriptedMonitor(src, frame_list, on_frame, hz),
         open_recorder=(lambda path, tech, subj, cfgs: recorder) if recorder is not None else None,
     )
@@ -332,3 +332,38 @@ def real_monitor_or_standin() -> Callable[..., Any]:
     except ImportError:
         return PullLoop
     return Monitor  # type: ignore[no-any-return]
+
+
+def confirm_open(app: Any) -> bool:
+    """The channels screen is up with its rows (it is pushed before it is drawn)."""
+    from textual.widgets import DataTable
+
+    from bedside.ui.screens.channels import ChannelsScreen
+
+    screen = app.screen
+    if not isinstance(screen, ChannelsScreen) or not screen.is_mounted:
+        return False
+    tables = screen.query(DataTable)
+    return bool(tables) and tables.first().row_count > 0
+
+
+async def edit_channel(pilot: Any, row: int, *, name: str | None = None, kind: str | None = None) -> None:
+    """As typed: choose the row, Tab to its name field, then its type field (Home,
+    Ctrl-K clears a field), Enter sets both."""
+    from textual.widgets import DataTable, Input
+
+    screen = pilot.app.screen
+    table = screen.query_one(DataTable)
+    table.focus()
+    table.move_cursor(row=row)
+    await pilot.pause(0.05)
+    await pilot.press("tab")
+    assert screen.focused is screen.query_one("#channel-name", Input)
+    if name is not None:
+        await pilot.press("home", "ctrl+k", *name)
+    if kind is not None:
+        await pilot.press("tab")
+        assert screen.focused is screen.query_one("#channel-type", Input)
+        await pilot.press("home", "ctrl+k", *kind.lower())
+    await pilot.press("enter")
+    await pilot.pause(0.1)

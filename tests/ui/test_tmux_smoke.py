@@ -70,8 +70,12 @@ def test_demo_as_a_person_uses_it(tmp_path: Path) -> None:
     )
     tmux.run("new-session", "-d", "-s", "smoke", "-x", "100", "-y", "40", cmd)
     try:
+        # At connect: what bedside inferred of the channels, to confirm (a) or change.
+        shown = tmux.wait_for(lambda s: "Channels of bedside-demo-" in s and " scalp" in s, 30)
+        assert "decided by" in shown
+        tmux.keys("a")
         # Watch: the stream is pinned and live, the ward demo's bridge is drawn.
-        shown = tmux.wait_for(lambda s: "◉ live" in s and "bridge" in s, 30)
+        shown = tmux.wait_for(lambda s: "◉ live" in s and "bridge" in s and "Channels of" not in s, 30)
         assert "bedside-demo-" in shown and "not good yet" in shown
         tmux.keys("n")  # the next electrode to fix
         # Measure: three measurements, typed.
@@ -96,6 +100,8 @@ def test_demo_as_a_person_uses_it(tmp_path: Path) -> None:
         tmux.wait_for(lambda s: "T7 re-seated" in s and "note added" in s, 10)
         # Help, then leave with Ctrl-C: the log is saved, the exit is clean.
         tmux.keys("F1")
+        tmux.wait_for(lambda s: "bedside — help" in s and "Channels" in s, 5)
+        tmux.keys("End")  # the cautions follow the keys
         tmux.wait_for(lambda s: "Cautions" in s, 5)
         tmux.keys("Escape", "C-c")
         end = time.monotonic() + 15

@@ -31,6 +31,12 @@ KEYS = (
         ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
         ("v", "trace as recorded → average reference → bipolar"),
         ("p / r", "pick another stream / look for streams again"),
+        ("c", "channels: confirm or change each channel's type and name"),
+    )),
+    ("Channels", (
+        ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
+        ("Enter", "set the field (the whole set is checked at once)"),
+        ("a / Esc", "apply and save for this amplifier / leave everything as it was"),
     )),
     ("Log", (
         ("Enter", "in 'note': add the note; in 'kΩ': record the impedance"),

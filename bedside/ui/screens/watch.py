@@ -52,8 +52,9 @@ class WatchScreen(Screen[None]):
     BINDINGS = [
         Binding("t", "toggle_trace", "Trace"),
         Binding("v", "cycle_derivation", "Derivation"),
-        Binding("n", "next_not_good", "Next to fix"),
-        Binding("p", "pick_stream", "Pick stream"),
+        Binding("n", "next_not_good", "To fix"),
+        Binding("c", "channels", "Channels"),
+        Binding("p", "pick_stream", "Streams"),
         Binding("r", "rescan", "Look again", show=False),
     ]
 
@@ -109,6 +110,7 @@ class WatchScreen(Screen[None]):
         self._ready = False
 
     def on_screen_resume(self) -> None:
+        self.bedside.open_pending_confirm()  # a new stream's channels, if they wait
         self.set_points(self.bedside.points)
         self.refresh_status()
         app = self.bedside
@@ -217,6 +219,9 @@ class WatchScreen(Screen[None]):
         if self.selected in names:
             nxt = names[(names.index(self.selected) + 1) % len(names)]
         self.query_one(ChannelTable).select_name(nxt)
+
+    def action_channels(self) -> None:
+        self.bedside.open_channels()
 
     def action_pick_stream(self) -> None:
         self.bedside.discover(force_picker=True)
