@@ -146,6 +146,11 @@ def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_th
         return float(minimize_scalar(density).x)
 
 
+#: Hops (1 s each) pooled for the correlation check's in-band covariance (bedside.checks.
+#: correlation): 4 s, the engine's window.
+CORR_HOPS = 4
+
+
 class BridgeDetector:
     """Incremental bridging after MNE-Python's procedure (see module docstring).
 
@@ -156,8 +161,10 @@ class BridgeDetector:
     C × C product per sample block, the density only when an epoch completes.
     """
 
-    def __init__(self, n_channels: int, rate_hz: float, pairs: np.ndarray, settings: BridgingSettings) -> None:
+    def __init__(self, n_channels: int, rate_hz: float, pairs: np.ndarray, settings: BridgingSettings,
+                 keep_covs: int = 1) -> None:
         self.n_channels = c = int(n_channels)
+        self.keep_covs = max(1, int(keep_covs))
         self.rate_hz = float(rate_hz)
         self.settings = s = settings
         p = np.asarray(pairs, dtype=np.int64).reshape(-1, 2)
@@ -183,7 +190,13 @@ class BridgeDetector:
         self._ed: deque[np.ndarray] = deque(maxlen=max(n, self.settings.density_epochs))  # (all pairs,) ED µV² per epoch
         self._var: deque[np.ndarray] = deque(maxlen=n)      # (C,) in-band variance per epoch
         self._cov_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
+        self.latest_cov: np.ndarray | None = None  # (C, C) in band, about each hop's mean, newest CORR_HOPS hops
+        self._within: deque[np.ndarray] = deque(maxlen=CORR_HOPS)
+        #: (hop number, latest_cov) for the newest ``keep_covs`` hops.
+        self.recent_covs: deque[tuple[int, np.ndarray]] = deque(maxlen=self.keep_covs)
+        self._within_n: deque[int] = deque(maxlen=CORR_HOPS)
         self.epochs_done = 0
+        self.hops_done = 0
         self._memo: tuple[tuple[int, bytes], CheckResult] | None = None
 
     # ------------------------------------------------------------------ input
@@ -205,6 +218,14 @@ class BridgeDetector:
             pos += take
             if self._acc_n == self._hop:
                 self._hops.append((self._acc, self._acc_sum, self._acc_n))
+                # The hop about its own mean, for the correlation check's covariance
+                # (the newest CORR_HOPS hops): what is slower than a hop is left out.
+                self._within.append(self._acc - np.outer(self._acc_sum, self._acc_sum) / self._acc_n)
+                self._within_n.append(self._acc_n)
+                pooled: np.ndarray = np.sum(self._within, axis=0) / max(sum(self._within_n), 1)
+                self.latest_cov = pooled
+                self.hops_done += 1
+                self.recent_covs.append((self.hops_done, pooled))
                 c = self.n_channels
                 self._acc, self._acc_sum, self._acc_n = np.zeros((c, c)), np.zeros(c), 0
                 if len(self._hops) == self._hops_per_epoch:

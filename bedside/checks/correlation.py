@@ -5,38 +5,46 @@ a channel is bad when the 98th percentile of its absolute correlation with the o
 channels is below 0.4. Volume conduction makes scalp EEG spatially smooth, so every
 electrode that touches the scalp correlates strongly with some others; a lead that
 carries only amplifier noise, a broken wire or an input with nothing on it does not.
-PREP judges 1-s windows (bad in more than 1 % of them); we judge the engine's window
-of the analysis copy, within its 0.25-s blocks (what is slower is left out), and the check is skipped with fewer than ``min_channels``
+PREP judges 1-s windows (bad in more than 1 % of them) of the EEG band; we judge the
+newest 2-s epoch of the bridging detector's 0.5–30 Hz band (bridging.BridgeDetector:
+one band-pass for both; mains, muscle and drift, which a lead does not share with its
+neighbours, are outside it), and the check is skipped with fewer than ``min_channels``
 valid scalp leads (nothing to compare with).
 
-Metric: corr_98 (the 98th percentile of |r| with the other valid scalp leads).
+Metrics: corr_98 (the 98th percentile of |r| with the other valid scalp leads, in the
+newest window) and corr_98_lowest (its lowest over the newest ``windows`` windows, what
+the level is judged on).
 """
 
 from __future__ import annotations
+
+from collections.abc import Sequence
 
 import numpy as np
 
 from bedside.checks.base import BAD, GOOD, CheckResult, Context, levels_from
 from bedside.checks.settings import QualitySettings
-from bedside.checks.window_stats import WindowStats
 
 NAME = "correlation"
 
+#: Checks whose verdict on a lead speaks first (also flat at "bad"): while they flag it,
+#: and until their fault has left the pooled covariance, the lead is not judged here.
+SPEAKS_FIRST = ("line_noise", "pops", "clipping", "drift", "amplitude", "muscle")
 
-def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
+
+def corr_98(cov_uv2: np.ndarray | None, valid: np.ndarray, settings: QualitySettings) -> np.ndarray:
+    """(C,) the percentile of each valid lead's |r| with the other valid leads, from a
+    (C, C) covariance; NaN where not judged (not valid, no variance, too few leads)."""
     cs = settings.correlation
-    n = len(ctx.names)
+    n = len(valid)
     corr = np.full(n, np.nan)
-    level = np.zeros(n, dtype=np.int8)
-    # The scatter within the blocks (about each block's own mean): the window without
-    # what is slower than the blocks (drift and eye movements, shared by every lead on
-    # one reference, would make even a dead input look alike).
-    within = stats.within_uv2
-    var = np.diag(within)
-    idx = np.flatnonzero(ctx.valid & (var > 0))
+    if cov_uv2 is None:
+        return corr
+    var = np.diag(cov_uv2)
+    idx = np.flatnonzero(valid & (var > 0))
     if len(idx) < cs.min_channels:
-        return CheckResult(NAME, {"corr_98": corr}, level)
-    sub = within if len(idx) == n else within[np.ix_(idx, idx)]
+        return corr
+    sub = cov_uv2 if len(idx) == n else cov_uv2[np.ix_(idx, idx)]
     inv = 1.0 / np.sqrt(np.diag(sub))
     r = np.abs(sub * np.outer(inv, inv))
     k = len(idx)
@@ -49,15 +57,31 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
     part = np.sort(r, axis=1)
     frac = pos - lo
     corr[idx] = part[:, lo + 1] * (1.0 - frac) + part[:, hi + 1] * frac
-    level = levels_from(corr, cs.check_below, cs.bad_below, below=True)
-    level[np.isnan(corr)] = GOOD
-    median = float(np.median(corr[idx]))
+    return corr
+
+
+def evaluate(history: Sequence[np.ndarray], ctx: Context, settings: QualitySettings) -> CheckResult:
+    """history: corr_98 of the newest windows, oldest first (one per 1-s hop, at most
+    ``correlation.windows``); judged by the lowest — PREP calls a channel bad when it is
+    below the threshold in more than 1 % of its windows; live, in any of the newest."""
+    cs = settings.correlation
+    n = len(ctx.names)
+    if not history:
+        nan = np.full(n, np.nan)
+        return CheckResult(NAME, {"corr_98": nan, "corr_98_lowest": nan.copy()}, np.zeros(n, dtype=np.int8))
+    current = history[-1]
+    with np.errstate(invalid="ignore"):
+        lowest = np.fmin.reduce(np.vstack(history), axis=0)
+    level = levels_from(lowest, cs.check_below, cs.bad_below, below=True)
+    level[np.isnan(lowest) | ~ctx.valid] = GOOD
+    judged = ~np.isnan(current)
+    median = float(np.median(current[judged])) if judged.any() else float("nan")
     reasons = {
         int(i): (
-            f"unlike every other lead: correlation at most {corr[i]:.2f} with the others"
-            f" (median lead {median:.2f}) — it carries {'no' if level[i] == BAD else 'little'} EEG;"
-            " check that the lead is plugged in and the electrode touches the skin"
+            f"unlike every other lead: correlation down to {lowest[i]:.2f} with the others in the last"
+            f" {len(history)} s (median lead {median:.2f}) — it carries {'no' if level[i] == BAD else 'little'}"
+            " EEG; check that the lead is plugged in and the electrode touches the skin"
         )
         for i in np.flatnonzero(level)
     }
-    return CheckResult(NAME, {"corr_98": corr}, level, reasons)
+    return CheckResult(NAME, {"corr_98": current, "corr_98_lowest": lowest}, level, reasons)

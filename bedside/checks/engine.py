@@ -160,7 +160,10 @@ class Engine:
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
         # Bridging judges the analysis copy (250–500 Hz): the same band, less work.
-        self._bridge = bridging.BridgeDetector(c, self.analysis_rate_hz, self.neighbours, settings.bridging)
+        self._bridge = bridging.BridgeDetector(c, self.analysis_rate_hz, self.neighbours, settings.bridging,
+                                               keep_covs=settings.correlation.windows)
+        self._corr_cache: dict[tuple[int, bytes], np.ndarray] = {}
+        self._taint_hop = np.full(c, -(10**9), dtype=np.int64)  # last hop another check flagged
         self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates,
                                settings.hold.relapse_window_s, settings.hold.relapse_hold_s)
         self._fhold = FindingHold(settings.hold.hold_s)
@@ -264,6 +267,8 @@ class Engine:
         )
         self._n_pending = 0
         self._bridge.reset()
+        self._corr_cache.clear()
+        self._taint_hop[:] = -(10**9)
         self._hold.reset()
         self._fhold.reset()
         self._spec_gen += 1
@@ -343,6 +348,32 @@ class Engine:
             {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
         )
 
+    def _correlation_history(self, valid: np.ndarray) -> list[np.ndarray]:
+        """corr_98 per bridging hop (1 s) for the newest correlation.windows hops, with
+        today's valid channels (each computed once per hop and valid set). A hop in which
+        a lead's own in-band power jumps (a pop, a movement: correlation.artifact_ratio
+        times its median over these hops) says nothing about whether it carries EEG:
+        that lead's value there is left out (NaN)."""
+        mask = valid.tobytes()
+        out, cache = [], {}
+        covs = list(self._bridge.recent_covs)
+        for hop, cov in covs:
+            key = (hop, mask)
+            got = self._corr_cache.get(key)
+            if got is None:
+                got = correlation.corr_98(cov, valid, self.settings)
+            cache[key] = got
+            out.append(got)
+        self._corr_cache = cache
+        clean_from = self._taint_hop + bridging.CORR_HOPS  # first hop whose pool is clear of it
+        out = [np.where(hop >= clean_from, v, np.nan) for (hop, _cov), v in zip(covs, out, strict=True)]
+        if len(covs) >= 3:
+            power = np.vstack([np.diag(cov) for _hop, cov in covs])
+            jump = power > self.settings.correlation.artifact_ratio * np.median(power, axis=0)
+            if jump.any():
+                out = [np.where(j, np.nan, v) for j, v in zip(jump, out, strict=True)]
+        return out
+
     def _recent_segments(self) -> int:
         """Spectral segments in the newest line_noise.recent_s (the fast-reacting spectrum)."""
         hop_s = self.settings.segment_s / 2
@@ -418,8 +449,16 @@ class Engine:
             "clipping": artifacts.clipping(stats, ctx, s),
             "muscle": muscle_res,
             "amplitude": artifacts.amplitude(stats, ctx, s),
-            "correlation": correlation.evaluate(stats, ctx, s),
         }
+        # A lead another check flags has that check's reason; while it does, and for the
+        # hops its fault still sits in the pooled covariance, the correlation says nothing
+        # of it (a pop or a dead stretch makes any lead unlike the others for a while).
+        hop = self._bridge.hops_done
+        taint = results["flat"].level >= BAD
+        for name in correlation.SPEAKS_FIRST:
+            taint |= results[name].level > GOOD
+        self._taint_hop[taint] = hop
+        results["correlation"] = correlation.evaluate(self._correlation_history(valid), ctx, s)
         phasors = None
         if self._mains_hz is not None:
             phasors = self._spec.phasors(self._mains_hz, self._recent_segments())

@@ -159,7 +159,9 @@ class ArtifactSettings:
 @dataclass(frozen=True)
 class CorrelationSettings:
     percentile: float = field(default=98.0, metadata=_rng(50.0, 100.0))
-    check_below: float = field(default=0.25, metadata=_rng(0.0, 1.0))
+    windows: int = field(default=5, metadata=_rng(1, 600))
+    artifact_ratio: float = field(default=4.0, metadata=_rng(1.0, 1e6))
+    check_below: float = field(default=0.4, metadata=_rng(0.0, 1.0))
     bad_below: float = field(default=0.15, metadata=_rng(0.0, 1.0))
     min_channels: int = field(default=4, metadata=_rng(3, 1000))
 

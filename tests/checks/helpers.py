@@ -24,14 +24,15 @@ def channels(names: Sequence[str], non_scalp: Sequence[str] = ()) -> list[Channe
 def eeg_like(n: int, c: int, rate_hz: float, seed: int = 0, rms_uv: float = 15.0) -> np.ndarray:
     """Band-limited (1–30 Hz, 2nd-order Butterworth) noise, ~rms_uv per channel, shared
     between channels next to each other in stream order as scalp EEG is shared between
-    neighbouring electrodes (each channel is the sum of three neighbouring sources on a
-    ring: correlation 2/3 with each neighbour; real EEG's strongest correlation with
-    another lead is about 0.95, tests/data recordings). Independent channels would look
-    like leads carrying no EEG (PREP's correlation criterion, Bigdely-Shamlo 2015)."""
+    neighbouring electrodes (each channel is the sum of five neighbouring sources on a
+    ring: correlation 4/5 with the next channel, 3/5 with the one after; real EEG's
+    strongest correlation with another lead is about 0.95, tests/data recordings).
+    Independent channels would look like leads carrying no EEG (PREP's correlation
+    criterion, Bigdely-Shamlo 2015)."""
     rng = np.random.default_rng(seed)
     sos = butter(2, [1.0, 30.0], btype="bandpass", fs=rate_hz, output="sos")
     s = sosfilt(sos, rng.normal(size=(n + int(rate_hz), c)), axis=0)[int(rate_hz):]
-    x = s + np.roll(s, 1, axis=1) + np.roll(s, -1, axis=1) if c >= 3 else s
+    x = sum(np.roll(s, k, axis=1) for k in (-2, -1, 0, 1, 2)) if c >= 5 else s
     return x / x.std(axis=0) * rms_uv + rng.normal(0, 0.5, size=(n, c))
 
 

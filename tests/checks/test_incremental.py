@@ -81,9 +81,13 @@ def test_verdicts_equal_a_fresh_engine_on_the_window(streamed) -> None:  # type:
     # checked against scipy + numpy.var in test_bridging.py (fed in uneven chunks).
     keys = ("rms_uv", "ptp_uv", "line_noise_db", "mains_uv", "drift_uv_per_s", "slow_uv",
             "muscle_ratio", "clip_fraction")
+    # The correlation check likewise judges its own 1-s windows of that band.
+    def own(checks: dict[str, str]) -> dict[str, str]:
+        return {k: v for k, v in checks.items() if k != "correlation"}
+
     for name in TEN_TWENTY:
         a, b = by_name(frame, name), by_name(ref, name)
-        assert a.checks == b.checks, name
+        assert own(a.checks) == own(b.checks), name
         for k in keys:
             assert a.metrics[k] == pytest.approx(b.metrics[k], rel=1e-7, abs=1e-9), (name, k)
     assert by_name(frame, "T7").checks["line_noise"] != "good"
