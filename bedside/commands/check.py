@@ -60,7 +60,7 @@ FrameConsumer = Callable[["QualityFrame"], None]
 
 #: Metrics shown in the table, with their column heads.
 TABLE_METRICS = (
-    ("line_noise_db", "mains dB"),
+    ("mains_uv", "mains µV"),
     ("rms_uv", "RMS µV"),
     ("ptp_uv", "p-p µV"),
     ("drift_uv_per_s", "drift µV/s"),

@@ -177,3 +177,36 @@ def test_independent_drifts_are_each_electrodes_own_and_a_shared_one_is_the_refe
     r2 = run(make_engine(sub), shared)
     found = [f for tt, fr in r2.judged() if tt > ONSET_S + SLOW_S for f in fr.findings if f.kind == "reference"]
     assert found and "drift" in found[-1].reason
+
+
+def _ten_twenty(rec: real_eeg.Recording, seconds: float) -> real_eeg.Recording:
+    sites = ["Fp1", "Fp2", "F7", "F3", "Fz", "F4", "F8", "T7", "C3", "Cz", "C4", "T8",
+             "P7", "P3", "Pz", "P4", "P8", "O1", "O2"]
+    keep = index_of(rec, sites)
+    return real_eeg.Recording(rec.name, rec.data_uv[: int(seconds * rec.rate_hz), keep],
+                              tuple(rec.labels[i] for i in keep), ("EEG",) * 19, rec.rate_hz)
+
+
+def test_mains_with_one_phase_everywhere_is_the_grounds_and_scattered_mains_is_not() -> None:
+    """30 µV of 60-Hz mains on all 19 leads. With one phase and sign (through the
+    reference: x_i = s_i − r) one ground finding names them. With a phase of its own on
+    every lead (picked up lead by lead) no finding: each lead keeps its mains verdict.
+    Physical picture: Huhta & Webster 1973 (mains through the reference's and each
+    electrode's mismatch)."""
+    sub = _ten_twenty(real_eeg.eegmmidb(), 16.0)
+    fs = sub.rate_hz
+    on = int(ONSET_S * fs)
+    t = np.arange(sub.data_uv.shape[0] - on) / fs
+    shared = sub.data_uv.copy()
+    shared[on:] -= (30.0 * np.sin(2 * np.pi * MAINS_HZ * t))[:, None]
+    r = run(make_engine(sub), shared)
+    found = [f for tt, fr in r.judged() if tt > ONSET_S + FAST_S for f in fr.findings if f.kind == "ground"]
+    assert found and "mains" in found[-1].reason and len(found[-1].electrodes) >= 14
+    scattered = sub.data_uv.copy()
+    phases = np.random.default_rng(3).uniform(0, 2 * np.pi, 19)
+    scattered[on:] += 30.0 * np.sin(2 * np.pi * MAINS_HZ * t[:, None] + phases[None, :])
+    r2 = run(make_engine(sub), scattered)
+    kinds = {f.kind for tt, fr in r2.judged() if tt > ONSET_S for f in fr.findings}
+    assert "ground" not in kinds
+    last = r2.frames[-1]
+    assert sum(c.checks["line_noise"] != "good" for c in last.channels) >= 17
