@@ -120,5 +120,8 @@ def write_coordsystem_json(
         }
         doc["AnatomicalLandmarkCoordinateSystem"] = "Other"
         doc["AnatomicalLandmarkCoordinateUnits"] = "mm"
+        # BIDS requires a description when the landmark system is "Other"
+        # (bidsschematools rule EEGCoordsystemLandmarkDescriptionReq): the same frame.
+        doc["AnatomicalLandmarkCoordinateSystemDescription"] = COORDINATE_DESCRIPTION
     _atomic_write_text(path, json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
     return path

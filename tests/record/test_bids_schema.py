@@ -216,15 +216,6 @@ def test_the_schema_rules_catch_damaged_files(
     assert any(expected in f for f in found), found
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=AssertionError,
-    reason=(
-        "bedside/placement/bids.py writes AnatomicalLandmarkCoordinateSystem 'Other' without "
-        "AnatomicalLandmarkCoordinateSystemDescription, which the schema requires "
-        "(json.eeg.EEGCoordsystemLandmarkDescriptionReq); placement owns the fix"
-    ),
-)
 def test_the_coordsystem_with_landmarks_passes_the_schema(tmp_path: Path) -> None:
     """What `bedside measure --bids-dir` writes (coordsystem.json with NAS/LPA/RPA), as a
     subject's files in a dataset."""
