@@ -290,7 +290,10 @@ class BridgeDetector:
             bridged = np.zeros(npairs, dtype=bool)
         else:
             bridged = both & ((ed < lm).sum(axis=0) / n_ep > s.epoch_threshold)
-        return ed, r, bridged, lm, carrying
+        # Ours, beside MNE-Python's rule: a pair closer than any natural neighbour pair of
+        # the real recordings, and nearly identical, is bridged whatever the distribution.
+        short = both & ((ed < s.short_ed_uv2).sum(axis=0) / n_ep > s.epoch_threshold) & (r >= s.short_corr_min)
+        return ed, r, bridged | short, lm, carrying
 
     def evaluate(self, ctx: Context) -> CheckResult:
         """Levels, reasons and findings for the newest epochs (recomputed only when an

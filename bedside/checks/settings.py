@@ -117,6 +117,8 @@ class BridgingSettings:
     epoch_threshold: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     lm_cutoff_uv2: float = field(default=16.0, metadata=_rng(0.01, 1e6))
     min_rms_uv: float = field(default=1.5, metadata=_rng(0.0, 1000.0))
+    short_ed_uv2: float = field(default=1.0, metadata=_rng(0.0, 1e6))
+    short_corr_min: float = field(default=0.995, metadata=_rng(0.0, 1.0))
 
     def __post_init__(self) -> None:
         _order("bridging", "l_freq_hz", self.l_freq_hz, "h_freq_hz", self.h_freq_hz)

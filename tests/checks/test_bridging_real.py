@@ -22,7 +22,6 @@ from functools import cache
 
 import mne
 import numpy as np
-import pytest
 import real_eeg
 from mne.preprocessing import compute_bridged_electrodes
 from scipy.signal import resample_poly
@@ -159,22 +158,32 @@ def test_mne_sample_injected_bridges_agree() -> None:
     """On the sample EEG (600 Hz), MNE-Python flags the short but NOT the gel bridge, with
     or without the drift: 1 µV of white noise at 600 Hz leaves 0.17–0.23 µV² in band
     (0.5–2.7 µV² with the drift), under the natural 2–4 µV², but for this distribution
-    (about 170 EDs under
-    16 µV² per epoch, most of them natural pairs at 2–4 µV²) MNE's local-minimum search
-    ends at ≈ 0 µV², so only an exactly zero ED passes. We agree with MNE at every
-    full vote, on the whole span and on each span the detector judges."""
+    (about 170 EDs under 16 µV² per epoch, most of them natural pairs at 2–4 µV²) MNE's
+    local-minimum search ends at ≈ 0 µV², so only an exactly zero ED passes.
+
+    We agree with MNE-Python where it flags (the short, at every full vote and on each
+    span the detector judges). The gel bridge MNE-Python misses is found by our own rule
+    beside it (configs/quality.yaml bridging.short_ed_uv2: closer than any natural pair
+    of the real recordings, r ≥ 0.995), at every vote; with the drift its ED straddles
+    that floor, and no other pair is ever named."""
     x, names, rate, pairs = _sample()
     ia, ib = names.index("EEG 019"), names.index("EEG 020")
     pair = _key("EEG 019", "EEG 020")
     assert pair in {_key(*p) for p in pairs}
-    expected = {"gel": set(), "gel+drift": set(), "short": {pair}}
-    for case, want in expected.items():
+    mne_says = {"gel": set(), "gel+drift": set(), "short": {pair}}
+    for case, want in mne_says.items():
         y = _inject(x, rate, ia, ib, case)
         assert _mne(y, names, rate, pairs) == want, case
         history = _voting(_ours(y, names, rate, pairs))
-        assert len(history) >= 10 and all(found == want for _t, _n, found in history), case
-        for t_end, _n, _found in history[::5]:
-            assert _same_span(y, names, rate, pairs, t_end) == want, (case, t_end)
+        assert len(history) >= 10, case
+        if case == "short":
+            assert all(found == want for _t, _n, found in history), case
+            for t_end, _n, _found in history[::5]:
+                assert _same_span(y, names, rate, pairs, t_end) == want, (case, t_end)
+        elif case == "gel":  # ours finds what MNE-Python's search cannot here
+            assert all(found == {pair} for _t, _n, found in history), case
+        else:
+            assert all(found <= {pair} for _t, _n, found in history), case
 
 
 def test_eegmmidb_injected_bridges_agree() -> None:
@@ -258,16 +267,12 @@ def test_bridge_clears_within_5_s() -> None:
         assert np.mean([pair in f for t, f in times if min(named) <= t <= t1]) >= 0.9, fault
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "not met (measured): found 4.0, 8.7, 9.4, 10.4 and 7.2 s after the onset. MNE-Python's "
-    "local-minimum search (Brent from the bracket (0, 1)) moves off ~0 µV² only once the "
-    "kernel density at 1 µV² exceeds that at 2.6 µV², i.e. once the new pair's low EDs "
-    "outweigh the natural ones (AF7–AF3 here): 6 epochs with a 12-epoch density; a 4- or "
-    "6-epoch density is no faster on these faults (4.4–12.4 s) and disagrees with MNE-Python "
-    "on its own spans far more often"))
 def test_bridge_found_within_5_s() -> None:
     """Issue 12's latency target for bridges (≤ 5 s from the fault's start), through the
-    engine, for the faults above."""
+    engine, for the faults above. Measured: 4.0, 4.7, 4.4, 3.4 and 3.2 s. MNE-Python's
+    rule alone took 4.0–10.4 s (its local-minimum search moves off ~0 µV² only once the
+    new pair's low EDs outweigh the natural ones in the density); our close-pair rule
+    beside it (bridging.short_ed_uv2) names them once two of three epochs are close."""
     for fault in FAULTS:
         pair, times = _engine_run(fault)
         t0 = fault[2]
@@ -277,18 +282,19 @@ def test_bridge_found_within_5_s() -> None:
 
 def test_same_pairs_at_any_rate() -> None:
     """The same physical signal — the sample EEG with a short on EEG 019–EEG 020 and a gel
-    bridge on EEG 041–EEG 042 (the one MNE-Python flags, the other it does not) —
-    resampled with scipy.signal.resample_poly from 600.6 Hz to 250.3, 500.5, 2002 and
-    8008 Hz gives the same pairs at every full vote; MNE-Python agrees at 250.3, 500.5
-    and 2002 Hz."""
+    bridge on EEG 041–EEG 042 (MNE-Python flags the short, not the gel; our close-pair
+    rule names the gel too) — resampled with scipy.signal.resample_poly from 600.6 Hz to
+    250.3, 500.5, 2002 and 8008 Hz gives the same pairs at every full vote; MNE-Python
+    gives its same answer at 250.3, 500.5 and 2002 Hz."""
     x, names, rate, pairs = _sample()
     y = _inject(x, rate, names.index("EEG 019"), names.index("EEG 020"), "short")
     y = _inject(y, rate, names.index("EEG 041"), names.index("EEG 042"), "gel", seed=3)
-    want = {_key("EEG 019", "EEG 020")}
+    want = {_key("EEG 019", "EEG 020"), _key("EEG 041", "EEG 042")}  # the gel by our close-pair rule
+    mne_want = {_key("EEG 019", "EEG 020")}
     for up, down in ((5, 12), (5, 6), (10, 3), (40, 3)):
         z = resample_poly(y, up, down, axis=0)
         r = rate * up / down
         if r < 3000:
-            assert _mne(z, names, r, pairs) == want, r
+            assert _mne(z, names, r, pairs) == mne_want, r
         history = [h for h in _ours(z, names, r, pairs) if h[1] == SETTINGS.n_epochs]
         assert len(history) >= 20 and all(found == want for _t, _n, found in history), r
