@@ -329,14 +329,19 @@ class BridgeDetector:
             partners.setdefault(a, []).append(nb)
             partners.setdefault(b, []).append(na)
             votes = int((ed[:, k] < (lm or 0.0)).sum())
+            if lm is not None and votes / max(n_ep, 1) > self.settings.epoch_threshold:
+                why = f"under this recording's cutoff {lm:.2f} µV² in {votes} of {n_ep} epochs"
+            else:  # our close-pair rule
+                close = int((ed[:, k] < self.settings.short_ed_uv2).sum())
+                why = (f"under {self.settings.short_ed_uv2:g} µV², closer than natural neighbours,"
+                       f" in {close} of {n_ep} epochs")
             findings.append(
                 Finding(
                     "bridge",
                     (na, nb),
                     Level.BAD,
-                    f"{na}–{nb} look bridged (electrical distance {med[k]:.2f} µV², under this"
-                    f" recording's cutoff {lm:.2f} µV² in {votes} of {n_ep} epochs; correlation {r[k]:.3f})"
-                    " — clean away the gel between them and dry the scalp, then re-apply",
+                    f"{na}–{nb} look bridged (electrical distance {med[k]:.2f} µV², {why};"
+                    f" correlation {r[k]:.3f}) — clean away the gel between them and dry the scalp, then re-apply",
                 )
             )
         for i, others in partners.items():

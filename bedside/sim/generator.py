@@ -166,7 +166,7 @@ class SignalGenerator:
         grid = np.array([(a, b) for a in (-0.9, -0.45, 0.0, 0.45, 0.9) for b in (-0.8, -0.4, 0.0, 0.4, 0.8)])
         self._n_latent = len(grid)
         d2 = ((pos[:, None, :] - grid[None, :, :]) ** 2).sum(axis=2)
-        w = np.exp(-d2 / (2 * 0.35**2))
+        w = np.exp(-d2 / (2 * 0.5**2))
         w /= np.sqrt((w**2).sum(axis=1, keepdims=True))
         shared = bg.shared_fraction * scalp
         self._mix = (w * np.sqrt(shared)[:, None]).T  # (K, C)

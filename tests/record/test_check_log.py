@@ -30,7 +30,7 @@ def _name() -> str:
 def test_check_writes_and_resumes_the_setup_log(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     name = _name()
     path = tmp_path / "W3-017.yaml"
-    argv = ["check", "--stream", name, "--seconds", "3", "--wait", "3", "--format", "json",
+    argv = ["check", "--stream", name, "--seconds", "4", "--wait", "3", "--format", "json",
             "--log", str(path), "--subject", "W3-017", "--technologist", "jmk"]  # fmt: skip
     with Publisher("ward_demo", name=name, source_id=f"sid-{name}", duration_s=30.0).start():
         code = main(argv)

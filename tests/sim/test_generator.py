@@ -199,13 +199,15 @@ def _band_power(x: np.ndarray, fs: float, lo: float, hi: float) -> np.ndarray:
 
 def test_bridge_makes_the_electrical_distance_tiny(demo) -> None:  # type: ignore[no-untyped-def]
     """Bridged O1-Oz: electrical distance var(V_i - V_j) (Tenke & Kayser 2001) far below
-    MNE-Python's 16 µV² local-minimum cutoff, while unbridged neighbours stay far above."""
+    MNE-Python's 16 µV² local-minimum ceiling, while unbridged neighbours stay above it, as
+    the neighbours of the real EEGMMIDB recording do (≥ 29 µV² but one pair, measured in
+    tests/checks/test_bridging_real.py)."""
     gen, x = demo
     ch = {c: i for i, c in enumerate(gen.scenario.channels)}
     w = _seg(gen, x, 0, 30)
     assert np.var(w[:, ch["O1"]] - w[:, ch["Oz"]]) < 2.0
     for a, b in (("O2", "Oz"), ("P3", "Pz"), ("C3", "Cz")):
-        assert np.var(w[:, ch[a]] - w[:, ch[b]]) > 100.0
+        assert np.var(w[:, ch[a]] - w[:, ch[b]]) > 25.0
 
 
 def test_bridge_found_by_mne(demo) -> None:  # type: ignore[no-untyped-def]
@@ -362,16 +364,17 @@ def test_muscle_fault(us) -> None:  # type: ignore[no-untyped-def]
 
 def test_neighbours_share_signal_but_distant_sites_do_not(clean) -> None:  # type: ignore[no-untyped-def]
     """Volume conduction: neighbouring electrodes are correlated (1-40 Hz, eyes open) and
-    distant ones much less (common practice); unbridged neighbours' electrical distance
-    stays far above MNE-Python's 16 µV² bridging cutoff."""
+    distant ones much less (common practice; in the real recordings of tests/data a lead's
+    strongest correlation with another is about 0.95); unbridged neighbours' electrical
+    distance stays above MNE-Python's 16 µV² ceiling."""
     gen, x, ch = clean
     g = gen.eyes_closed(_times(gen, x.shape[0]))
     sos = butter(4, [1, 40], btype="bandpass", fs=gen.rate_hz, output="sos")
     y = sosfiltfilt(sos, x, axis=0)[g < 0.01]
     r = np.corrcoef(y.T)
     for a, b in (("C3", "Cz"), ("F3", "Fz"), ("P3", "Pz")):
-        assert 0.2 < r[ch[a], ch[b]] < 0.9
-        assert np.var(y[:, ch[a]] - y[:, ch[b]]) > 40
+        assert 0.5 < r[ch[a], ch[b]] < 0.97
+        assert np.var(y[:, ch[a]] - y[:, ch[b]]) > 20
     assert abs(r[ch["F7"], ch["P8"]]) < 0.2
 
 
