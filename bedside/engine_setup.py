@@ -34,4 +34,8 @@ def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], s
         limit = getattr(source, "numeric_range_uv", None)
         if isinstance(limit, float) and limit > 0:
             kwargs["amplifier_range_uv"] = limit
+    ref = getattr(source, "reference", None)
+    value = getattr(ref, "engine_value", None)
+    if isinstance(value, str) and value:
+        kwargs["reference"] = value
     return kwargs, note

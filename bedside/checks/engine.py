@@ -107,7 +107,8 @@ class Engine:
     channels: in stream order; non-scalp channels (is_scalp False) are evaluated
     lightly (finite and flat only) and take no part in cross-channel decisions.
     neighbours: name pairs for bridging (default: the placement's graph, or all
-    pairs); amplifier_range_uv: ±range of the amplifier when known (rail, offset).
+    pairs); amplifier_range_uv: ±range of the amplifier when known (rail, offset);
+    reference: what the channels are referred to ("average": no reference/ground blame).
     """
 
     def __init__(
@@ -117,6 +118,7 @@ class Engine:
         rate_hz: float,
         neighbours: Iterable[tuple[str, str]] | None = None,
         amplifier_range_uv: float | None = None,
+        reference: str | None = None,
     ) -> None:
         if not channels:
             raise StreamFormatError("the stream has no channels; bedside needs at least one EEG channel")
@@ -136,6 +138,10 @@ class Engine:
         self.names = tuple(ch.name for ch in channels)
         self.rate_hz = float(rate_hz)
         self.amplifier_range_uv = amplifier_range_uv
+        # What the channels are referred to ("average", an electrode, None: unknown). An
+        # average reference has no reference electrode to blame, and the one thing its
+        # channels share is each lead's 1/N part in all the others: no whole-head blame.
+        self.reference = reference
         self.scalp = np.array([ch.is_scalp for ch in channels], dtype=bool)
         self._scalp_list = [bool(v) for v in self.scalp]
         self.geometry = g = Geometry.of(settings, self.rate_hz)
@@ -462,7 +468,10 @@ class Engine:
         phasors = None
         if self._mains_hz is not None:
             phasors = self._spec.phasors(self._mains_hz, self._recent_segments())
-        results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors)
+        if (self.reference or "").casefold() == "average":
+            shared: tuple[Finding, ...] = ()
+        else:
+            results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors)
         # Samples that are not numbers: flag the channel clearly, drop its other verdicts
         # (they were computed on zero-filled data) and keep it out of everything shared.
         bad_nf = ~finite

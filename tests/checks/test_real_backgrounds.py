@@ -210,3 +210,34 @@ def test_mains_with_one_phase_everywhere_is_the_grounds_and_scattered_mains_is_n
     assert "ground" not in kinds
     last = r2.frames[-1]
     assert sum(c.checks["line_noise"] != "good" for c in last.channels) >= 17
+
+
+def test_an_average_reference_never_blames_the_ground_for_one_noisy_lead() -> None:
+    """One lead with 300 µV of mains, the data then average-referenced (each channel
+    minus the mean of all): every other channel carries the lead's −1/19 share, one
+    phase and sign everywhere, flagged for mains on every lead (16 µV) — the shape a
+    ground fault has on a common reference. No ground finding (issue 11: one noisy lead's
+    1/N share must not raise one): with the reference known to be the average the engine
+    blames no reference or ground at all, and even without knowing it the shared-component
+    rule finds nothing shared (the mean over the channels of average-referenced data is
+    zero). The lead itself is still bad for mains; the others are flagged for theirs."""
+    from bedside.checks.engine import Engine
+    from bedside.checks.settings import load_quality
+
+    from .real_run import channels_of
+
+    sub = _ten_twenty(real_eeg.eegmmidb(), 14.0)
+    fs = sub.rate_hz
+    x = sub.data_uv.copy()
+    on = int(ONSET_S * fs)
+    t = np.arange(x.shape[0] - on) / fs
+    x[on:, 9] += 300.0 * np.sin(2 * np.pi * MAINS_HZ * t)  # Cz
+    x -= x.mean(axis=1, keepdims=True)
+    for ref in ("average", None):
+        eng = Engine(load_quality(), channels_of(sub), fs, reference=ref)
+        r = run(eng, x)
+        kinds = {f.kind for tt, fr in r.judged() if tt > ONSET_S + FAST_S for f in fr.findings}
+        assert "ground" not in kinds, (ref, kinds)
+        last = r.frames[-1].channels
+        assert last[9].checks["line_noise"] == "bad"
+        assert sum(c.checks["line_noise"] != "good" for c in last) >= 17
