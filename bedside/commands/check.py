@@ -41,6 +41,7 @@ from bedside.commands._common import (
 )
 from bedside.engine_setup import engine_options
 from bedside.errors import InputError
+from bedside.metric_labels import short_header
 
 NAME = "check"
 ORDER = 35
@@ -58,12 +59,9 @@ if TYPE_CHECKING:
 
 FrameConsumer = Callable[["QualityFrame"], None]
 
-#: Metrics shown in the table, with their column heads.
-TABLE_METRICS = (
-    ("mains_uv", "mains µV"),
-    ("rms_uv", "RMS µV"),
-    ("ptp_uv", "p-p µV"),
-    ("drift_uv_per_s", "drift µV/s"),
+#: Metrics shown in the table, with their column heads (bedside.metric_labels).
+TABLE_METRICS = tuple(
+    (key, short_header(key)) for key in ("mains_uv", "rms_uv", "ptp_uv", "drift_uv_per_s")
 )
 
 

@@ -22,6 +22,7 @@ from textual.widgets import DataTable
 from textual.widgets.data_table import ColumnKey, RowKey
 
 from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
+from bedside.metric_labels import METRIC_LABELS
 
 _NEWLINE = Text("\n")
 _UNSET = object()  # no cell written yet (any key differs from it)
@@ -75,16 +76,20 @@ def format_seconds(seconds: float | None) -> str:
 
 
 #: One headline value per check, in the order a technologist reads them:
-#: (check name, metric key, column header, scale for display).
-HEADLINES: tuple[tuple[str, str, str, float], ...] = (
-    ("line_noise", "line_noise_db", "mains dB", 1.0),
-    ("flat", "ptp_uv", "p-p µV", 1.0),
-    ("drift", "drift_uv_per_s", "drift µV/s", 1.0),
-    ("bridging", "bridge_corr", "bridge r", 1.0),
-    ("pops", "pops", "pops", 1.0),
-    ("clipping", "clip_fraction", "clip %", 100.0),
-    ("muscle", "muscle_ratio", "muscle", 1.0),
-    ("amplitude", "rms_uv", "rms µV", 1.0),
+#: (check name, metric key, column header, scale for display); heads and scales from
+#: bedside.metric_labels, the one table of metric words.
+HEADLINES: tuple[tuple[str, str, str, float], ...] = tuple(
+    (check, key, METRIC_LABELS[key].short, METRIC_LABELS[key].scale)
+    for check, key in (
+        ("line_noise", "line_noise_db"),
+        ("flat", "ptp_uv"),
+        ("drift", "drift_uv_per_s"),
+        ("bridging", "bridge_corr"),
+        ("pops", "pops"),
+        ("clipping", "clip_fraction"),
+        ("muscle", "muscle_ratio"),
+        ("amplitude", "rms_uv"),
+    )
 )
 
 
