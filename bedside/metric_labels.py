@@ -30,17 +30,16 @@ class MetricLabel:
         return f"{self.label} ({self.unit})" if self.unit else self.label
 
     def format(self, value: float | None) -> str:
-        """The value as shown, with its unit ("—" when there is none)."""
+        """The value as shown under its heading (the unit is in the heading); "—" when
+        there is none."""
         if value is None or value != value:  # missing or NaN
             return "—"
         shown = value * self.scale
-        if self.unit in ("", "r"):
-            text = f"{shown:.2f}" if self.unit == "r" else f"{shown:g}"
-        elif abs(shown) >= 100:
-            text = f"{shown:.0f}"
-        else:
-            text = f"{shown:.1f}"
-        return f"{text} {self.unit}".strip() if self.unit != "r" else text
+        if self.unit == "r":
+            return f"{shown:.2f}"
+        if self.unit == "":
+            return f"{shown:g}"
+        return f"{shown:.0f}" if abs(shown) >= 100 else f"{shown:.1f}"
 
 
 #: The groups, in the order the report shows them.
@@ -63,7 +62,7 @@ METRIC_LABELS: dict[str, MetricLabel] = {
     "drift_uv_per_s": MetricLabel("Drift", "µV/s", "drift µV/s", "Drift and offset"),
     "slow_uv": MetricLabel("Slow wander", "µV", "wander µV", "Drift and offset"),
     "offset_uv": MetricLabel("DC offset", "µV", "offset µV", "Drift and offset", report=False),
-    "offset_fraction": MetricLabel("DC offset, share of the amplifier's range", "%", "offset %", "Drift and offset", 100.0),
+    "offset_fraction": MetricLabel("DC offset against the amplifier's range", "%", "offset %", "Drift and offset", 100.0),
     # bridging
     "bridge_corr": MetricLabel("Highest correlation with a neighbour", "r", "bridge r", "Bridging"),
     "bridge_ed_uv2": MetricLabel("Smallest electrical distance to a neighbour", "µV²", "ED µV²", "Bridging", report=False),
@@ -76,7 +75,7 @@ METRIC_LABELS: dict[str, MetricLabel] = {
     "muscle_z": MetricLabel("Muscle against the other leads (robust z)", "", "muscle z", "Artifacts", report=False),
     # correlation
     "corr_98": MetricLabel("Correlation with the other leads, newest second", "r", "corr r", "Shared EEG", report=False),
-    "corr_98_lowest": MetricLabel("Correlation with the other leads, lowest of the last seconds", "r", "corr low r", "Shared EEG"),
+    "corr_98_lowest": MetricLabel("Lowest recent correlation with the other leads", "r", "corr low r", "Shared EEG"),
     # the engine's own
     "nonfinite_samples": MetricLabel("Missing or invalid samples", "", "invalid", "Samples"),
 }

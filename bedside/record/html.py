@@ -3,7 +3,7 @@
 An inline SVG head map draws every electrode the log knows, labelled, coloured *and*
 shaped by its final level (circle good, triangle check, square with a cross bad, dashed
 ring with "?" no data), so it still reads on a black-and-white printout. Tables give
-the summary, the final state per channel with time to good and impedance, findings,
+the summary, the final state per channel with time to good and impedance, the final\nmeasured values in plain words with units (bedside.metric_labels), findings,
 the measurements and marks, the timeline, stream/session events and notes.
 
 Positions come from the log's placement plan (this patient's measurements). Without a
@@ -22,6 +22,7 @@ from html import escape
 
 from bedside.cautions import CAUTIONS, DISCLAIMER
 from bedside.errors import BedsideError
+from bedside.metric_labels import METRIC_LABELS, metric_label, report_metrics
 from bedside.record.log import SetupLog
 
 log = logging.getLogger("bedside")
@@ -240,11 +241,68 @@ def head_map_svg(log_: SetupLog) -> str:
 # -- the page -------------------------------------------------------------------------
 
 
-def _all_good_text(log_: SetupLog) -> str:
+def _span(seconds: float) -> str:
+    """'42 s', '1 min 5 s' (whole seconds; under a second as 0.4 s)."""
+    if seconds < 1:
+        return f"{seconds:.1f} s"
+    whole = round(seconds)
+    minutes, rest = divmod(whole, 60)
+    return f"{minutes} min {rest} s" if minutes else f"{rest} s"
+
+
+def all_good_sentence(log_: SetupLog) -> str:
+    """When every scalp electrode was good at once, as a sentence."""
     seconds = log_.time_to_all_good_s()
     if seconds is None:
-        return "not reached: at no moment were all of them good together"
-    return f"reached {int(seconds // 60)} min {seconds % 60:.0f} s after the first verdict"
+        return "Never reached: at no moment were all scalp electrodes good together."
+    if seconds == 0:
+        return "Reached at once: every scalp electrode was good from the first verdict."
+    return f"Reached {_span(seconds)} after the first verdict."
+
+
+def _measured_values(log_: SetupLog, names: list[str]) -> list[str]:
+    """The final values per electrode, in plain words with units (bedside.metric_labels),
+    grouped by what they are about; technical values stay in the setup log file only."""
+    finals = [log_.final[n] for n in names if n in log_.final]
+    present: set[str] = set()
+    for one in finals:
+        present.update(one.metrics)
+    keys = report_metrics(present)
+    if not keys:
+        return []
+    groups: list[tuple[str, int]] = []
+    for key in keys:
+        group = METRIC_LABELS[key].group
+        if groups and groups[-1][0] == group:
+            groups[-1] = (group, groups[-1][1] + 1)
+        else:
+            groups.append((group, 1))
+    group_row = '<tr><th rowspan="2">Electrode</th>' + "".join(
+        f'<th colspan="{n}">{escape(g)}</th>' for g, n in groups
+    ) + "</tr>"
+    head_row = "<tr>" + "".join(f"<th>{escape(METRIC_LABELS[k].heading())}</th>" for k in keys) + "</tr>"
+    body = []
+    for name in names:
+        final = log_.final.get(name)
+        if final is None:
+            continue
+        cells = []
+        for key in keys:
+            value = final.metrics.get(key)
+            cells.append(_td(METRIC_LABELS[key].format(value if isinstance(value, float | int) else None), num=True))
+        body.append("<tr>" + _td(name) + "".join(cells) + "</tr>")
+    left_out = sorted({metric_label(k).label for k in present} - {METRIC_LABELS[k].label for k in keys})
+    note = (
+        f'<p class="small">The setup log file keeps {len(left_out)} further technical value'
+        f"{'s' if len(left_out) != 1 else ''} per electrode ({escape(', '.join(left_out).lower())}).</p>"
+        if left_out
+        else ""
+    )
+    return [
+        "<h2>Measured values at the end</h2>",
+        f"<table><thead>{group_row}{head_row}</thead><tbody>{''.join(body)}</tbody></table>",
+        note,
+    ]
 
 
 def render_report(log_: SetupLog) -> str:
@@ -263,7 +321,7 @@ def render_report(log_: SetupLog) -> str:
         ("Started", _t(log_.started_at)),
         ("Ended", _t(log_.ended_at) + (f" ({duration})" if duration else "")),
         ("Time zone", log_.time_zone or "—"),
-        ("All scalp electrodes good together", _all_good_text(log_)),
+        ("All scalp electrodes good at once", all_good_sentence(log_)),
         (
             "Stream",
             f"{stream.identity.name} ({stream.identity.type}), source_id {stream.identity.source_id}, "
@@ -315,9 +373,6 @@ def render_report(log_: SetupLog) -> str:
     for name in names:
         final = log_.final.get(name)
         key = final.level if final else "no_data"
-        metrics = ", ".join(
-            f"{k} {v:.3g}" if isinstance(v, float) else f"{k} n/a" for k, v in (final.metrics.items() if final else ())
-        )
         t_good = ttg.get(name)
         final_rows.append(
             [
@@ -326,16 +381,16 @@ def render_report(log_: SetupLog) -> str:
                 _td(f"{t_good:.1f}" if t_good is not None else "—", num=True),
                 _td(f"{imp[name]:g}" if name in imp else "—", num=True),
                 _td("; ".join(final.reasons) if final else ""),
-                _td(metrics),
                 _td(_clock(final.at) if final else "—"),
             ]
         )
     out.append(
         _table(
-            ("Electrode", "Level", "Time to good (s)", "Impedance (kΩ)", "Reasons", "Metrics", "As of"),
+            ("Electrode", "Level", "Time to good (s)", "Impedance (kΩ)", "Reasons", "As of"),
             final_rows,
         )
     )
+    out.extend(_measured_values(log_, names))
     if log_.findings:
         out.append("<h2>Findings</h2>")
         out.append(
@@ -345,7 +400,7 @@ def render_report(log_: SetupLog) -> str:
                     [
                         _td(_clock(f.at)),
                         _td(f.change),
-                        _td(f.kind),
+                        _td(f.kind.replace("_", " ")),
                         _td(", ".join(f.electrodes)),
                         f"<td>{_level_cell(f.level)}</td>",
                         _td(f.reason),
