@@ -17,6 +17,7 @@ from record_factories import make_identity
 
 from bedside.checks.engine import Engine
 from bedside.checks.settings import load_quality
+from bedside.metric_labels import METRIC_LABELS
 from bedside.record.bids import write_bids
 from bedside.record.html import render_report
 from bedside.record.log import load_log
@@ -63,4 +64,9 @@ def test_engine_frames_reach_the_log_bids_and_report(tmp_path: Path) -> None:
     assert rows["O1"]["status"] == "good"
     html = render_report(log)
     assert all(f'data-name="{n}"' in html for n in NAMES)
+    # Every metric the real engine gives has plain words in the one label table, and no
+    # machine name (they carry underscores) reaches the printed page.
+    keys = {k for c in final_frame.channels for k in c.metrics}
+    assert keys and keys <= METRIC_LABELS.keys(), sorted(keys - METRIC_LABELS.keys())
+    assert not [k for k in keys if "_" in k and k in html]
     assert time.time() - log.ended_at.timestamp() < 60  # type: ignore[union-attr]
