@@ -53,5 +53,5 @@ def test_the_report_says_plainly_whether_all_were_good_together(tmp_path: Path, 
         rec.on_frame(make_frame(clock.now, {"Cz": Level.GOOD, "O1": Level.BAD}))
         snap = rec.snapshot()
     html = render_report(snap)
-    assert "All scalp electrodes good together" in html
-    assert "not reached: at no moment were all of them good together" in html
+    assert "All scalp electrodes good at once" in html
+    assert "Never reached: at no moment were all scalp electrodes good together." in html
