@@ -30,7 +30,8 @@ from bedside.errors import BedsideError, ConfigError
 
 T = TypeVar("T")
 
-#: The configs/ folder shipped with the project (and installed beside the package).
+#: The configs/ folder beside the package (a clone or an editable install; a built wheel
+#: does not carry it).
 CONFIG_DIR = Path(__file__).resolve().parent.parent / "configs"
 
 #: Larger than any settings file could be (the shipped ones are a few kB): refused unread,
