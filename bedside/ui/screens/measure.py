@@ -67,8 +67,9 @@ def taped_from(plan: PlacementPlan, unit: str) -> TapedMeasurements:
 
 
 def in_unit(distance_cm: float, unit: str) -> str:
-    """A mark's distance in the taped unit: whole mm, or inches to 0.01 in."""
-    return f"{distance_cm * 10:.0f}" if unit == "mm" else f"{distance_cm / CM_PER_UNIT[unit]:.2f}"
+    """A mark's distance (to 0.1 cm) in the taped unit: whole mm, or inches to 0.1 in
+    (finer would claim more than the 0.1 cm it is converted from)."""
+    return f"{distance_cm * 10:.0f}" if unit == "mm" else f"{distance_cm / CM_PER_UNIT[unit]:.1f}"
 
 
 class PlanReady(Message):
@@ -167,7 +168,7 @@ class MeasureScreen(Screen[None]):
             if key in self._columns:
                 table.add_column(label, key=key, width=slim if narrow else wide)
             if key == "cm" and unit != "cm":
-                table.add_column(unit, key="taped", width=4 if unit == "mm" else 5)
+                table.add_column(unit, key="taped", width=4)
         self._fill_rows()
 
     def _fill_rows(self) -> None:
