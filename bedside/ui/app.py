@@ -600,14 +600,15 @@ class BedsideApp(App[int]):
                 self.views["watch"].set_points(message.points)
 
     def export_plan(self, plan: PlacementPlan) -> None:
-        self._export(plan)
+        # The taped values are read here, on the UI thread, and go with the plan.
+        self._export(plan, self.taped if plan is self.plan else None)
 
     @work(thread=True, group="export", exit_on_error=False)
-    def _export(self, plan: PlacementPlan) -> None:
+    def _export(self, plan: PlacementPlan, taped: TapedMeasurements | None = None) -> None:
         stamp = time.strftime("%Y%m%d-%H%M%S")
         path = self.config.export_dir / f"marks-{plan.system}-{stamp}.txt"
         try:
-            write_text_atomic(path, plan_as_text(plan))
+            write_text_atomic(path, plan_as_text(plan, taped))
         except BedsideError as exc:
             self.post_message(FeedProblem(str(exc)))
             return

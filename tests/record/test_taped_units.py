@@ -46,3 +46,14 @@ def test_a_log_written_before_taped_was_kept_still_loads(tmp_path: Path, clock: 
     assert loaded.plan.measurements == make_plan().measurements
     plan_events = [e.detail for e in loaded.events if e.kind == "plan"]
     assert plan_events and "taped" not in plan_events[0]
+
+
+def test_report_shows_the_taped_unit_beside_the_cm(tmp_path: Path, clock: FakeClock) -> None:
+    from bedside.record.html import render_report
+
+    path = tmp_path / "W3-017.yaml"
+    rec = SessionRecorder.open(path, technologist="jmk", subject_id="W3-017", clock=clock)
+    rec.set_plan(make_plan(), TapedMeasurements("mm", 360, 350, 560))
+    rec.close()
+    html = render_report(load_log(path))
+    assert "(taped 360 / 350 / 560 mm)" in html

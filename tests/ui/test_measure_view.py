@@ -262,4 +262,9 @@ async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
         cells = rows["Cz"].split()
         assert cells[cells.index(cz[0]) + 1] == cz[1]
         assert f"taped {' / '.join(typed)} {unit}" in " ".join(text.split())
+        # F5: the printed sheet names the taped values too.
+        await pilot.press("escape", "f5")
+        assert await _settle(pilot, app, lambda: any(tmp_path.glob("marks-*.txt")))
     assert rec.taped == TapedMeasurements(unit, *taped)
+    sheet = next(tmp_path.glob("marks-*.txt")).read_text(encoding="utf-8")
+    assert f"(taped {' / '.join(typed)} {unit}, the same order)" in sheet

@@ -295,7 +295,7 @@ class MeasureScreen(Screen[None]):
             return
         from bedside.ui.export import plan_as_text
 
-        self.app.copy_to_clipboard(plan_as_text(self.plan))
+        self.app.copy_to_clipboard(plan_as_text(self.plan, self.taped))
         self.notify("marking sheet copied (if the terminal allows clipboard access)")
 
     def on_resize(self) -> None:
