@@ -235,9 +235,10 @@ async def test_80x24_long_message_is_shown_whole(tmp_path: Path) -> None:
         ("in", ("14.2", "13.8", "22"), "in", ("18.0", "7.1"), (14.2, 13.8, 22)),
     ],
 )
+@pytest.mark.parametrize("size", [(80, 24), (100, 40)])
 async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
     unit: str, typed: tuple[str, str, str], header: str, cz: tuple[str, str],
-    taped: tuple[float, float, float], tmp_path: Path,
+    taped: tuple[float, float, float], size: tuple[int, int], tmp_path: Path,
 ) -> None:
     import standins as si
 
@@ -251,7 +252,7 @@ async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
                    services=si.services(recorder=rec, parse_measurements=real.parse_measurements,
                                         plan_placement=real.plan_placement,
                                         project_2d=real.project_2d))
-    async with app.run_test(size=(80, 24)) as pilot:
+    async with app.run_test(size=size) as pilot:
         await _enter(pilot, *typed)
         table = app.screen.query_one("#marks-table", DataTable)
         assert await _settle(pilot, app, lambda: table.row_count > 0)
@@ -261,6 +262,8 @@ async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
         assert f" cm    {header} " in head  # the taped unit's column beside the cm
         cells = rows["Cz"].split()
         assert cells[cells.index(cz[0]) + 1] == cz[1]
+        # The extra column pushes no other off the edge: the percent is whole (Cz 50 %).
+        assert " % " in head and "50" in cells
         assert f"taped {' / '.join(typed)} {unit}" in " ".join(text.split())
         # F5: the printed sheet names the taped values too.
         await pilot.press("escape", "f5")

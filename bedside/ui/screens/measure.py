@@ -47,6 +47,7 @@ FIELDS = (
 #: Below this many columns the form and the marks table take their narrow widths, so the
 #: distance columns stay on screen at 80 columns.
 NARROW_BELOW = 100
+TAPED_WIDTH = 4  # the taped unit's column: "1800" mm at most, "19.7" in
 #: (label, key, width wide, width narrow); the taped-unit column follows "cm" when the
 #: measurements were taped in mm or inches (narrow, it takes the place of "step", so
 #: no column is cut at the right edge of an 80-column terminal).
@@ -148,13 +149,13 @@ class MeasureScreen(Screen[None]):
         self._build_table()
         self.query_one("#ni", Input).focus()
 
-    def _narrow(self) -> bool:
-        return 0 < self.app.size.width < NARROW_BELOW
-
     def _build_table(self) -> None:
         """(Re)build the columns for this width and the taped unit, and refill the rows."""
-        narrow = self._narrow()
         unit = self.taped.unit if self.taped is not None and self.plan is not None else "cm"
+        # The taped unit's column needs room too: narrow a little sooner with it.
+        extra = TAPED_WIDTH + 2 if unit != "cm" else 0
+        narrow = 0 < self.app.size.width < NARROW_BELOW + extra
+        self.set_class(narrow, "-narrow")
         if self._layout == (narrow, unit):
             return
         self._layout = (narrow, unit)
@@ -168,7 +169,7 @@ class MeasureScreen(Screen[None]):
             if key in self._columns:
                 table.add_column(label, key=key, width=slim if narrow else wide)
             if key == "cm" and unit != "cm":
-                table.add_column(unit, key="taped", width=4)
+                table.add_column(unit, key="taped", width=TAPED_WIDTH)
         self._fill_rows()
 
     def _fill_rows(self) -> None:
@@ -229,6 +230,7 @@ class MeasureScreen(Screen[None]):
         F5/F6 then refuse (no sheet from measurements that are not the ones typed)."""
         self.plan = None
         self.taped = None
+        self._build_table()  # back to the cm columns (no-op when already so)
         self.query_one("#marks-table", DataTable).clear()
         self.query_one("#marks-map", HeadMap).set_points({})
 
@@ -272,10 +274,10 @@ class MeasureScreen(Screen[None]):
             "bold green",
         )
         self.query_one("#marks-map", HeadMap).set_points(message.points)
-        if self._layout != (self._narrow(), taped.unit):
-            self._build_table()
-        else:
+        if self._layout is not None and self._layout[1] == taped.unit:
             self._fill_rows()
+        else:
+            self._build_table()
         self.bedside.plan_changed(plan, taped)
 
     def action_export(self) -> None:
@@ -301,7 +303,6 @@ class MeasureScreen(Screen[None]):
     def on_resize(self) -> None:
         # On a short terminal the diagram and the table take turns (F7 switches).
         self.set_class(self.size.height < 32, "-short")
-        self.set_class(self._narrow(), "-narrow")
         if self.is_mounted:
             self._build_table()
 
