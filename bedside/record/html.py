@@ -23,7 +23,7 @@ from html import escape
 from bedside.cautions import CAUTIONS, DISCLAIMER
 from bedside.errors import BedsideError
 from bedside.metric_labels import METRIC_LABELS, metric_label, report_metrics
-from bedside.record.log import SetupLog
+from bedside.record.log import SetupLog, TapedMeasurements
 
 log = logging.getLogger("bedside")
 
@@ -305,6 +305,11 @@ def _measured_values(log_: SetupLog, names: list[str]) -> list[str]:
     ]
 
 
+def _as_taped(taped: TapedMeasurements | None) -> str:
+    """The measurements as taped, e.g. " (taped 14.2 / 13.8 / 22 in)", when not in cm."""
+    return f" (taped {escape(taped.text())})" if taped is not None and taped.unit != "cm" else ""
+
+
 def render_report(log_: SetupLog) -> str:
     """The whole report as one HTML document (UTF-8 text)."""
     subject = log_.subject_id or "(no ID)"
@@ -415,7 +420,7 @@ def render_report(log_: SetupLog) -> str:
         out.append(
             f"<p>{escape(log_.plan.system)} ({escape(log_.plan.names)} names): nasion–inion "
             f"{m.nasion_inion_cm:g} cm, preauricular {m.preauricular_cm:g} cm, circumference "
-            f"{m.circumference_cm:g} cm.</p>"
+            f"{m.circumference_cm:g} cm{_as_taped(log_.plan.taped)}.</p>"
         )
         out.append(
             _table(

@@ -140,14 +140,33 @@ class SignOff:
 
 
 @dataclass(frozen=True)
+class TapedMeasurements:
+    """The three measurements as taped, in the unit they were taped in ("cm", "mm" or
+    "in"); the plan's ``measurements`` hold the same in cm."""
+
+    unit: str
+    nasion_inion: float
+    preauricular: float
+    circumference: float
+
+    def text(self) -> str:
+        """E.g. "360 / 350 / 560 mm"."""
+        return f"{self.nasion_inion:g} / {self.preauricular:g} / {self.circumference:g} {self.unit}"
+
+
+@dataclass(frozen=True)
 class PlanRecord:
-    """The head measurements and the computed marks (see ``bedside.placement``)."""
+    """The head measurements and the computed marks (see ``bedside.placement``).
+
+    taped: the measurements in the unit they were taped in, when that is known (logs
+    written before it was kept, and plans made in cm, may have none)."""
 
     measurements: HeadMeasurements
     system: str
     names: str
     marks: tuple[Mark, ...]
     positions_mm: dict[str, tuple[float, float, float]] = field(default_factory=dict)
+    taped: TapedMeasurements | None = None
 
 
 @dataclass(frozen=True)

@@ -74,6 +74,7 @@ from bedside.record.log import (
     SignOff,
     StreamRecord,
     StreamSection,
+    TapedMeasurements,
     dump_yaml,
     parse_yaml,
     shallow_copy,
@@ -374,8 +375,11 @@ class SessionRecorder:
         if self._closed:
             raise RecordError(f"the session logged at {self._path} is closed; open it again to add to it")
 
-    def set_plan(self, plan: Any) -> None:
-        """Store the head measurements and marks of a PlacementPlan (re-measuring replaces them)."""
+    def set_plan(self, plan: Any, taped: TapedMeasurements | None = None) -> None:
+        """Store the head measurements and marks of a PlacementPlan (re-measuring replaces them).
+
+        taped: the measurements as taped, in their unit, kept beside the cm (the cm
+        alone would turn a taped 14.2 in into 36.068 cm in the log)."""
         record = PlanRecord(
             measurements=plan.measurements,
             system=str(plan.system),
@@ -385,8 +389,10 @@ class SessionRecorder:
                 str(k): (float(v[0]), float(v[1]), float(v[2]))
                 for k, v in dict(getattr(plan, "positions_mm", {}) or {}).items()
             },
+            taped=taped,
         )
         m = record.measurements
+        as_taped = f" (taped {taped.text()})" if taped is not None and taped.unit != "cm" else ""
         with self._lock:
             self._check_open()
             kind = "plan_replaced" if self._log.plan is not None else "plan"
@@ -396,7 +402,7 @@ class SessionRecorder:
                     self._now(),
                     kind,
                     f"{record.system}: nasion-inion {m.nasion_inion_cm:g} cm, preauricular "
-                    f"{m.preauricular_cm:g} cm, circumference {m.circumference_cm:g} cm",
+                    f"{m.preauricular_cm:g} cm, circumference {m.circumference_cm:g} cm{as_taped}",
                 )
             )
             self._touch()

@@ -22,6 +22,7 @@ from textual.message import Message
 from bedside.checks.types import QualityFrame
 from bedside.errors import AmbiguousStream, BedsideError, StreamNotFound
 from bedside.placement.types import PlacementPlan
+from bedside.record.log import TapedMeasurements
 from bedside.stream.source import Source
 from bedside.stream.types import StreamIdentity
 from bedside.ui.config import VIEWS, AppConfig, View
@@ -115,6 +116,7 @@ class BedsideApp(App[int]):
         self._given_source = source
         self.views: dict[str, Any] = {}
         self.plan: PlacementPlan | None = None
+        self.taped: TapedMeasurements | None = None
         self.identity: StreamIdentity | None = source.identity if source is not None else None
         self.connection: Connection | None = None
         self.recorder: RecorderGate | None = None
@@ -578,10 +580,11 @@ class BedsideApp(App[int]):
         return min(pool, key=lambda c: (pts[c][0] - x0) ** 2 + (pts[c][1] - y0) ** 2)
 
     # --- plan ----------------------------------------------------------------------
-    def plan_changed(self, plan: PlacementPlan) -> None:
+    def plan_changed(self, plan: PlacementPlan, taped: TapedMeasurements | None = None) -> None:
         self.plan = plan
+        self.taped = taped
         if self.recorder is not None:
-            self.recorder.submit("set_plan", (plan,), self._log_done("marks"))
+            self.recorder.submit("set_plan", (plan, taped), self._log_done("marks"))
         if self.connection is not None:
             self._remap(self.connection)
 
@@ -597,14 +600,15 @@ class BedsideApp(App[int]):
                 self.views["watch"].set_points(message.points)
 
     def export_plan(self, plan: PlacementPlan) -> None:
-        self._export(plan)
+        # The taped values are read here, on the UI thread, and go with the plan.
+        self._export(plan, self.taped if plan is self.plan else None)
 
     @work(thread=True, group="export", exit_on_error=False)
-    def _export(self, plan: PlacementPlan) -> None:
+    def _export(self, plan: PlacementPlan, taped: TapedMeasurements | None = None) -> None:
         stamp = time.strftime("%Y%m%d-%H%M%S")
         path = self.config.export_dir / f"marks-{plan.system}-{stamp}.txt"
         try:
-            write_text_atomic(path, plan_as_text(plan))
+            write_text_atomic(path, plan_as_text(plan, taped))
         except BedsideError as exc:
             self.post_message(FeedProblem(str(exc)))
             return
@@ -630,7 +634,7 @@ class BedsideApp(App[int]):
             return
         self.recorder = message.gate
         if self.plan is not None:
-            message.gate.submit("set_plan", (self.plan,), self._log_done("marks"))
+            message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
         if self.connection is not None:
             conn = self.connection
             message.gate.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))

@@ -6,10 +6,14 @@ import os
 import tempfile
 from collections.abc import Iterator
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from bedside.cautions import DISCLAIMER
 from bedside.errors import RecordError
 from bedside.placement.types import Mark, PlacementPlan
+
+if TYPE_CHECKING:
+    from bedside.record.log import TapedMeasurements
 
 LINE_TITLE = {
     "midline": "Midline (from the nasion over the vertex)",
@@ -45,15 +49,19 @@ def grouped(marks: tuple[Mark, ...]) -> Iterator[tuple[str, list[Mark]]]:
     yield from order.items()
 
 
-def plan_as_text(plan: PlacementPlan) -> str:
-    """The marking sheet as plain text (fixed-width columns; prints on one page per line)."""
+def plan_as_text(plan: PlacementPlan, taped: TapedMeasurements | None = None) -> str:
+    """The marking sheet as plain text (fixed-width columns; prints on one page per line).
+
+    taped: the measurements as taped, named on the sheet when not in cm."""
     m = plan.measurements
     out = [
         f"bedside marking sheet — system {plan.system}, {plan.names} names",
         f"nasion–inion {m.nasion_inion_cm:.1f} cm · preauricular {m.preauricular_cm:.1f} cm · "
         f"circumference {m.circumference_cm:.1f} cm",
-        "",
     ]
+    if taped is not None and taped.unit != "cm":
+        out.append(f"(taped {taped.text()}, the same order)")
+    out.append("")
     for line, marks in grouped(plan.marks):
         out.append(line_title(line))
         out.append(f"  {'site':<6} {'also':<5} {'from':<8} {'cm':>6} {'step':>6} {'%':>5}  how")

@@ -11,11 +11,14 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Protocol
+from typing import TYPE_CHECKING, Any, Protocol
 
 from bedside.placement.types import HeadMeasurements, PlacementPlan
 from bedside.stream.source import Source
 from bedside.stream.types import ChannelInfo, StreamIdentity
+
+if TYPE_CHECKING:
+    from bedside.record.log import TapedMeasurements
 
 
 class MonitorLike(Protocol):
@@ -29,7 +32,7 @@ class MonitorLike(Protocol):
 class RecorderLike(Protocol):
     """The setup log as the UI uses it (bedside.record.session.SessionRecorder)."""
 
-    def set_plan(self, plan: PlacementPlan) -> None: ...
+    def set_plan(self, plan: PlacementPlan, taped: TapedMeasurements | None = None) -> None: ...
 
     def set_stream(self, identity: StreamIdentity, channels: tuple[ChannelInfo, ...]) -> None: ...
 

@@ -199,10 +199,12 @@ class MemoryRecorder:
     signed: str = ""
     closed: bool = False
     plan: Any = None
+    taped: Any = None
     stream: Any = None
 
-    def set_plan(self, plan: Any) -> None:
+    def set_plan(self, plan: Any, taped: Any = None) -> None:
         self.plan = plan
+        self.taped = taped
 
     def set_stream(self, identity: Any, channels: Any) -> None:
         self.stream = identity

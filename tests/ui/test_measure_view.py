@@ -176,3 +176,98 @@ async def test_reference_sites_read_not_measured_not_zero(tmp_path: Path) -> Non
     start = html.index("<td>reference</td><td>A1</td>")
     row = html[start: html.index("</tr>", start)]
     assert "not measured" in row and "0.0" not in row
+
+
+def _table_lines(text: str) -> tuple[str, dict[str, str]]:
+    """The marks table's header line, and each site's first row, as on the terminal."""
+    lines = text.splitlines()
+    header = next(ln for ln in lines if " site " in ln and " from " in ln)
+    rows: dict[str, str] = {}
+    for ln in lines:
+        cells = ln.split("▕", 1)[-1].split()
+        for word in cells[:2]:
+            rows.setdefault(word, ln)
+    return header, rows
+
+
+async def test_80x24_shows_the_distance_column(tmp_path: Path) -> None:
+    """At 80×24 the cm column is on screen with the form beside it: Cz 18.0 cm from the
+    nasion (50 % of 36 cm, Jasper 1958), and no column is cut part-way at the right edge."""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        await pilot.pause(0.1)
+        header, rows = _table_lines(screen_text(app))
+        assert " cm " in header and " % " in header
+        assert "18.0" in rows["Cz"].split()
+        # The percent column shows whole numbers (50, not a cut "5").
+        assert "50" in rows["Cz"].split()
+
+
+async def test_80x24_long_message_is_shown_whole(tmp_path: Path) -> None:
+    """A long refusal (360 typed in cm looks like millimetres) is on screen word for word."""
+    from bedside.errors import BedsideError
+    from bedside.placement.validate import parse_measurements
+    from bedside.ui.screens.measure import in_app_terms
+
+    with pytest.raises(BedsideError) as caught:
+        parse_measurements("360", "35", "56", "cm")
+    expected = " ".join(f"✖ {in_app_terms(str(caught.value))}".split())
+    assert len(expected) > 160  # long enough to need several lines at 80 columns
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await _enter(pilot, "360", "35", "56")
+        assert await _settle(pilot, app, lambda: "✖" in screen_text(app))
+        lines = screen_text(app).splitlines()
+        start = next(i for i, ln in enumerate(lines) if "✖" in ln)
+        shown = " ".join(" ".join(lines[start:]).split())
+        assert expected in shown
+
+
+@pytest.mark.parametrize(
+    ("unit", "typed", "header", "cz", "taped"),
+    [
+        # 360 mm = 36.0 cm; Cz at 50 %: 180 mm = 18.0 cm (Jasper 1958; 1 mm = 0.1 cm).
+        ("mm", ("360", "350", "560"), "mm", ("18.0", "180"), (360, 350, 560)),
+        # 14.2 in = 36.068 cm; Cz at 50 %: 7.1 in, 18.0 cm (1 in = 2.54 cm, NIST SP 811).
+        ("in", ("14.2", "13.8", "22"), "in", ("18.0", "7.1"), (14.2, 13.8, 22)),
+    ],
+)
+@pytest.mark.parametrize("size", [(80, 24), (100, 40)])
+async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
+    unit: str, typed: tuple[str, str, str], header: str, cz: tuple[str, str],
+    taped: tuple[float, float, float], size: tuple[int, int], tmp_path: Path,
+) -> None:
+    import standins as si
+
+    from bedside.record.log import TapedMeasurements
+    from bedside.ui.services import default_services
+
+    real = default_services()  # the real placement package; the log kept in memory
+    rec = si.MemoryRecorder(tmp_path / "W3-017.yaml")
+    app = make_app(AppConfig(discover=False, start_view="measure", unit=unit, export_dir=tmp_path,
+                             log_path=tmp_path / "W3-017.yaml", subject_id="W3-017"),
+                   services=si.services(recorder=rec, parse_measurements=real.parse_measurements,
+                                        plan_placement=real.plan_placement,
+                                        project_2d=real.project_2d))
+    async with app.run_test(size=size) as pilot:
+        await _enter(pilot, *typed)
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        assert await _settle(pilot, app, lambda: rec.plan is not None)
+        text = screen_text(app)
+        head, rows = _table_lines(text)
+        assert f" cm    {header} " in head  # the taped unit's column beside the cm
+        cells = rows["Cz"].split()
+        assert cells[cells.index(cz[0]) + 1] == cz[1]
+        # The extra column pushes no other off the edge: the percent is whole (Cz 50 %).
+        assert " % " in head and "50" in cells
+        assert f"taped {' / '.join(typed)} {unit}" in " ".join(text.split())
+        # F5: the printed sheet names the taped values too.
+        await pilot.press("escape", "f5")
+        assert await _settle(pilot, app, lambda: any(tmp_path.glob("marks-*.txt")))
+    assert rec.taped == TapedMeasurements(unit, *taped)
+    sheet = next(tmp_path.glob("marks-*.txt")).read_text(encoding="utf-8")
+    assert f"(taped {' / '.join(typed)} {unit}, the same order)" in sheet

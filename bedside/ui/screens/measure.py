@@ -18,7 +18,9 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Label, Select, Static
 
 from bedside.errors import BedsideError
-from bedside.placement.types import PlacementPlan
+from bedside.placement.types import Mark, PlacementPlan
+from bedside.placement.validate import UNITS as CM_PER_UNIT
+from bedside.record.log import TapedMeasurements
 from bedside.ui.export import grouped, short_line
 from bedside.ui.widgets.head_map import HeadMap
 
@@ -40,6 +42,35 @@ FIELDS = (
     ("pa", "ear to ear", "preauricular, over the vertex"),
     ("circ", "around", "circumference through Fpz, T7, Oz, T8"),
 )
+
+
+#: Below this many columns the form and the marks table take their narrow widths, so the
+#: distance columns stay on screen at 80 columns.
+NARROW_BELOW = 100
+TAPED_WIDTH = 4  # the taped unit's column: "1800" mm at most, "19.7" in
+#: (label, key, width wide, width narrow); the taped-unit column follows "cm" when the
+#: measurements were taped in mm or inches (narrow, it takes the place of "step", so
+#: no column is cut at the right edge of an 80-column terminal).
+COLUMNS = (
+    ("line", "line", 14, 10), ("site", "site", 5, 4), ("also", "also", 4, 3),
+    ("from", "from", 7, 5), ("cm", "cm", 5, 4), ("step", "step", 5, 4), ("%", "pct", 4, 3),
+    ("how to find it", "how", 40, 40),
+)
+
+
+def taped_from(plan: PlacementPlan, unit: str) -> TapedMeasurements:
+    """The plan's measurements back in the unit they were typed in (the cm were
+    computed from them, so this gives the typed numbers, rounding noise aside)."""
+    factor = CM_PER_UNIT[unit]
+    m = plan.measurements
+    ni, pa, circ = (round(v / factor, 6) for v in (m.nasion_inion_cm, m.preauricular_cm, m.circumference_cm))
+    return TapedMeasurements(unit=unit, nasion_inion=ni, preauricular=pa, circumference=circ)
+
+
+def in_unit(distance_cm: float, unit: str) -> str:
+    """A mark's distance (to 0.1 cm) in the taped unit: whole mm, or inches to 0.1 in
+    (finer would claim more than the 0.1 cm it is converted from)."""
+    return f"{distance_cm * 10:.0f}" if unit == "mm" else f"{distance_cm / CM_PER_UNIT[unit]:.1f}"
 
 
 class PlanReady(Message):
@@ -72,6 +103,9 @@ class MeasureScreen(Screen[None]):
     def __init__(self) -> None:
         super().__init__(name="measure")
         self.plan: PlacementPlan | None = None
+        self.taped: TapedMeasurements | None = None
+        self._layout: tuple[bool, str] | None = None  # (narrow, unit) the columns were built for
+        self._columns: list[str] = []  # the column keys shown, in order
         # Every edit starts a new generation; a worker's answer for an older one is dropped,
         # so marks computed from what was typed before never reappear (one owner: the UI thread).
         self._generation = 0
@@ -100,9 +134,6 @@ class MeasureScreen(Screen[None]):
                         yield Label(label, classes="form-label")
                         yield Input(placeholder=hint, compact=True, id=key)
                 yield Static(
-                    Text("enter the three measurements", style="grey62"), id="measure-message"
-                )
-                yield Static(
                     Text("Skin preparation, neonates, collodion, infection control: "
                          "see the cautions (F1). Follow local policy.", style="grey62 italic"),
                     id="measure-caution",
@@ -110,16 +141,59 @@ class MeasureScreen(Screen[None]):
             with Vertical(id="measure-results"):
                 yield HeadMap(marks_mode=True, id="marks-map")
                 yield DataTable(id="marks-table", cursor_type="row", zebra_stripes=True)
+        # Full width and as tall as it needs, so a long message is never cut.
+        yield Static(Text("enter the three measurements", style="grey62"), id="measure-message")
         yield Footer()
 
     def on_mount(self) -> None:
-        table = self.query_one("#marks-table", DataTable)
-        for label, key, width in (
-            ("line", "line", 14), ("site", "site", 5), ("also", "also", 4), ("from", "from", 7),
-            ("cm", "cm", 5), ("step", "step", 5), ("%", "pct", 4), ("how to find it", "how", 40),
-        ):
-            table.add_column(label, key=key, width=width)
+        self._build_table()
         self.query_one("#ni", Input).focus()
+
+    def _build_table(self) -> None:
+        """(Re)build the columns for this width and the taped unit, and refill the rows."""
+        unit = self.taped.unit if self.taped is not None and self.plan is not None else "cm"
+        # The taped unit's column needs room too: narrow a little sooner with it.
+        extra = TAPED_WIDTH + 2 if unit != "cm" else 0
+        narrow = 0 < self.app.size.width < NARROW_BELOW + extra
+        self.set_class(narrow, "-narrow")
+        if self._layout == (narrow, unit):
+            return
+        self._layout = (narrow, unit)
+        table = self.query_one("#marks-table", DataTable)
+        table.clear(columns=True)
+        self._columns = [key for _, key, _, _ in COLUMNS
+                         if not (narrow and unit != "cm" and key == "step")]
+        if unit != "cm":
+            self._columns.insert(self._columns.index("cm") + 1, "taped")
+        for label, key, wide, slim in COLUMNS:
+            if key in self._columns:
+                table.add_column(label, key=key, width=slim if narrow else wide)
+            if key == "cm" and unit != "cm":
+                table.add_column(unit, key="taped", width=TAPED_WIDTH)
+        self._fill_rows()
+
+    def _fill_rows(self) -> None:
+        table = self.query_one("#marks-table", DataTable)
+        table.clear()
+        if self.plan is None:
+            return
+        unit = self.taped.unit if self.taped is not None else "cm"
+        for line, marks in grouped(self.plan.marks):
+            for i, mk in enumerate(marks):
+                cells = self._cells(mk, short_line(line) if i == 0 else "", unit)
+                table.add_row(*(cells[key] for key in self._columns))
+
+    @staticmethod
+    def _cells(mk: Mark, line: str, unit: str) -> dict[str, str | Text]:
+        # A reference site: "—" here and "not measured" in its how-to text.
+        dist: tuple[str | Text, ...] = (
+            mk.distance_cells() if mk.measured else (Text("—", style="grey62"), "", ""))
+        return {
+            "line": Text(line, style="bold") if line else "", "site": Text(mk.name, style="bold"),
+            "also": mk.other_name, "from": mk.start, "cm": dist[0],
+            "taped": in_unit(mk.distance_cm, unit) if mk.measured and unit != "cm" else "",
+            "step": dist[1], "pct": dist[2], "how": mk.how,
+        }
 
     def values(self) -> tuple[str, str, str, str, str, str]:
         get = lambda i: self.query_one(f"#{i}", Input).value.strip()  # noqa: E731
@@ -155,6 +229,8 @@ class MeasureScreen(Screen[None]):
         """The marks leave the screen as soon as what is typed no longer gives them;
         F5/F6 then refuse (no sheet from measurements that are not the ones typed)."""
         self.plan = None
+        self.taped = None
+        self._build_table()  # back to the cm columns (no-op when already so)
         self.query_one("#marks-table", DataTable).clear()
         self.query_one("#marks-map", HeadMap).set_points({})
 
@@ -185,26 +261,24 @@ class MeasureScreen(Screen[None]):
             return
         plan = message.plan
         self.plan = plan
+        taped = taped_from(plan, self.values()[3])
+        self.taped = taped
         n_sites = len({mk.name for mk in plan.marks})
+        m = plan.measurements
+        measured = f"{m.nasion_inion_cm:.1f} / {m.preauricular_cm:.1f} / {m.circumference_cm:.1f} cm"
+        if taped.unit != "cm":
+            measured = f"taped {taped.text()} = {measured}"
         self._message(
-            f"● {n_sites} sites, {len(plan.marks)} marks ({plan.system}, {plan.names} names)",
+            f"● {n_sites} sites, {len(plan.marks)} marks ({plan.system}, {plan.names} names); "
+            f"{measured}",
             "bold green",
         )
         self.query_one("#marks-map", HeadMap).set_points(message.points)
-        table = self.query_one("#marks-table", DataTable)
-        table.clear()
-        for line, marks in grouped(plan.marks):
-            for i, mk in enumerate(marks):
-                table.add_row(
-                    Text(short_line(line), style="bold") if i == 0 else "",
-                    Text(mk.name, style="bold"),
-                    mk.other_name,
-                    mk.start,
-                    # A reference site: "—" here and "not measured" in its how-to text.
-                    *(mk.distance_cells() if mk.measured else (Text("—", style="grey62"), "", "")),
-                    mk.how,
-                )
-        self.bedside.plan_changed(plan)
+        if self._layout is not None and self._layout[1] == taped.unit:
+            self._fill_rows()
+        else:
+            self._build_table()
+        self.bedside.plan_changed(plan, taped)
 
     def action_export(self) -> None:
         if self.plan is None:
@@ -223,12 +297,14 @@ class MeasureScreen(Screen[None]):
             return
         from bedside.ui.export import plan_as_text
 
-        self.app.copy_to_clipboard(plan_as_text(self.plan))
+        self.app.copy_to_clipboard(plan_as_text(self.plan, self.taped))
         self.notify("marking sheet copied (if the terminal allows clipboard access)")
 
     def on_resize(self) -> None:
         # On a short terminal the diagram and the table take turns (F7 switches).
         self.set_class(self.size.height < 32, "-short")
+        if self.is_mounted:
+            self._build_table()
 
     def action_toggle_map(self) -> None:
         self.toggle_class("-map-first")
