@@ -36,7 +36,7 @@ def frames(k: int) -> list[QualityFrame]:
     for j in range(k):
         chans = tuple(
             ChannelQuality(n, (Level.GOOD, Level.CHECK, Level.BAD)[(i + j) % 3],
-                           {"line_noise_db": float(i + j), "ptp_uv": 50.0, "drift_uv_per_s": 1.0,
+                           {"mains_uv": float(i + j), "ptp_uv": 50.0, "drift_uv_per_s": 1.0,
                             "bridge_corr": 0.3, "pops": 0.0, "clip_fraction": 0.0,
                             "muscle_ratio": 0.1, "rms_uv": 12.0},
                            ("mains 12 dB over EEG band — re-seat",), True,

@@ -101,14 +101,15 @@ def frame(
     reasons: tuple[str, ...]
     for ch in channels():
         if ch.name in bad:
-            level, reasons = Level.BAD, ("mains 21 dB over EEG band — re-seat or re-prepare the electrode",)
+            level, reasons = Level.BAD, ("mains 24.0 µV at 50 Hz; 21 dB over its EEG band — re-seat or re-prepare the electrode",)
         elif ch.name in check:
             level, reasons = Level.CHECK, ("drift 38 µV/s — let the gel settle",)
         else:
             level, reasons = Level.GOOD, ()
         if state != "live":
             level, reasons = None, ("no data: stream lost",)  # type: ignore[assignment]
-        metrics = {"line_noise_db": 21.0 if ch.name in bad else -12.5, "rms_uv": 14.2, "drift_uv_per_s": 3.1}
+        metrics = {"mains_uv": 24.0 if ch.name in bad else 0.4, "line_noise_db": 21.0 if ch.name in bad else -12.5,
+                   "rms_uv": 14.2, "drift_uv_per_s": 3.1}
         out.append(ChannelQuality(ch.name, level, metrics, reasons, ch.is_scalp))
     findings: tuple[Finding, ...] = ()
     if bridge is not None and state == "live":

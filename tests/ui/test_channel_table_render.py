@@ -31,7 +31,7 @@ def frame(j: int, live: bool = True) -> QualityFrame:
         ChannelQuality(
             f"E{i + 1}",
             levels[(i + j) % 4],
-            {"line_noise_db": float(i * j) / 7.0, "ptp_uv": 50.0 + j, "drift_uv_per_s": 1.0,
+            {"mains_uv": float(i * j) / 7.0, "ptp_uv": 50.0 + j, "drift_uv_per_s": 1.0,
              "bridge_corr": 0.3, "pops": float(j % 2), "clip_fraction": 0.001 * i,
              "muscle_ratio": 0.1, "rms_uv": 12.0 + 0.37 * i * j},
             # every fifth reason is longer than the 'why' column: DataTable cuts it

@@ -56,7 +56,7 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         assert "250 Hz set / 249.6 Hz seen" in text and "gaps 1" in text
         assert "standin-bed" in text and "standin-bed-sid" in text  # pinned identity
         # The reason is shown beside the level.
-        assert "mains 21 dB" in str(app.views["watch"].query_one(ChannelTable).get_cell("T7", "reason"))
+        assert "mains 24.0 µV at 50 Hz" in str(app.views["watch"].query_one(ChannelTable).get_cell("T7", "reason"))
         # Still readable at 80×24.
         await pilot.resize_terminal(80, 24)
         assert await _until(pilot, lambda: app.size == (80, 24) and "✖T7" in si.screen_text(app))
@@ -145,7 +145,7 @@ def _many_channel_frame(n: int) -> tuple[tuple[ChannelInfo, ...], QualityFrame]:
     out = []
     for i, nm in enumerate(names):
         level = (Level.GOOD, Level.CHECK, Level.BAD)[i % 3]
-        out.append(ChannelQuality(nm, level, {"line_noise_db": float(i), "rms_uv": 10.0}, ("r",), True))
+        out.append(ChannelQuality(nm, level, {"mains_uv": float(i), "rms_uv": 10.0}, ("r",), True))
     return chans, QualityFrame(1.0, 1.0, tuple(out), (), si.health(), 4.0, {})
 
 
@@ -205,7 +205,7 @@ async def test_selected_electrode_reason_in_full() -> None:
     async with app.run_test(size=(80, 24)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)
         app.views["watch"].query_one(ChannelTable).select_name("T7")
-        assert await _until(pilot, lambda: "▶ T7 ✖ fix: mains 21 dB over EEG band — re-seat" in si.screen_text(app))
+        assert await _until(pilot, lambda: "▶ T7 ✖ fix: mains 24.0 µV at 50 Hz; 21 dB over its EEG band — re-seat" in si.screen_text(app))
 
 
 async def test_trace_toggles_and_is_hidden_at_first_on_short_terminals() -> None:

@@ -81,7 +81,7 @@ def format_seconds(seconds: float | None) -> str:
 HEADLINES: tuple[tuple[str, str, str, float], ...] = tuple(
     (check, key, METRIC_LABELS[key].short, METRIC_LABELS[key].scale)
     for check, key in (
-        ("line_noise", "line_noise_db"),
+        ("line_noise", "mains_uv"),
         ("flat", "ptp_uv"),
         ("drift", "drift_uv_per_s"),
         ("bridging", "bridge_corr"),
