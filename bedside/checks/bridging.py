@@ -190,9 +190,9 @@ class BridgeDetector:
         self._ed: deque[np.ndarray] = deque(maxlen=max(n, self.settings.density_epochs))  # (all pairs,) ED µV² per epoch
         self._var: deque[np.ndarray] = deque(maxlen=n)      # (C,) in-band variance per epoch
         self._cov_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
-        self.latest_cov: np.ndarray | None = None  # (C, C) in band, about each hop's mean, newest CORR_HOPS hops
         self._within: deque[np.ndarray] = deque(maxlen=CORR_HOPS)
-        #: (hop number, latest_cov) for the newest ``keep_covs`` hops.
+        #: (hop number, (C, C) in-band covariance about each hop's mean over the newest
+        #: CORR_HOPS hops) for the newest ``keep_covs`` hops: the correlation check's input.
         self.recent_covs: deque[tuple[int, np.ndarray]] = deque(maxlen=self.keep_covs)
         self._within_n: deque[int] = deque(maxlen=CORR_HOPS)
         self.epochs_done = 0
@@ -223,7 +223,6 @@ class BridgeDetector:
                 self._within.append(self._acc - np.outer(self._acc_sum, self._acc_sum) / self._acc_n)
                 self._within_n.append(self._acc_n)
                 pooled: np.ndarray = np.sum(self._within, axis=0) / max(sum(self._within_n), 1)
-                self.latest_cov = pooled
                 self.hops_done += 1
                 self.recent_covs.append((self.hops_done, pooled))
                 c = self.n_channels

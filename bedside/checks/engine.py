@@ -9,9 +9,10 @@ costs about what the new samples require, not a recompute of the window:
   and its harmonics, the muscle band);
 * on the analysis copy (analysis.AnalysisCopy: band-limited to 100 Hz and
   decimated to one analysis rate), per block: the time-domain statistics and the
-  covariance (window_stats.BlockStats) behind flat, drift, pops, amplitude,
-  bridging and the reference — so these verdicts and their cost do not depend on
-  the amplifier's rate.
+  covariance (window_stats.BlockStats) behind flat, drift, pops, amplitude and
+  the reference, and the bridging detector's own 0.5–30 Hz epochs (which the
+  correlation check reads too) — so these verdicts and their cost do not depend
+  on the amplifier's rate.
 
  ``evaluate`` combines the window's statistics and its one shared spectrum,
 runs every check vectorised across channels, decides reference/ground findings,
@@ -23,7 +24,7 @@ from __future__ import annotations
 import logging
 import math
 import time
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from itertools import repeat
 
@@ -75,6 +76,35 @@ class Geometry:
 
 
 _new = object.__new__
+
+
+class _BlockCutter:
+    """Cuts samples (n, C) arriving in any count into whole blocks of ``block`` rows and
+    hands each to ``sink`` (a full block straight from the input, no copy; the rest is
+    gathered in one buffer). Used for the stream's blocks and the analysis copy's."""
+
+    def __init__(self, block: int, n_channels: int, sink: Callable[[np.ndarray], None]) -> None:
+        self.block = block
+        self._buf = np.zeros((block, n_channels))
+        self._n = 0
+        self._sink = sink
+
+    def reset(self) -> None:
+        self._n = 0
+
+    def feed(self, x: np.ndarray) -> None:
+        b, pos, n = self.block, 0, x.shape[0]
+        while pos < n:
+            take = min(b - self._n, n - pos)
+            if self._n == 0 and take == b:
+                self._sink(x[pos : pos + b])
+            else:
+                self._buf[self._n : self._n + take] = x[pos : pos + take]
+                self._n += take
+                if self._n == b:
+                    self._sink(self._buf)
+                    self._n = 0
+            pos += take
 
 
 def _channel(name: str, level: Level, metrics: dict[str, float], reasons: tuple[str, ...],
@@ -138,9 +168,8 @@ class Engine:
         self.names = tuple(ch.name for ch in channels)
         self.rate_hz = float(rate_hz)
         self.amplifier_range_uv = amplifier_range_uv
-        # What the channels are referred to ("average", an electrode, None: unknown). An
-        # average reference has no reference electrode to blame, and the one thing its
-        # channels share is each lead's 1/N part in all the others: no whole-head blame.
+        # What the channels are referred to ("average", an electrode, None: unknown);
+        # reference.evaluate blames no reference/ground on an average reference.
         self.reference = reference
         self.scalp = np.array([ch.is_scalp for ch in channels], dtype=bool)
         self._scalp_list = [bool(v) for v in self.scalp]
@@ -153,15 +182,13 @@ class Engine:
         self._lag = max(1, round(settings.artifacts.pop_lag_s * self.analysis_rate_hz))
         self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
         self._raw = self._new_raw()
-        self._a_pending = np.zeros((ga.block, c))
-        self._n_a_pending = 0
         self._a_samples = 0
+        self._a_cutter = _BlockCutter(ga.block, c, self._add_analysis_block)
         self._spec = SpectralAccumulator(
             c, self.rate_hz, g.segment, g.n_segments,
             max(1, round(settings.refresh_s / (settings.segment_s / 2))), settings.spectrum_max_hz,
         )
-        self._pending = np.zeros((g.block, c))
-        self._n_pending = 0
+        self._cutter = _BlockCutter(g.block, c, self._add_block)
         self._samples = 0
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
@@ -217,19 +244,7 @@ class Engine:
                 raise StreamFormatError(f"{n} samples but {ts.shape[0]} timestamps")
             if n:
                 self._last_time = float(ts[-1])
-        pos = 0
-        b = self.geometry.block
-        while pos < n:
-            take = min(b - self._n_pending, n - pos)
-            if self._n_pending == 0 and take == b:
-                self._add_block(x[pos : pos + b])
-            else:
-                self._pending[self._n_pending : self._n_pending + take] = x[pos : pos + take]
-                self._n_pending += take
-                if self._n_pending == b:
-                    self._add_block(self._pending)
-                    self._n_pending = 0
-            pos += take
+        self._cutter.feed(x)
 
     def _new_raw(self) -> RawStats:
         s, g = self.settings, self.geometry
@@ -243,22 +258,11 @@ class Engine:
         self._samples += x.shape[0]
         y = self._analysis.add(clean)
         self._bridge.add(y)
-        # The analysis copy in blocks of its own (the filter's outputs come in any count).
-        b = self.analysis_geometry.block
-        pos, n = 0, y.shape[0]
-        while pos < n:
-            take = min(b - self._n_a_pending, n - pos)
-            if self._n_a_pending == 0 and take == b:
-                self._blocks.add_block(y[pos : pos + b], self._a_samples)
-                self._a_samples += b
-            else:
-                self._a_pending[self._n_a_pending : self._n_a_pending + take] = y[pos : pos + take]
-                self._n_a_pending += take
-                if self._n_a_pending == b:
-                    self._blocks.add_block(self._a_pending, self._a_samples)
-                    self._a_samples += b
-                    self._n_a_pending = 0
-            pos += take
+        self._a_cutter.feed(y)  # the filter's outputs come in any count
+
+    def _add_analysis_block(self, y: np.ndarray) -> None:
+        self._blocks.add_block(y, self._a_samples)
+        self._a_samples += y.shape[0]
 
     def reset(self) -> None:
         """Forget the window (after a gap or a reconnect: old data must not look live)."""
@@ -266,12 +270,12 @@ class Engine:
         self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
         self._raw = self._new_raw()
         self._analysis.reset()
-        self._n_a_pending = 0
+        self._a_cutter.reset()
         self._spec = SpectralAccumulator(
             c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments,
             self.settings.spectrum_max_hz,
         )
-        self._n_pending = 0
+        self._cutter.reset()
         self._bridge.reset()
         self._corr_cache.clear()
         self._taint_hop[:] = -(10**9)
@@ -468,10 +472,8 @@ class Engine:
         phasors = None
         if self._mains_hz is not None:
             phasors = self._spec.phasors(self._mains_hz, self._recent_segments())
-        if (self.reference or "").casefold() == "average":
-            shared: tuple[Finding, ...] = ()
-        else:
-            results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors)
+        results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors,
+                                             average=(self.reference or "").casefold() == "average")
         # Samples that are not numbers: flag the channel clearly, drop its other verdicts
         # (they were computed on zero-filled data) and keep it out of everything shared.
         bad_nf = ~finite

@@ -82,15 +82,18 @@ def _phasor_cov(z: np.ndarray) -> np.ndarray:
 def evaluate(
     results: dict[str, CheckResult], ctx: Context, finite: np.ndarray, settings: QualitySettings,
     stats: WindowStats | None = None, mains_phasors: np.ndarray | None = None,
+    average: bool = False,
 ) -> tuple[dict[str, CheckResult], tuple[Finding, ...]]:
     """Return the results with shared faults demoted, and the reference/ground findings.
 
     stats: the window (drift, pops, amplitude); mains_phasors: (K, C) complex at the
-    mains frequency (line noise). A kind whose evidence is missing is not blamed."""
+    mains frequency (line noise). A kind whose evidence is missing is not blamed.
+    average: the channels are average-referenced — there is no reference electrode to
+    blame, and what the channels share is each lead's 1/N part in all the others."""
     rs = settings.reference
     pool = ctx.scalp & finite
     n_pool = int(pool.sum())
-    if n_pool < rs.min_channels:
+    if average or n_pool < rs.min_channels:
         return results, ()
     # The evidence, computed only for a kind that a majority shows (most updates: none).
     covs: Mapping[str, Callable[[], np.ndarray | None]] = {

@@ -35,7 +35,7 @@ class WindowStats:
     block_times_s: (n_blocks,) centre time of each block on the engine's sample
     clock; within_uv2: (C, C) sum of the blocks' scatter about their own means;
     block_dev_uv: (n_blocks, C) block means minus the window mean; block: samples
-    per block (cov_uv2 and pair_cov combine these); mean_uv, var_uv2, ptp_uv,
+    per block (cov_uv2 combines these); mean_uv, var_uv2, ptp_uv,
     max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
     change; clip_fraction: share of samples held in flat-topped runs at an
     extreme or at the rail; step_max_uv: (n_blocks, C) largest change over
@@ -70,12 +70,6 @@ class WindowStats:
             (self.within_uv2 + self.block * (self.block_dev_uv.T @ self.block_dev_uv))
             / max(self.n_samples - 1, 1)
         )
-
-    def pair_cov(self, i: np.ndarray, j: np.ndarray) -> np.ndarray:
-        """Covariance (µV²) of the channel pairs (i[k], j[k]) only: O(pairs), not O(C²)."""
-        d = self.block_dev_uv
-        between = np.einsum("kp,kp->p", d[:, i], d[:, j])
-        return np.asarray((self.within_uv2[i, j] + self.block * between) / max(self.n_samples - 1, 1))
 
     @property
     def rms_uv(self) -> np.ndarray:
