@@ -16,7 +16,7 @@ Nyquist frequency or at 1.5·``band_hz``, whichever is lowest (so the band is
 nearly the same at every rate). Decimation by the integer
 q = ⌊rate / target_rate⌋, so the analysis rate lies in [target, 2·target).
 Only the outputs that are kept are computed, from the new samples and a short
-tail of the previous ones (one sliding-window product per update).
+tail of the previous ones (one batched matrix product per update).
 
 A stream whose Nyquist frequency is at or below ``band_hz`` is already band
 limited by its amplifier: it is passed through unchanged (q = 1).
@@ -29,8 +29,12 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from numpy.lib.stride_tricks import sliding_window_view
+from numpy.lib.stride_tricks import as_strided
 from scipy.signal import firwin
+
+#: Outputs computed per banded-matrix product (8: the quickest measured at 256 ch ×
+#: 2048 Hz, 2.5 times the speed of one sliding-window einsum; bench/README.md).
+CHUNK = 8
 
 
 def design(rate_hz: float, target_rate_hz: float, band_hz: float) -> tuple[int, np.ndarray | None]:
@@ -71,6 +75,13 @@ class AnalysisCopy:
         n_taps = 1 if self.taps is None else len(self.taps)
         self.delay_s = (n_taps - 1) / 2.0 / self.input_rate_hz
         self._buf = np.zeros((0, n_channels))
+        # The banded matrix of one group of CHUNK outputs: row k holds the reversed taps
+        # from column k·q (output k of the group is that row times the group's inputs).
+        self._span = (CHUNK - 1) * self.q + n_taps
+        self._band = np.zeros((CHUNK, self._span))
+        if self.taps is not None:
+            for k in range(CHUNK):
+                self._band[k, k * self.q : k * self.q + n_taps] = self.taps[::-1]
 
     @property
     def passthrough(self) -> bool:
@@ -90,8 +101,21 @@ class AnalysisCopy:
         if m <= 0:
             self._buf = buf.copy() if buf is x else buf
             return np.zeros((0, self.n_channels))
-        # Windows of n_taps samples starting every q-th input sample: (m, C, n_taps) view.
-        win = sliding_window_view(buf, n_taps, axis=0)[: (m - 1) * q + 1 : q]
-        y = np.einsum("mcl,l->mc", win, taps[::-1])
+        buf = np.ascontiguousarray(buf)
+        y = np.empty((m, self.n_channels))
+        # Outputs in groups of CHUNK: each group is one product of the same banded matrix
+        # (the reversed taps on every row, shifted by q) with its span of input rows, all
+        # groups in one batched matmul over a strided view (no copy of the input).
+        w, span = self._band, self._span
+        nb = m // CHUNK
+        if nb:
+            step, row = buf.strides
+            view = as_strided(buf, shape=(nb, span, self.n_channels),
+                              strides=(CHUNK * q * step, step, row), writeable=False)
+            y[: nb * CHUNK] = np.matmul(w, view).reshape(nb * CHUNK, self.n_channels)
+        r = m - nb * CHUNK
+        if r:
+            start = nb * CHUNK * q
+            y[nb * CHUNK :] = w[:r, : (r - 1) * q + n_taps] @ buf[start : start + (r - 1) * q + n_taps]
         self._buf = buf[m * q :].copy()
-        return np.asarray(y)
+        return y

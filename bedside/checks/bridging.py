@@ -156,9 +156,10 @@ class BridgeDetector:
 
     n_channels, rate_hz: of the samples given to :meth:`add` (any rate the band fits);
     pairs: neighbour index pairs (P, 2) to report; settings: ``bridging:`` of
-    configs/quality.yaml. Memory: the hop sums (C × C each) and the EDs of all
-    C(C−1)/2 pairs for the newest ``density_epochs`` epochs; work: the filter and one
-    C × C product per sample block, the density only when an epoch completes.
+    configs/quality.yaml. Memory: the hop sums (C × C each) and, for the newest
+    ``density_epochs`` epochs, the EDs of the pairs under the density's ceiling; work:
+    the filter and one C × C product per sample block, the EDs of all C(C−1)/2 pairs
+    when an epoch completes, the density when a decision is asked for.
     """
 
     def __init__(self, n_channels: int, rate_hz: float, pairs: np.ndarray, settings: BridgingSettings,
@@ -187,7 +188,11 @@ class BridgeDetector:
         self._acc_n = 0
         self._hops: deque[tuple[np.ndarray, np.ndarray, int]] = deque(maxlen=self._hops_per_epoch)
         n = self.settings.n_epochs
-        self._ed: deque[np.ndarray] = deque(maxlen=max(n, self.settings.density_epochs))  # (all pairs,) ED µV² per epoch
+        # Per epoch, of all C(C−1)/2 pairs only those under the density's ceiling (their
+        # upper-triangle positions and ED µV²): the density reads nothing else, and a dense
+        # cap's 30,000 pairs need not be scanned again at every decision.
+        self._below: deque[tuple[np.ndarray, np.ndarray]] = deque(maxlen=max(n, self.settings.density_epochs))
+        self._ed_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair ED µV² per epoch
         self._var: deque[np.ndarray] = deque(maxlen=n)      # (C,) in-band variance per epoch
         self._cov_pairs: deque[np.ndarray] = deque(maxlen=n)  # (P,) neighbour-pair covariance per epoch
         self._within: deque[np.ndarray] = deque(maxlen=CORR_HOPS)
@@ -238,7 +243,10 @@ class BridgeDetector:
         cov = s2 / n - np.outer(mean, mean)  # np.var's ddof=0, as MNE uses
         var = np.diag(cov).copy()
         i, j = self._iu
-        self._ed.append(np.maximum(var[i] + var[j] - 2.0 * cov[i, j], 0.0))
+        ed = np.maximum(var[i] + var[j] - 2.0 * cov[i, j], 0.0)
+        k = np.flatnonzero(ed < self.settings.lm_cutoff_uv2)  # NaN compares False: left out
+        self._below.append((k, ed[k]))
+        self._ed_pairs.append(ed[self._pair_k])
         self._var.append(var)
         self._cov_pairs.append(cov[self.pairs[:, 0], self.pairs[:, 1]])
         self.epochs_done += 1
@@ -253,7 +261,7 @@ class BridgeDetector:
         """(n_epochs, P) ED µV² of the neighbour pairs in the voting epochs."""
         if not self._var:
             return np.zeros((0, len(self.pairs)))
-        return np.vstack(list(self._ed)[-self.n_epochs :])[:, self._pair_k]
+        return np.vstack(self._ed_pairs)
 
     def decide(self, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, float | None, np.ndarray]:
         """(ED (n_epochs, P), correlation (P,), bridged (P,), local minimum, carrying (C,)).
@@ -267,17 +275,17 @@ class BridgeDetector:
             return np.zeros((0, npairs)), z, z.astype(bool), None, np.zeros(self.n_channels, bool)
         var = np.vstack(self._var)
         carrying = np.asarray(valid, dtype=bool) & (np.sqrt(np.median(var, axis=0)) >= s.min_rms_uv)
-        ed_all = np.vstack(self._ed)
         i, j = self._iu
         use = carrying[i] & carrying[j]
+        # Each epoch's values under the ceiling, of the pairs of carrying channels.
+        kept = [ed_k[use[k]] for k, ed_k in self._below]
         # MNE-Python's "enough values under the ceiling" guard, counted over the voting
         # epochs: a new bridge need not first fill the density's 12 epochs.
-        recent = ed_all[-n_ep:, use]
-        if (recent < s.lm_cutoff_uv2).sum() / n_ep < s.epoch_threshold:
+        if sum(len(v) for v in kept[-n_ep:]) / n_ep < s.epoch_threshold:
             lm = None
         else:
-            lm = local_minimum(ed_all[:, use], 0, s.lm_cutoff_uv2, s.epoch_threshold)
-        ed = ed_all[-n_ep:, self._pair_k]
+            lm = local_minimum(np.concatenate(kept), 0, s.lm_cutoff_uv2, s.epoch_threshold)
+        ed = np.vstack(self._ed_pairs)
         mean_var = var.mean(axis=0)
         with np.errstate(invalid="ignore", divide="ignore"):
             r = np.vstack(self._cov_pairs).mean(axis=0) / np.sqrt(

@@ -46,3 +46,31 @@ def test_table_says_when_the_ui_was_not_measured() -> None:
 def test_median_of_the_block_steps_equals_numpy_median(k: int) -> None:
     a = np.random.default_rng(k).gamma(2.0, 3.0, size=(k, 33))
     np.testing.assert_array_equal(_median_rows(a), np.median(a, axis=0))
+
+
+def test_benchmark_data_is_a_clean_cap_to_the_checks() -> None:
+    """The speed rows time a clean cap: on the benchmark's own data (before the two
+    injected bridges) every channel is good, as on the real recordings (EEGMMIDB: 0 of
+    64 not good, tests/checks/test_real_backgrounds.py). Data that read as 256 leads
+    "carrying no EEG" would time the formatting of 256 reasons no clean cap costs.
+    Also its strongest correlation between channels is in the range of real EEG
+    (about 0.95 in both recordings of tests/data; PREP's criterion needs ≥ 0.4)."""
+    from bedside.checks.benchmark import _eeg_like, _grid_neighbours
+    from bedside.checks.engine import Engine
+    from bedside.checks.settings import load_quality
+    from bedside.stream.types import ChannelInfo
+
+    settings = load_quality()
+    rate, c = 512.0, 64
+    names = [f"E{i + 1}" for i in range(c)]
+    engine = Engine(settings, [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names], rate,
+                    neighbours=_grid_neighbours(names))
+    x = _eeg_like(np.random.default_rng(0), int(8 * rate), c, rate)
+    r = np.corrcoef(x, rowvar=False)  # numpy as the reference
+    np.fill_diagonal(r, 0.0)
+    assert 0.85 <= float(np.median(r.max(axis=1))) <= 0.99
+    step = int(rate / settings.update_hz)
+    for k in range(0, len(x), step):
+        engine.push(x[k : k + step])
+        frame = engine.evaluate()
+    assert [ch.name for ch in frame.channels if ch.level is None or ch.level.key != "good"] == []
