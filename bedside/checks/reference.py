@@ -54,6 +54,11 @@ SHARED = {
 }
 
 
+#: The common signal's variance, as a share of the channels' mean variance, under which
+#: it is taken to be none (rounding of data whose channels sum to zero is about 1e-30).
+COMMON_FLOOR = 1e-12
+
+
 def share_of_common(cov: np.ndarray, pool: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(share, same_sign) per channel from a (C, C) covariance (real or Hermitian):
     share_i = (Re cov(x_i, m))² / (var(x_i)·var(m)) with m the mean of the ``pool``
@@ -68,6 +73,10 @@ def share_of_common(cov: np.ndarray, pool: np.ndarray) -> tuple[np.ndarray, np.n
     with_m = cov[:, idx].mean(axis=1)  # cov(x_i, m)
     var_m = float(np.real(cov[np.ix_(idx, idx)].mean()))
     var_i = np.real(np.diag(cov))
+    # A common signal with (to rounding) no power explains nothing: average-referenced
+    # channels sum to zero, and the ratio of two rounding errors would decide the share.
+    if not var_m > COMMON_FLOOR * float(np.mean(var_i[idx])):
+        return np.zeros(c), np.zeros(c, dtype=bool)
     with np.errstate(invalid="ignore", divide="ignore"):
         share = np.real(with_m) ** 2 / (var_i * var_m)
     share = np.nan_to_num(np.clip(share, 0.0, 1.0), nan=0.0)

@@ -281,7 +281,9 @@ class SignalGenerator:
 
         # Electrodes: background (own part + the part shared with neighbours) and
         # normal physiology.
-        e = (pink * self._local_w + latent @ self._mix) * self._pink_uv
+        # einsum, not a BLAS product: BLAS picks kernels by the matrix size, so a sample's
+        # value would depend on how the request was chunked in its last bits.
+        e = (pink * self._local_w + np.einsum("nk,kc->nc", latent, self._mix)) * self._pink_uv
         closed = self.eyes_closed(t)
         alpha_env = (0.1 + 0.9 * closed) * (0.75 + 0.25 * np.tanh(self._alpha_wax(t)))
         alpha_arg = 2 * np.pi * bg.alpha_hz * t + 0.6 * self._alpha_wobble(t)
