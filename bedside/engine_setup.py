@@ -2,8 +2,10 @@
 
 ``bedside check`` and the app both build their engine with :func:`engine_options`, so
 the two judge a stream alike: bridging neighbours from the channels' geometry (the
-stream's own positions, a layout file, else 10-20/10-10 names, else all pairs) and
-the amplifier's input range (it turns on the offset-against-range and rail checks).
+stream's own positions, a layout file, else 10-20/10-10 names, else all pairs), the
+amplifier's input range (it turns on the offset-against-range and rail checks), its
+coupling (a DC-coupled stream's drift is judged as an AC amplifier would pass it) and
+the reference.
 """
 
 from __future__ import annotations
@@ -34,6 +36,9 @@ def engine_options(source: Source, rules: Any = None) -> tuple[dict[str, Any], s
         limit = getattr(source, "numeric_range_uv", None)
         if isinstance(limit, float) and limit > 0:
             kwargs["amplifier_range_uv"] = limit
+    coupling = getattr(profile, "coupling", None) if profile is not None else None
+    if coupling in ("ac", "dc"):
+        kwargs["coupling"] = coupling
     ref = getattr(source, "reference", None)
     value = getattr(ref, "engine_value", None)
     if isinstance(value, str) and value:

@@ -41,3 +41,21 @@ def test_the_profiles_range_wins_over_the_numeric_limit() -> None:
     assert kwargs["amplifier_range_uv"] == 400000.0
     kwargs, note = engine_options(_source())  # type: ignore[arg-type]
     assert "amplifier_range_uv" not in kwargs and kwargs["neighbours"]  # 10-20 names: pairs
+
+
+def test_the_profiles_coupling_reaches_the_engine() -> None:
+    """configs/amplifiers.yaml's profiles (dc-active, ac-passive) through --amplifier or the
+    metadata decide the coupling; the engine built from the options takes it."""
+    from bedside.checks.engine import Engine
+    from bedside.checks.settings import load_quality
+    from bedside.stream.amplifier import AmplifierProfile, load_amplifiers
+
+    profiles = load_amplifiers().profiles
+    for name, coupling in (("dc-active", "dc"), ("ac-passive", "ac")):
+        spec = profiles[name]
+        profile = AmplifierProfile(spec.coupling, spec.highpass_hz, spec.input_range_uv, name)
+        kwargs, _ = engine_options(_source(profile=profile))  # type: ignore[arg-type]
+        assert kwargs["coupling"] == coupling
+        assert Engine(load_quality(), CHANNELS, 256.0, **kwargs).coupling == coupling
+    kwargs, _ = engine_options(_source(profile=SimpleNamespace(input_range_uv=None, coupling=None)))  # type: ignore[arg-type]
+    assert "coupling" not in kwargs

@@ -21,6 +21,14 @@ tail of the previous ones (one batched matrix product per update).
 A stream whose Nyquist frequency is at or below ``band_hz`` is already band
 limited by its amplifier: it is passed through unchanged (q = 1).
 
+The engine runs two of these in cascade. First the *spectrum's copy*: pass band to
+``spectrum_max_hz`` (190 Hz: the third harmonic of 60 Hz), decimated to at least
+``analysis.spectrum_rate_hz`` (500 Hz), passed through where no decimation is needed;
+the spectrum (mains and harmonics, the muscle band) is taken from it, so a 2-kHz
+stream costs a 512-point FFT per channel and segment, not a 2048-point one. Then the
+analysis copy, from the spectrum's copy (the same pass band to 100 Hz as from the
+stream itself: the first stage is flat there).
+
 Sample arrays are (n_samples, n_channels) in µV.
 """
 
@@ -37,16 +45,25 @@ from scipy.signal import firwin
 CHUNK = 8
 
 
-def design(rate_hz: float, target_rate_hz: float, band_hz: float) -> tuple[int, np.ndarray | None]:
-    """(q, taps) of the analysis filter for this input rate; taps None = pass through."""
+def design(rate_hz: float, target_rate_hz: float, band_hz: float,
+           filter_undecimated: bool = True) -> tuple[int, np.ndarray | None]:
+    """(q, taps) of the analysis filter for this input rate; taps None = pass through.
+    filter_undecimated False (the spectrum's copy: the spectrum selects its own bands,
+    aliasing is all it must be spared): a stream that need not be decimated (q = 1)
+    passes through, and the transition band may be as wide as aliasing allows."""
     if rate_hz / 2.0 <= band_hz:
         return 1, None
     q = max(1, int(rate_hz // target_rate_hz))
+    if q == 1 and not filter_undecimated:
+        return 1, None
     out_rate = rate_hz / q
-    # At most half an octave of transition, so the band is about the same at every rate.
-    stop_hz = min(out_rate - band_hz, rate_hz / 2.0, 1.5 * band_hz)
+    # At most half an octave of transition, so the band is about the same at every rate
+    # (the spectrum's copy: what lies above the band is never read).
+    stop_hz = min(out_rate - band_hz, rate_hz / 2.0, 1.5 * band_hz if filter_undecimated else math.inf)
     transition = stop_hz - band_hz
     if transition <= 0:  # the target leaves no room above the band: keep the input rate
+        if not filter_undecimated:
+            return 1, None
         q, stop_hz = 1, rate_hz / 2.0
         transition = stop_hz - band_hz
     # 3.3·fs/Δf is the Hamming window's transition width; 3.8 leaves the stop band
@@ -66,10 +83,11 @@ class AnalysisCopy:
     is the filter's group delay.
     """
 
-    def __init__(self, n_channels: int, rate_hz: float, target_rate_hz: float, band_hz: float) -> None:
+    def __init__(self, n_channels: int, rate_hz: float, target_rate_hz: float, band_hz: float,
+                 filter_undecimated: bool = True) -> None:
         self.n_channels = n_channels
         self.input_rate_hz = float(rate_hz)
-        self.q, self.taps = design(rate_hz, target_rate_hz, band_hz)
+        self.q, self.taps = design(rate_hz, target_rate_hz, band_hz, filter_undecimated)
         self.rate_hz = self.input_rate_hz / self.q
         self.band_hz = band_hz
         n_taps = 1 if self.taps is None else len(self.taps)

@@ -27,7 +27,8 @@ class Context:
     not flat) — filled in by the engine after the flat and finite checks;
     neighbours: index pairs (i, j), i < j; rate_hz: the analysis copy's rate (the
     rate of the time-domain statistics); amplifier_range_uv: ±range when known;
-    mains_hz: the mains frequency in use (None while not yet detected).
+    mains_hz: the mains frequency in use (None while not yet detected); coupling:
+    the amplifier's ("ac", "dc"; None: unknown).
     """
 
     names: tuple[str, ...]
@@ -38,6 +39,7 @@ class Context:
     window_s: float
     amplifier_range_uv: float | None = None
     mains_hz: float | None = None
+    coupling: str | None = None
 
 
 @dataclass(frozen=True)

@@ -5,6 +5,14 @@ means carry what changes slower than a block); slow_uv: the spread (SD) of the
 block means, i.e. the wander slower than ~1/(2·block) Hz. Thresholds are ours: no published
 per-channel value exists that we know of. Offset: |mean| as a share of the
 amplifier range, only when the range is known.
+
+By coupling: an AC-coupled amplifier's hardware high-pass (0.16 Hz is common) has
+already taken the electrode's DC offset and its slow settling out of the signal; a
+DC-coupled one (active electrodes sit at tens of mV of offset, which is normal) passes
+them. A DC-coupled stream's slope and wander are therefore judged on the block means
+through a first-order high-pass at ``dc_highpass_hz`` — as an AC-coupled amplifier
+would show them — with the same thresholds; its offset is judged against the range,
+as any amplifier's is. Unknown coupling: the block means as they are.
 """
 
 from __future__ import annotations
@@ -31,8 +39,10 @@ def slope_uv_per_s(times_s: np.ndarray, means_uv: np.ndarray) -> np.ndarray:
 
 def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     ds = settings.drift
-    slope = slope_uv_per_s(stats.block_times_s, stats.block_means_uv)
-    slow = stats.block_means_uv.std(axis=0)
+    dc = ctx.coupling == "dc" and stats.block_means_hp_uv is not None
+    means = stats.block_means_hp_uv if dc and stats.block_means_hp_uv is not None else stats.block_means_uv
+    slope = slope_uv_per_s(stats.block_times_s, means)
+    slow = means.std(axis=0)
     level = np.maximum(
         levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s),
         levels_from(slow, ds.slow_check_uv, ds.slow_bad_uv),
@@ -56,6 +66,8 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
             parts.append(
                 f"DC offset {stats.mean_uv[i]:.0f} µV ({metrics['offset_fraction'][i]:.0%} of range)"
             )
+        if dc and (abs(slope[i]) >= ds.slope_check_uv_per_s or slow[i] >= ds.slow_check_uv):
+            parts[0] += f" (beyond a DC amplifier's slow settling, above {ds.dc_highpass_hz:g} Hz)"
         reasons[int(i)] = (
             "; ".join(parts) + " — let the electrode settle; re-prepare the skin or refresh the gel if it persists"
         )

@@ -5,9 +5,11 @@ that arrived since the last call and summarises them incrementally, so an update
 costs about what the new samples require, not a recompute of the window:
 
 * at the stream's own rate, per block: unusable samples and clipping
-  (window_stats.RawStats), and the spectrum (spectrum.SpectralAccumulator: mains
-  and its harmonics, the muscle band);
-* on the analysis copy (analysis.AnalysisCopy: band-limited to 100 Hz and
+  (window_stats.RawStats);
+* on the spectrum's copy (analysis.AnalysisCopy: band-limited to 190 Hz and
+  decimated to 500–1000 Hz where the stream is faster): the spectrum
+  (spectrum.SpectralAccumulator: mains and its harmonics, the muscle band);
+* on the analysis copy (from the spectrum's copy: band-limited to 100 Hz and
   decimated to one analysis rate), per block: the time-domain statistics and the
   covariance (window_stats.BlockStats) behind flat, drift, pops, amplitude and
   the reference, and the bridging detector's own 0.5–30 Hz epochs (which the
@@ -41,11 +43,12 @@ from bedside.checks import (
     placement_sanity,
     reference,
 )
+from bedside.checks.analysis import AnalysisCopy
 from bedside.checks.base import BAD, GOOD, CheckResult, Context
 from bedside.checks.levels import FindingHold, LevelHold, combine
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import SpectralAccumulator, Spectrum
-from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
+from bedside.checks.types import ChannelQuality, Finding, Level, MetricRow, QualityFrame
 from bedside.checks.window_stats import BlockStats, RawStats, WindowStats
 from bedside.errors import InputError, StreamFormatError
 from bedside.stream.types import ChannelInfo, StreamHealth
@@ -107,7 +110,7 @@ class _BlockCutter:
             pos += take
 
 
-def _channel(name: str, level: Level, metrics: dict[str, float], reasons: tuple[str, ...],
+def _channel(name: str, level: Level, metrics: MetricRow, reasons: tuple[str, ...],
              scalp: bool, checks: dict[str, str]) -> ChannelQuality:
     """ChannelQuality(name, level, metrics, reasons, scalp, checks), built without the
     frozen dataclass's per-field setattr (the same object; 256 of them every update)."""
@@ -138,7 +141,9 @@ class Engine:
     lightly (finite and flat only) and take no part in cross-channel decisions.
     neighbours: name pairs for bridging (default: the placement's graph, or all
     pairs); amplifier_range_uv: ±range of the amplifier when known (rail, offset);
-    reference: what the channels are referred to ("average": no reference/ground blame).
+    reference: what the channels are referred to ("average": no reference/ground blame);
+    coupling: the amplifier's, "ac" or "dc" (None: unknown) — a DC-coupled stream's
+    drift is judged as an AC-coupled amplifier would pass it (drift.py).
     """
 
     def __init__(
@@ -149,6 +154,7 @@ class Engine:
         neighbours: Iterable[tuple[str, str]] | None = None,
         amplifier_range_uv: float | None = None,
         reference: str | None = None,
+        coupling: str | None = None,
     ) -> None:
         if not channels:
             raise StreamFormatError("the stream has no channels; bedside needs at least one EEG channel")
@@ -159,6 +165,8 @@ class Engine:
                 f"sampling rate {rate_hz} Hz cannot be checked; accepted: "
                 f"{settings.min_rate_hz:g} to {settings.max_rate_hz:g} Hz (configs/quality.yaml)"
             )
+        if coupling not in (None, "ac", "dc"):
+            raise InputError(f"amplifier coupling {coupling!r} is not known; accepted: ac, dc")
         if amplifier_range_uv is not None and not (
             math.isfinite(amplifier_range_uv) and amplifier_range_uv > 0
         ):
@@ -171,21 +179,30 @@ class Engine:
         # What the channels are referred to ("average", an electrode, None: unknown);
         # reference.evaluate blames no reference/ground on an average reference.
         self.reference = reference
+        self.coupling = coupling
         self.scalp = np.array([ch.is_scalp for ch in channels], dtype=bool)
         self._scalp_list = [bool(v) for v in self.scalp]
         self.geometry = g = Geometry.of(settings, self.rate_hz)
         self.n_channels = c = len(channels)
-        self._analysis = analysis.AnalysisCopy(c, self.rate_hz, settings.analysis.rate_hz,
+        # The spectrum's copy (to spectrum_max_hz, at least analysis.spectrum_rate_hz) and,
+        # from it, the analysis copy (to analysis.band_hz, at least analysis.rate_hz).
+        self._spectral_copy = analysis.AnalysisCopy(
+            c, self.rate_hz, settings.analysis.spectrum_rate_hz, settings.spectrum_max_hz,
+            filter_undecimated=False,
+        )
+        self.spectrum_rate_hz = self._spectral_copy.rate_hz
+        self.spectrum_geometry = gs = Geometry.of(settings, self.spectrum_rate_hz)
+        self._analysis = analysis.AnalysisCopy(c, self.spectrum_rate_hz, settings.analysis.rate_hz,
                                                settings.analysis.band_hz)
         self.analysis_rate_hz = self._analysis.rate_hz
         self.analysis_geometry = ga = Geometry.of(settings, self.analysis_rate_hz)
         self._lag = max(1, round(settings.artifacts.pop_lag_s * self.analysis_rate_hz))
-        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
+        self._blocks = self._new_blocks()
         self._raw = self._new_raw()
         self._a_samples = 0
         self._a_cutter = _BlockCutter(ga.block, c, self._add_analysis_block)
         self._spec = SpectralAccumulator(
-            c, self.rate_hz, g.segment, g.n_segments,
+            c, self.spectrum_rate_hz, gs.segment, gs.n_segments,
             max(1, round(settings.refresh_s / (settings.segment_s / 2))), settings.spectrum_max_hz,
         )
         self._cutter = _BlockCutter(g.block, c, self._add_block)
@@ -204,6 +221,7 @@ class Engine:
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
         )
         self._check_proto: dict[tuple[str, ...], dict[int, dict[str, str]]] = {}
+        self._metric_index: dict[tuple[str, ...], dict[str, int]] = {}
         self._spec_gen = 0  # bumped by reset(): segment counts restart
         self._detect_key: tuple[int, int, bytes] | None = None
         self._spectral: tuple[tuple[object, ...], CheckResult, CheckResult, tuple[Finding, ...]] | None = None
@@ -246,6 +264,12 @@ class Engine:
                 self._last_time = float(ts[-1])
         self._cutter.feed(x)
 
+    def _new_blocks(self) -> BlockStats:
+        ga = self.analysis_geometry
+        hp = self.settings.drift.dc_highpass_hz if self.coupling == "dc" else None
+        return BlockStats(self.n_channels, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz,
+                          self._lag, highpass_hz=hp)
+
     def _new_raw(self) -> RawStats:
         s, g = self.settings, self.geometry
         rail = s.flat.rail_fraction * self.amplifier_range_uv if self.amplifier_range_uv else None
@@ -254,9 +278,10 @@ class Engine:
 
     def _add_block(self, x: np.ndarray) -> None:
         clean = self._raw.add_block(x)
-        self._spec.add(clean)
+        s = self._spectral_copy.add(clean)
+        self._spec.add(s)
         self._samples += x.shape[0]
-        y = self._analysis.add(clean)
+        y = self._analysis.add(s)
         self._bridge.add(y)
         self._a_cutter.feed(y)  # the filter's outputs come in any count
 
@@ -266,13 +291,14 @@ class Engine:
 
     def reset(self) -> None:
         """Forget the window (after a gap or a reconnect: old data must not look live)."""
-        g, ga, c = self.geometry, self.analysis_geometry, self.n_channels
-        self._blocks = BlockStats(c, ga.block, ga.n_blocks, ga.refresh_blocks, self.analysis_rate_hz, self._lag)
+        gs, c = self.spectrum_geometry, self.n_channels
+        self._blocks = self._new_blocks()
         self._raw = self._new_raw()
+        self._spectral_copy.reset()
         self._analysis.reset()
         self._a_cutter.reset()
         self._spec = SpectralAccumulator(
-            c, self.rate_hz, g.segment, g.n_segments, self._spec.refresh_segments,
+            c, self.spectrum_rate_hz, gs.segment, gs.n_segments, self._spec.refresh_segments,
             self.settings.spectrum_max_hz,
         )
         self._cutter.reset()
@@ -294,9 +320,16 @@ class Engine:
         return self._samples / self.rate_hz
 
     @property
-    def analysis(self) -> analysis.AnalysisCopy:
-        """The analysis copy's filter (rate, decimation factor, taps)."""
+    def analysis(self) -> AnalysisCopy:
+        """The analysis copy's filter (rate, decimation factor, taps); its input is the
+        spectrum's copy."""
         return self._analysis
+
+    @property
+    def spectral_copy(self) -> AnalysisCopy:
+        """The spectrum's copy's filter (from the stream; passed through when the stream
+        needs no decimation)."""
+        return self._spectral_copy
 
     @property
     def analysis_samples(self) -> int:
@@ -345,12 +378,15 @@ class Engine:
         findings = self._fhold.apply(findings, now)
         names = list(metrics)
         table = np.vstack([metrics[k] for k in names]).T.tolist() if names else [[]] * self.n_channels
+        index = self._metric_index.get(tuple(names))
+        if index is None:
+            index = self._metric_index[tuple(names)] = {k: i for i, k in enumerate(names)}
         check_names = tuple(per_check)
         check_dicts = self._check_dicts(check_names, per_check)
         shown_levels = [_LEVELS[v] for v in shown.tolist()]
         # map() over the columns: the same objects as a comprehension, less interpreter work.
         chans = tuple(map(
-            _channel, self.names, shown_levels, map(dict, map(zip, repeat(names), table)),
+            _channel, self.names, shown_levels, map(MetricRow, repeat(index), table),
             map(tuple, shown_reasons), self._scalp_list, map(dict.copy, check_dicts),
         ))
         return QualityFrame(
@@ -423,7 +459,7 @@ class Engine:
         # Flat first, evaluated on every channel (non-scalp ones too: the light check).
         all_ctx = Context(
             self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz,
+            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling,
         )
         flat_res = flat.evaluate(stats, all_ctx, s)
         valid = self.scalp & finite & (flat_res.level < BAD)
@@ -439,7 +475,7 @@ class Engine:
                 log.info("mains frequency detected: %g Hz", found)
         ctx = Context(
             self.names, self.scalp, valid, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz,
+            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling,
         )
         memo_key = (*spec_key, self._mains_hz)
         if self._spectral is None or self._spectral[0] != memo_key:

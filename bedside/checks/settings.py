@@ -38,6 +38,7 @@ def _order(section: str, low_name: str, low: float, high_name: str, high: float)
 class AnalysisSettings:
     rate_hz: float = field(default=250.0, metadata=_rng(100.0, 2000.0))
     band_hz: float = field(default=100.0, metadata=_rng(30.0, 500.0))
+    spectrum_rate_hz: float = field(default=500.0, metadata=_rng(100.0, 5000.0))
 
     def __post_init__(self) -> None:
         if not self.band_hz < self.rate_hz / 2:
@@ -45,6 +46,7 @@ class AnalysisSettings:
                 f"'analysis.band_hz' ({self.band_hz:g}) must be below half of 'analysis.rate_hz' "
                 f"({self.rate_hz:g}): the analysis copy must carry its band"
             )
+        _order("quality", "analysis.rate_hz", self.rate_hz, "analysis.spectrum_rate_hz", self.spectrum_rate_hz)
 
 
 @dataclass(frozen=True)
@@ -97,6 +99,7 @@ class DriftSettings:
     slow_bad_uv: float = field(default=400.0, metadata=_rng(0.0, 1e6))
     offset_check_fraction: float = field(default=0.5, metadata=_rng(0.0, 1.0))
     offset_bad_fraction: float = field(default=0.9, metadata=_rng(0.0, 1.0))
+    dc_highpass_hz: float = field(default=0.16, metadata=_rng(0.01, 2.0))
 
     def __post_init__(self) -> None:
         _order("drift", "slope_check_uv_per_s", self.slope_check_uv_per_s,
@@ -200,7 +203,7 @@ class QualitySettings:
     min_rate_hz: float = field(default=64.0, metadata=_rng(1.0, 1e6))
     max_rate_hz: float = field(default=20000.0, metadata=_rng(1.0, 1e6))
     eeg_band_hz: tuple[float, float] = (1.0, 40.0)
-    spectrum_max_hz: float = field(default=250.0, metadata=_rng(50.0, 1e5))
+    spectrum_max_hz: float = field(default=190.0, metadata=_rng(50.0, 1e5))
     analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     hold: HoldSettings = field(default_factory=HoldSettings)
     line_noise: LineNoiseSettings = field(default_factory=LineNoiseSettings)
@@ -227,6 +230,12 @@ class QualitySettings:
             self.line_noise.harmonics * 60.0 + self.line_noise.bandwidth_hz,
             60.0 + self.line_noise.bandwidth_hz + 3.0,  # the fundamental's upper flank
         )
+        if not self.spectrum_max_hz < self.analysis.spectrum_rate_hz / 2:
+            raise ValueError(
+                f"'spectrum_max_hz' ({self.spectrum_max_hz:g}) must be below half of "
+                f"'analysis.spectrum_rate_hz' ({self.analysis.spectrum_rate_hz:g}): the spectrum's "
+                "copy must carry its band"
+            )
         if self.spectrum_max_hz < need_hz:
             raise ValueError(
                 f"'spectrum_max_hz' ({self.spectrum_max_hz:g}) must reach the highest band the "

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import enum
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 
 from bedside.stream.types import StreamHealth
@@ -41,6 +42,30 @@ NO_DATA_SYMBOL = "?"
 NO_DATA_KEY = "no_data"
 
 
+class MetricRow(Mapping[str, float]):
+    """One channel's metrics, read-only: name → value over one row of the engine's
+    table. The names' positions (``index``) are shared by every channel of a frame, so
+    a frame of 256 channels builds no 256 dicts; ``dict(row)`` gives a plain copy."""
+
+    __slots__ = ("_index", "_row")
+
+    def __init__(self, index: Mapping[str, int], row: list[float]) -> None:
+        self._index = index
+        self._row = row
+
+    def __getitem__(self, key: str) -> float:
+        return self._row[self._index[key]]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._index)
+
+    def __len__(self) -> int:
+        return len(self._index)
+
+    def __repr__(self) -> str:
+        return repr(dict(self))
+
+
 @dataclass(frozen=True)
 class ChannelQuality:
     """The verdict for one channel.
@@ -52,7 +77,7 @@ class ChannelQuality:
 
     name: str
     level: Level | None
-    metrics: dict[str, float]
+    metrics: Mapping[str, float]
     reasons: tuple[str, ...] = ()
     is_scalp: bool = True
     #: check name → level key of that check alone, before the hold ("line_noise": "bad" …).

@@ -62,6 +62,9 @@ class WindowStats:
     nonfinite: np.ndarray
     recent_ptp_uv: np.ndarray
     recent_zero_diff_fraction: np.ndarray
+    #: (K, C) the block means through a first-order high-pass (BlockStats' highpass_hz;
+    #: None when it has none): the wander as an AC-coupled amplifier would pass it.
+    block_means_hp_uv: np.ndarray | None = None
 
     @cached_property
     def cov_uv2(self) -> np.ndarray:
@@ -93,9 +96,22 @@ class BlockStats:
         refresh_blocks: int,
         rate_hz: float,
         lag: int = 1,
+        highpass_hz: float | None = None,
     ) -> None:
         c = n_channels
         self.block, self.n_blocks, self.rate_hz = block, n_blocks, rate_hz
+        # The block means through a first-order (RC) high-pass at highpass_hz, sampled
+        # once per block: y[n] = a·(y[n−1] + m[n] − m[n−1]), a = RC / (RC + Δt); it starts
+        # settled on the first block (y = 0), as an AC amplifier that has been on a while.
+        self.highpass_hz = highpass_hz
+        if highpass_hz:
+            rc = 1.0 / (2.0 * np.pi * highpass_hz)
+            self.hp_a: float | None = rc / (rc + block / rate_hz)
+        else:
+            self.hp_a = None
+        self.hp_means = np.zeros((n_blocks, c))
+        self._hp_prev = np.zeros(c)  # (y[n−1], m[n−1]) of the high-pass
+        self._mean_prev = np.zeros(c)
         self.lag = max(1, min(int(lag), block))
         self.refresh_blocks = max(1, refresh_blocks)
         self.means = np.zeros((n_blocks, c))
@@ -151,6 +167,10 @@ class BlockStats:
         else:
             n_still = np.zeros(x.shape[1], dtype=np.int64)
         self.means[slot] = mean
+        if self.hp_a is not None:
+            y = self.hp_a * (self._hp_prev + mean - self._mean_prev) if self.count else np.zeros_like(mean)
+            self.hp_means[slot] = y
+            self._hp_prev, self._mean_prev = y, mean
         self.maxs[slot], self.mins[slot] = mx, mn
         self.step_max[slot] = step_max
         self.step_med[slot] = step_med
@@ -216,6 +236,7 @@ class BlockStats:
             nonfinite=raw.nonfinite() if raw is not None else np.zeros(len(mean)),
             recent_ptp_uv=self.maxs[recent].max(axis=0) - self.mins[recent].min(axis=0),
             recent_zero_diff_fraction=self.zero_diffs[recent].sum(axis=0) / (len(recent) * b),
+            block_means_hp_uv=self.hp_means[order] if self.hp_a is not None else None,
         )
 
 

@@ -58,14 +58,26 @@ def by_name(frame: object, name: str):  # type: ignore[no-untyped-def]
     return next(c for c in frame.channels if c.name == name)  # type: ignore[attr-defined]
 
 
-def analysis_copy(engine: Engine, x: np.ndarray) -> np.ndarray:
-    """The engine's analysis copy of the raw samples x (n, C), computed with SciPy as the
-    outside reference: ``scipy.signal.lfilter`` with the engine's FIR taps, the fully
-    overlapped outputs only, every q-th (index k = the engine's k-th analysis sample)."""
+def _fir_copy(stage: object, x: np.ndarray) -> np.ndarray:
     from scipy.signal import lfilter
 
-    a = engine.analysis
-    if a.taps is None:
+    taps, q = stage.taps, stage.q  # type: ignore[attr-defined]
+    if taps is None:
         return np.asarray(x, dtype=float)
-    y = lfilter(a.taps, [1.0], np.asarray(x, dtype=float), axis=0)
-    return np.asarray(y[len(a.taps) - 1 :: a.q])
+    y = lfilter(taps, [1.0], np.asarray(x, dtype=float), axis=0)
+    return np.asarray(y[len(taps) - 1 :: q])
+
+
+def spectral_copy(engine: Engine, x: np.ndarray) -> np.ndarray:
+    """The engine's spectrum's copy of the raw samples x (n, C), computed with SciPy as
+    the outside reference: ``scipy.signal.lfilter`` with the engine's FIR taps, the fully
+    overlapped outputs only, every q-th (the samples the engine's spectrum is taken of)."""
+    return _fir_copy(engine.spectral_copy, x)
+
+
+def analysis_copy(engine: Engine, x: np.ndarray) -> np.ndarray:
+    """The engine's analysis copy of the raw samples x (n, C), computed with SciPy as the
+    outside reference: the spectrum's copy (above), then ``scipy.signal.lfilter`` with the
+    analysis FIR's taps, the fully overlapped outputs only, every q-th (index k = the
+    engine's k-th analysis sample)."""
+    return _fir_copy(engine.analysis, spectral_copy(engine, x))

@@ -20,7 +20,7 @@ RATE = 256.0
 
 
 def _frame_content(frame):  # type: ignore[no-untyped-def]
-    return [(c.name, c.level_key, c.checks, c.reasons, c.metrics) for c in frame.channels], [
+    return [(c.name, c.level_key, c.checks, c.reasons, dict(c.metrics)) for c in frame.channels], [
         (f.kind, f.electrodes, f.level.key) for f in frame.findings
     ]
 
@@ -74,7 +74,7 @@ def test_frames_between_segments_equal_a_recompute_from_all_the_samples() -> Non
         ref = fresh.evaluate()
         for a, b in zip(frames[k].channels, ref.channels, strict=True):
             assert a.checks == b.checks, (k, a.name)
-            np.testing.assert_equal(a.metrics, b.metrics, err_msg=f"{k} {a.name}")  # NaN == NaN
+            np.testing.assert_equal(dict(a.metrics), dict(b.metrics), err_msg=f"{k} {a.name}")  # NaN == NaN
         flat_seen |= frames[k].channels[7].checks["flat"] == "bad"
         if k * chunk < off - 2 * RATE:  # mains on T7 while it is connected
             assert frames[k].channels[7].checks["line_noise"] != "good"

@@ -15,7 +15,7 @@ from bedside.checks import line_noise
 from bedside.checks.settings import load_quality
 from bedside.checks.spectrum import Spectrum, welch_psd
 
-from .helpers import feed, make_engine
+from .helpers import feed, make_engine, spectral_copy
 
 RATE = 256.0
 
@@ -94,8 +94,10 @@ def test_engine_flags_mains_channel_and_detects_50_hz() -> None:
 
 
 def test_fast_rate_keeps_only_the_bins_the_checks_use() -> None:
-    """At 1024 Hz the spectrum is kept to spectrum_max_hz; the kept bins still equal
-    scipy.signal.welch, and the Nyquist used for the harmonics is the true one."""
+    """At 1024 Hz the spectrum is taken of the spectrum's copy (decimated by 2 to 512 Hz,
+    pass band to spectrum_max_hz) and kept to spectrum_max_hz; the kept bins equal
+    scipy.signal.welch of that copy (computed with scipy.signal.lfilter, helpers), the
+    Nyquist used for the harmonics is the copy's, and the 150-Hz harmonic is counted."""
     rate = 1024.0
     rng = np.random.default_rng(4)
     n = int(7 * rate)
@@ -106,10 +108,13 @@ def test_fast_rate_keeps_only_the_bins_the_checks_use() -> None:
     feed(eng, x)
     spec = eng.spectrum()
     assert spec is not None
-    assert spec.freqs_hz[-1] <= load_quality().spectrum_max_hz < rate / 2
-    assert spec.nyquist == rate / 2
+    srate = eng.spectrum_rate_hz
+    assert eng.spectral_copy.q == 2 and srate == rate / 2
+    assert spec.freqs_hz[-1] <= load_quality().spectrum_max_hz < srate / 2
+    assert spec.nyquist == srate / 2
     first, m = spec.span
-    _f, ref = welch(x[first : first + m], fs=rate, nperseg=int(rate), axis=0)
+    copy = spectral_copy(eng, x)
+    _f, ref = welch(copy[first : first + m], fs=srate, nperseg=int(srate), axis=0)
     np.testing.assert_allclose(spec.psd_uv2_per_hz, ref[: len(spec.freqs_hz)], rtol=1e-9, atol=1e-12)
     m150 = line_noise.family_metrics(spec, 50.0, load_quality())
     assert m150["line_noise_db"][0] > m150["line_noise_db"][1] + 10  # the harmonic is counted
