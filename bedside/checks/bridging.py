@@ -55,6 +55,9 @@ NAME = "bridging"
 #: Up to this many ED values the density is summed over the values themselves (as
 #: MNE-Python's gaussian_kde); beyond, over a histogram of HISTOGRAM_BINS bins.
 EXACT_KDE_MAX = 8192
+#: The density sums the Gaussians within this many bandwidths of the point only
+#: (exp(−½·9.5²) ≈ 2e-20 of a kernel's peak is what one further off adds).
+KERNEL_REACH = 9.5
 HISTOGRAM_BINS = 4096
 
 
@@ -125,7 +128,8 @@ def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_th
     # per-call overhead (the search calls it some 70 times).
     if below.size <= EXACT_KDE_MAX:
         bw = math.sqrt(float(gaussian_kde(below).covariance[0, 0]))
-        centres, weights = below, np.ones(below.size)
+        centres = np.sort(below)
+        weights = np.ones(below.size)
     else:
         bw = float(np.std(below, ddof=1)) * below.size ** (-1.0 / 5.0)  # the same Scott bandwidth
         # Many values (a dense cap): the same density summed over a fine histogram
@@ -136,11 +140,16 @@ def local_minimum(ed_uv2: np.ndarray, n_epochs: int, cutoff_uv2: float, epoch_th
         centres = ((edges[:-1] + edges[1:]) / 2.0)[keep]
         weights = counts[keep].astype(np.float64)
     norm = 1.0 / (below.size * math.sqrt(2.0 * math.pi) * bw)
+    reach = KERNEL_REACH * bw
 
     def density(v: float) -> float:
         if not 0.0 < v < cutoff_uv2:
             return math.inf
-        return float(norm * (weights @ np.exp(-0.5 * ((v - centres) / bw) ** 2)))
+        # Only the Gaussians within KERNEL_REACH bandwidths of v (centres are sorted):
+        # each one further off adds under 1e-19 of its peak. None that near: all of them.
+        lo, hi = np.searchsorted(centres, (v - reach, v + reach))
+        c, w = (centres[lo:hi], weights[lo:hi]) if hi > lo else (centres, weights)
+        return float(norm * (w @ np.exp(-0.5 * ((v - c) / bw) ** 2)))
 
     with np.errstate(invalid="ignore"):
         return float(minimize_scalar(density).x)
@@ -182,6 +191,7 @@ class BridgeDetector:
     def reset(self) -> None:
         """Forget everything (the filter state too): after a gap or a reconnect."""
         c = self.n_channels
+        self._gram = np.zeros((c, c))  # work array of one block's product
         self._zi: np.ndarray | None = None
         self._acc = np.zeros((c, c))
         self._acc_sum = np.zeros(c)
@@ -217,7 +227,7 @@ class BridgeDetector:
         while pos < y.shape[0]:
             take = min(self._hop - self._acc_n, y.shape[0] - pos)
             seg = y[pos : pos + take]
-            self._acc += seg.T @ seg
+            self._acc += np.matmul(seg.T, seg, out=self._gram)
             self._acc_sum += seg.sum(axis=0)
             self._acc_n += take
             pos += take
@@ -225,9 +235,15 @@ class BridgeDetector:
                 self._hops.append((self._acc, self._acc_sum, self._acc_n))
                 # The hop about its own mean, for the correlation check's covariance
                 # (the newest CORR_HOPS hops): what is slower than a hop is left out.
-                self._within.append(self._acc - np.outer(self._acc_sum, self._acc_sum) / self._acc_n)
+                within = np.outer(self._acc_sum, self._acc_sum)
+                within /= -self._acc_n
+                within += self._acc
+                self._within.append(within)
                 self._within_n.append(self._acc_n)
-                pooled: np.ndarray = np.sum(self._within, axis=0) / max(sum(self._within_n), 1)
+                pooled = self._within[0].copy()
+                for w in list(self._within)[1:]:
+                    pooled += w
+                pooled /= max(sum(self._within_n), 1)
                 self.hops_done += 1
                 self.recent_covs.append((self.hops_done, pooled))
                 c = self.n_channels

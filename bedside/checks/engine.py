@@ -26,9 +26,10 @@ from __future__ import annotations
 import logging
 import math
 import time
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from itertools import repeat
+from types import MappingProxyType
 
 import numpy as np
 
@@ -79,6 +80,7 @@ class Geometry:
 
 
 _new = object.__new__
+_set = object.__setattr__
 
 
 class _BlockCutter:
@@ -111,12 +113,17 @@ class _BlockCutter:
 
 
 def _channel(name: str, level: Level, metrics: MetricRow, reasons: tuple[str, ...],
-             scalp: bool, checks: dict[str, str]) -> ChannelQuality:
+             scalp: bool, checks: Mapping[str, str]) -> ChannelQuality:
     """ChannelQuality(name, level, metrics, reasons, scalp, checks), built without the
-    frozen dataclass's per-field setattr (the same object; 256 of them every update)."""
+    frozen dataclass's checks (the same object; 256 of them every update). Slots, not a
+    __dict__: one object per channel for the garbage collector to follow, not two."""
     cq = _new(ChannelQuality)
-    cq.__dict__.update(name=name, level=level, metrics=metrics, reasons=reasons,
-                       is_scalp=scalp, checks=checks)
+    _set(cq, "name", name)
+    _set(cq, "level", level)
+    _set(cq, "metrics", metrics)
+    _set(cq, "reasons", reasons)
+    _set(cq, "is_scalp", scalp)
+    _set(cq, "checks", checks)
     return cq
 
 
@@ -220,8 +227,10 @@ class Engine:
         self._mains_hz: float | None = (
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
         )
-        self._check_proto: dict[tuple[str, ...], dict[int, dict[str, str]]] = {}
+        self._check_proto: dict[tuple[str, ...], dict[int, Mapping[str, str]]] = {}
         self._metric_index: dict[tuple[str, ...], dict[str, int]] = {}
+        self._channel_range = range(c)
+        self._corr_hist: tuple[tuple[int, bytes, bytes], list[np.ndarray]] | None = None
         self._spec_gen = 0  # bumped by reset(): segment counts restart
         self._detect_key: tuple[int, int, bytes] | None = None
         self._spectral: tuple[tuple[object, ...], CheckResult, CheckResult, tuple[Finding, ...]] | None = None
@@ -304,6 +313,7 @@ class Engine:
         self._cutter.reset()
         self._bridge.reset()
         self._corr_cache.clear()
+        self._corr_hist = None
         self._taint_hop[:] = -(10**9)
         self._hold.reset()
         self._fhold.reset()
@@ -377,7 +387,7 @@ class Engine:
         shown, shown_reasons = self._hold.apply(raw, reasons, now)
         findings = self._fhold.apply(findings, now)
         names = list(metrics)
-        table = np.vstack([metrics[k] for k in names]).T.tolist() if names else [[]] * self.n_channels
+        columns = [metrics[k].tolist() for k in names]  # one list per metric, not per channel
         index = self._metric_index.get(tuple(names))
         if index is None:
             index = self._metric_index[tuple(names)] = {k: i for i, k in enumerate(names)}
@@ -386,8 +396,8 @@ class Engine:
         shown_levels = [_LEVELS[v] for v in shown.tolist()]
         # map() over the columns: the same objects as a comprehension, less interpreter work.
         chans = tuple(map(
-            _channel, self.names, shown_levels, map(MetricRow, repeat(index), table),
-            map(tuple, shown_reasons), self._scalp_list, map(dict.copy, check_dicts),
+            _channel, self.names, shown_levels, map(MetricRow, repeat(index), repeat(columns), self._channel_range),
+            map(tuple, shown_reasons), self._scalp_list, check_dicts,
         ))
         return QualityFrame(
             self._last_time, time.time(), chans, findings, health, self.settings.window_s,
@@ -401,6 +411,11 @@ class Engine:
         times its median over these hops) says nothing about whether it carries EEG:
         that lead's value there is left out (NaN)."""
         mask = valid.tobytes()
+        # The same hops, channels and flagged leads as last time: the same answer (a hop
+        # completes every fourth update).
+        memo = (self._bridge.hops_done, mask, self._taint_hop.tobytes())
+        if self._corr_hist is not None and self._corr_hist[0] == memo:
+            return self._corr_hist[1]
         out, cache = [], {}
         covs = list(self._bridge.recent_covs)
         for hop, cov in covs:
@@ -418,6 +433,7 @@ class Engine:
             jump = power > self.settings.correlation.artifact_ratio * np.median(power, axis=0)
             if jump.any():
                 out = [np.where(j, np.nan, v) for j, v in zip(jump, out, strict=True)]
+        self._corr_hist = (memo, out)
         return out
 
     def _recent_segments(self) -> int:
@@ -425,8 +441,8 @@ class Engine:
         hop_s = self.settings.segment_s / 2
         return max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
 
-    def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[dict[str, str]]:
-        """Per channel, its {check: level key} (shared prototypes: the caller copies them).
+    def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[Mapping[str, str]]:
+        """Per channel, its {check: level key}: read-only prototypes shared by channels.
 
         Channels are grouped by the combination of their checks' levels (one integer
         code each, base 3), so a dict is built once per combination, not per channel."""
@@ -448,7 +464,7 @@ class Engine:
                 for k in check_names:
                     rest, v = divmod(rest, 3)
                     lv[k] = _LEVELS[v].key
-                proto = cache[c] = lv
+                proto = cache[c] = MappingProxyType(lv)
             out.append(proto)
         return out
 

@@ -43,18 +43,20 @@ NO_DATA_KEY = "no_data"
 
 
 class MetricRow(Mapping[str, float]):
-    """One channel's metrics, read-only: name → value over one row of the engine's
-    table. The names' positions (``index``) are shared by every channel of a frame, so
-    a frame of 256 channels builds no 256 dicts; ``dict(row)`` gives a plain copy."""
+    """One channel's metrics, read-only: name → value, read from the engine's table
+    (``columns``: one list per metric, ``index``: each name's column, both shared by
+    every channel of a frame; ``i``: this channel). A frame of 256 channels builds no
+    256 dicts; ``dict(row)`` gives a plain copy."""
 
-    __slots__ = ("_index", "_row")
+    __slots__ = ("_index", "_columns", "_i")
 
-    def __init__(self, index: Mapping[str, int], row: list[float]) -> None:
+    def __init__(self, index: Mapping[str, int], columns: list[list[float]], i: int) -> None:
         self._index = index
-        self._row = row
+        self._columns = columns
+        self._i = i
 
     def __getitem__(self, key: str) -> float:
-        return self._row[self._index[key]]
+        return self._columns[self._index[key]][self._i]
 
     def __iter__(self) -> Iterator[str]:
         return iter(self._index)
@@ -66,7 +68,7 @@ class MetricRow(Mapping[str, float]):
         return repr(dict(self))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class ChannelQuality:
     """The verdict for one channel.
 
@@ -81,7 +83,7 @@ class ChannelQuality:
     reasons: tuple[str, ...] = ()
     is_scalp: bool = True
     #: check name → level key of that check alone, before the hold ("line_noise": "bad" …).
-    checks: dict[str, str] = field(default_factory=dict)
+    checks: Mapping[str, str] = field(default_factory=dict)
 
     @property
     def level_key(self) -> str:
