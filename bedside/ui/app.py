@@ -633,6 +633,9 @@ class BedsideApp(App[int]):
             self.notify(f"setup log not open: {message.error}", severity="error", timeout=10)
             return
         self.recorder = message.gate
+        log_screen = self.views.get("log")
+        if log_screen is not None and log_screen.is_mounted:
+            log_screen.refresh_status()  # its status line and file name, now, not at the next tick
         if self.plan is not None:
             message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
         if self.connection is not None:

@@ -224,7 +224,7 @@ class MemoryRecorder:
             raise InputError(f"initials {initials!r} are not acceptable; accepted: letters")
         self.technologist = initials
 
-    def set_subject(self, subject_id: str) -> None:
+    def set_subject(self, subject_id: str, rename_file: bool = False) -> None:
         self.subject_id = subject_id
 
     def sign_off(self, initials: str) -> None:
