@@ -11,6 +11,7 @@ import gc
 import logging
 import math
 import time
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -57,10 +58,10 @@ class Connected(Message):
     note: said to the technologist once it is shown; confirmed: its channels are the
     ones just confirmed in the channels screen (not asked again)."""
 
-    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]],
+    def __init__(self, connection: Connection, places: MapPlaces,
                  note: str = "", confirmed: bool = False) -> None:
         super().__init__()
-        self.connection, self.points = connection, points
+        self.connection, self.places = connection, places
         self.note, self.confirmed = note, confirmed
 
 
@@ -74,9 +75,17 @@ class ChannelsNotApplied(Message):
 
 
 class MapPoints(Message):
-    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]]) -> None:
+    def __init__(self, connection: Connection, places: MapPlaces) -> None:
         super().__init__()
-        self.connection, self.points = connection, points
+        self.connection, self.places = connection, places
+
+
+@dataclass(frozen=True)
+class MapPlaces:
+    """Where the head map draws the scalp channels, and those it cannot place."""
+
+    points: dict[str, tuple[float, float]]
+    unplaced: tuple[str, ...] = ()
 
 
 class LogOpened(Message):
@@ -126,6 +135,8 @@ class BedsideApp(App[int]):
         self.tracker = GoodTracker()
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
+        #: Scalp channels with neither a position nor a 10-20/10-10 name (not on the map).
+        self.unplaced: tuple[str, ...] = ()
         self._last_frame_at: float | None = None
         self._connected_at: float | None = None
         self._shown_stalled = False
@@ -345,11 +356,11 @@ class BedsideApp(App[int]):
                 assert identity is not None
                 source = self.services.open_source(identity, None)
             conn = self._start(source, generation)
-            points = self._points_for(conn)
+            places = self._points_for(conn)
         except BedsideError as exc:
             self.post_message(FeedProblem(f"could not start watching: {exc}"))
             return
-        self.post_message(Connected(conn, points))
+        self.post_message(Connected(conn, places))
 
     def _start(self, source: Source, generation: int) -> Connection:
         """Engine and monitor on ``source`` (worker thread); frames carry ``generation``."""
@@ -418,13 +429,13 @@ class BedsideApp(App[int]):
         old.stop()
         try:
             conn = self._start(source, generation)
-            points = self._points_for(conn)
+            places = self._points_for(conn)
         except BedsideError as exc:
             source.close()
             self.post_message(FeedProblem(f"could not start watching with the new channels: {exc}"))
             return
         note = self._saved_note(conn.identity.source_id, preview)
-        self.post_message(Connected(conn, points, note=note, confirmed=True))
+        self.post_message(Connected(conn, places, note=note, confirmed=True))
 
     def on_channels_not_applied(self, message: ChannelsNotApplied) -> None:
         if message.generation == self._generation:  # nothing newer asked meanwhile
@@ -439,19 +450,31 @@ class BedsideApp(App[int]):
         gate = self.recorder
         return (gate.recorder.on_frame, gate.lock) if gate is not None else None
 
-    def _points_for(self, conn: Connection) -> dict[str, tuple[float, float]]:
-        """Map positions for the stream's scalp channels (plan first, else the standard head)."""
-        names = [ch.name for ch in conn.channels if ch.is_scalp]
+    def _points_for(self, conn: Connection) -> MapPlaces:
+        """Map places for the stream's scalp channels: the geometry the stream gives (its
+        own locations or --layout: ``ChannelInfo.position_mm``) first; for the channels
+        without one, their 10-20/10-10 name on this head's plan, else on the standard
+        head; the rest are unplaced (the map lists them)."""
+        scalp = [ch for ch in conn.channels if ch.is_scalp]
+        names = [ch.name for ch in scalp]
+        geometry = {ch.name: ch.position_mm for ch in scalp if ch.position_mm is not None}
+        points: dict[str, tuple[float, float]] = {}
+        if geometry:
+            try:
+                points.update(self.services.project_geometry(geometry))
+            except (BedsideError, ValueError) as exc:
+                log.warning("the stream's electrode positions cannot be drawn: %s", exc)
         xyz: dict[str, tuple[float, float, float]] = {}
         if self.plan is not None:
-            xyz.update({n: p for n, p in self.plan.positions_mm.items() if n in names})
-        missing = [n for n in names if n not in xyz]
+            xyz.update({n: p for n, p in self.plan.positions_mm.items() if n in names and n not in points})
+        missing = [n for n in names if n not in xyz and n not in points]
         if missing:
             try:
                 xyz.update(self.services.positions_for(missing))
             except BedsideError as exc:
                 log.warning("no map positions: %s", exc)
-        return {n: self.services.project_2d(p) for n, p in xyz.items()}
+        points.update({n: self.services.project_2d(p) for n, p in xyz.items()})
+        return MapPlaces(points, tuple(n for n in names if n not in points))
 
     def on_connected(self, message: Connected) -> None:
         conn = message.connection
@@ -462,7 +485,7 @@ class BedsideApp(App[int]):
             self._forget_frames()
         self.connection = conn
         self.identity = message.connection.identity
-        self.points = message.points
+        self.points, self.unplaced = message.places.points, message.places.unplaced
         self._monitor_error_shown = False
         self._connected_at = time.monotonic()
         self.status_note = ""
@@ -470,7 +493,7 @@ class BedsideApp(App[int]):
             conn = message.connection
             self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
         if self._watch_ready():
-            self.views["watch"].set_points(message.points)
+            self.views["watch"].set_points(self.points, self.unplaced)
         self._refresh_watch_status()
         if message.note:
             self.notify(message.note, timeout=8)
@@ -595,9 +618,9 @@ class BedsideApp(App[int]):
 
     def on_map_points(self, message: MapPoints) -> None:
         if message.connection is self.connection:
-            self.points = message.points
+            self.points, self.unplaced = message.places.points, message.places.unplaced
             if self._watch_ready():
-                self.views["watch"].set_points(message.points)
+                self.views["watch"].set_points(self.points, self.unplaced)
 
     def export_plan(self, plan: PlacementPlan) -> None:
         # The taped values are read here, on the UI thread, and go with the plan.

@@ -84,6 +84,12 @@ def _project_2d(xyz: tuple[float, float, float]) -> tuple[float, float]:
     return float(x), float(y)
 
 
+def _project_geometry(positions_mm: Mapping[str, tuple[float, float, float]]) -> dict[str, tuple[float, float]]:
+    from bedside.placement.layout import project_geometry
+
+    return {n: (float(x), float(y)) for n, (x, y) in project_geometry(positions_mm).items()}
+
+
 def _find_streams(wait_s: float) -> list[StreamIdentity]:
     from bedside.stream.discovery import find_streams
 
@@ -214,6 +220,9 @@ class Services:
     plan_placement: Callable[[HeadMeasurements, str, str], PlacementPlan] = _plan_placement
     positions_for: Callable[[Sequence[str]], dict[str, tuple[float, float, float]]] = _positions_for
     project_2d: Callable[[tuple[float, float, float]], tuple[float, float]] = _project_2d
+    #: A cap's own positions (the stream's locations or --layout, mm) → map points.
+    project_geometry: Callable[[Mapping[str, tuple[float, float, float]]], dict[str, tuple[float, float]]] = (
+        _project_geometry)
     find_streams: Callable[[float], list[StreamIdentity]] = _find_streams
     select_stream: Callable[
         [Sequence[StreamIdentity], str | None, str | None, str | None], StreamIdentity
