@@ -10,6 +10,7 @@ from __future__ import annotations
 import gc
 import logging
 import math
+import threading
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -36,20 +37,36 @@ from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
 from bedside.ui.screens.picker import StreamPicker, streams_visible
 from bedside.ui.screens.watch import WatchScreen
-from bedside.ui.services import ChannelPreview, Services, default_services
+from bedside.ui.services import ChannelPreview, Services, StreamLookLike, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
 log = logging.getLogger("bedside")
 
 VIEW_TITLE = {"measure": "Measure", "watch": "Watch", "log": "Log"}
+#: How often a look for streams is asked what it heard (it never blocks), and for how
+#: many polls an open picker keeps listening (10 min) before its list stays as it is.
+LOOK_POLL_S = 0.2
+LOOK_MAX_POLLS = 3000
 
 
 class StreamsFound(Message):
+    """What a look found: one stream to pin, several to choose from (the picker), or a
+    problem to say. still_looking: the look goes on and the picker will be updated."""
+
     def __init__(self, streams: list[StreamIdentity], ambiguous: bool, pinned: StreamIdentity | None,
-                 note: str) -> None:
+                 note: str, still_looking: bool = False, look: threading.Event | None = None) -> None:
         super().__init__()
         self.streams, self.ambiguous, self.pinned, self.note = streams, ambiguous, pinned, note
+        self.still_looking, self.look = still_looking, look
+
+
+class StreamsSeen(Message):
+    """The open picker's list, updated as more streams answer (or the look settles)."""
+
+    def __init__(self, streams: list[StreamIdentity], still_looking: bool, look: threading.Event) -> None:
+        super().__init__()
+        self.streams, self.still_looking, self.look = streams, still_looking, look
 
 
 class Connected(Message):
@@ -141,7 +158,9 @@ class BedsideApp(App[int]):
         self._connected_at: float | None = None
         self._shown_stalled = False
         self._leaving = False
-        self._pending_pick: tuple[list[StreamIdentity], str] | None = None
+        self._pending_pick: tuple[list[StreamIdentity], str, bool] | None = None
+        #: The running look for streams (set when it is over or replaced).
+        self._look: threading.Event | None = None
         self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
@@ -172,6 +191,7 @@ class BedsideApp(App[int]):
             self.discover(force_picker=False)
 
     def on_unmount(self) -> None:
+        self._end_look()
         # Leaving by any other way than q/Ctrl-C (e.g. an error): still stop and save.
         if self.connection is not None:
             self.connection.stop()
@@ -188,6 +208,7 @@ class BedsideApp(App[int]):
         if self._leaving:
             return
         self._leaving = True
+        self._end_look()
         self.notify("saving the log and closing…", timeout=3)
         self._close_down()
 
@@ -273,45 +294,91 @@ class BedsideApp(App[int]):
 
     # --- stream ------------------------------------------------------------------
     def discover(self, force_picker: bool) -> None:
+        """Look for streams (Watch: p for the picker, r to look again). The look answers
+        as streams reply: the picker opens at once (p) or as soon as two candidates are
+        heard, and fills as more answer; only pinning the one stream waits the full look."""
         self.status_note = "looking for streams…"
         self._refresh_watch_status()
-        self._discover(force_picker)
+        self._end_look()
+        look = threading.Event()  # set: this look is over (picked, cancelled, replaced)
+        self._look = look
+        self._discover(force_picker, look)
 
-    @work(thread=True, exclusive=True, group="discover", exit_on_error=False)
-    def _discover(self, force_picker: bool) -> None:
-        cfg = self.config
+    def _end_look(self) -> None:
+        if self._look is not None:
+            self._look.set()
+            self._look = None
+
+    @work(thread=True, group="discover", exit_on_error=False)
+    def _discover(self, force_picker: bool, done: threading.Event) -> None:
         try:
-            found = self.services.find_streams(cfg.wait_s)
+            look = self.services.look_for_streams()
         except BedsideError as exc:
             self.post_message(StreamsFound([], False, None, str(exc)))
             return
-        if force_picker and found:
-            self.post_message(StreamsFound(found, True, None, ""))
-            return
         try:
-            pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
-        except AmbiguousStream as exc:
-            cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
-            # The picker says it in the app's terms (the error's text names command options).
-            self.post_message(StreamsFound(cands, True, None, ""))
-            return
-        except StreamNotFound as exc:
-            self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
-            return
+            self._run_look(look, force_picker, done)
         except BedsideError as exc:
-            self.post_message(StreamsFound(found, False, None, str(exc)))
-            return
-        self.post_message(StreamsFound(found, False, pinned, ""))
+            self.post_message(StreamsFound([], False, None, str(exc)))
+        finally:
+            look.close()
+
+    def _run_look(self, look: StreamLookLike, force_picker: bool, done: threading.Event) -> None:
+        """Poll the look every LOOK_POLL_S (worker thread) until it has an answer; while
+        a picker shows its list, keep it up to date until the picker closes."""
+        cfg = self.config
+        shown: tuple[list[StreamIdentity], bool] | None = None  # what the picker lists
+        polls = 0
+        while not done.is_set() and polls < LOOK_MAX_POLLS:
+            polls += 1
+            settled = look.settled(cfg.wait_s)
+            found = look.visible()
+            if shown is not None:
+                cands = found if force_picker else self._matching(found)
+                if (cands, settled) != shown:
+                    shown = (cands, settled)
+                    self.post_message(StreamsSeen(cands, not settled, done))
+            elif force_picker:
+                shown = (found, settled)
+                self.post_message(StreamsFound(found, True, None, "", not settled, done))
+            else:
+                try:
+                    pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
+                except AmbiguousStream as exc:  # two candidates heard: it cannot become one
+                    cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
+                    shown = (cands, settled)
+                    # The picker says it in the app's terms (the error's text names command options).
+                    self.post_message(StreamsFound(cands, True, None, "", not settled, done))
+                except StreamNotFound as exc:
+                    if settled:
+                        self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again",
+                                                       look=done))
+                        return
+                else:
+                    if settled:  # one stream, and the look lasted long enough to say so
+                        self.post_message(StreamsFound(found, False, pinned, "", look=done))
+                        return
+            done.wait(LOOK_POLL_S)
+
+    def _matching(self, found: list[StreamIdentity]) -> list[StreamIdentity]:
+        """The streams that fit what the app was started with (all when nothing was pinned)."""
+        cfg = self.config
+        return [s for s in found
+                if (cfg.stream_name is None or s.name == cfg.stream_name)
+                and (cfg.source_id is None or s.source_id == cfg.source_id)
+                and (cfg.host is None or s.hostname == cfg.host)]
 
     def on_streams_found(self, message: StreamsFound) -> None:
+        if message.look is not None and message.look is not self._look:
+            return  # an older look's answer
         self.status_note = message.note
         if message.pinned is not None:
             self.status_note = "connecting…"
             self._connect(message.pinned, None)
-        elif message.ambiguous and message.streams:
+        elif message.ambiguous:
             # The picker opens on Watch; elsewhere it waits (it would take the keys
             # of someone typing measurements or notes).
-            self._pending_pick = (message.streams, message.note)
+            self._pending_pick = (message.streams, message.note, message.still_looking)
             if self.current_view == "watch":
                 self._open_picker()
             else:
@@ -319,14 +386,24 @@ class BedsideApp(App[int]):
                 self.notify(self.status_note, timeout=6)
         self._refresh_watch_status()
 
+    def on_streams_seen(self, message: StreamsSeen) -> None:
+        if message.look is not self._look:
+            return
+        if isinstance(self.screen, StreamPicker):
+            self.screen.update_streams(message.streams, message.still_looking)
+        elif self._pending_pick is not None:
+            self._pending_pick = (message.streams, self._pending_pick[1], message.still_looking)
+
     def _open_picker(self) -> None:
         if self._pending_pick is None or isinstance(self.screen, StreamPicker):
             return
-        streams, note = self._pending_pick
+        streams, note, still_looking = self._pending_pick
         self._pending_pick = None
-        self.push_screen(StreamPicker(streams, note, current=self.identity), self._picked)
+        self.push_screen(StreamPicker(streams, note, current=self.identity, still_looking=still_looking),
+                         self._picked)
 
     def _picked(self, identity: StreamIdentity | None) -> None:
+        self._end_look()
         if identity is not None:
             self.status_note = "connecting…"
             self._connect(identity, None)

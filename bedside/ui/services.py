@@ -90,10 +90,20 @@ def _project_geometry(positions_mm: Mapping[str, tuple[float, float, float]]) ->
     return {n: (float(x), float(y)) for n, (x, y) in project_geometry(positions_mm).items()}
 
 
-def _find_streams(wait_s: float) -> list[StreamIdentity]:
-    from bedside.stream.discovery import find_streams
+class StreamLookLike(Protocol):
+    """A look for streams (bedside.stream.discovery.StreamLook): never blocks."""
 
-    return list(find_streams(wait_s))
+    def visible(self) -> list[StreamIdentity]: ...
+
+    def settled(self, wait_s: float) -> bool: ...
+
+    def close(self) -> None: ...
+
+
+def _look_for_streams() -> StreamLookLike:
+    from bedside.stream.discovery import StreamLook
+
+    return StreamLook()
 
 
 def _select_stream(
@@ -223,7 +233,8 @@ class Services:
     #: A cap's own positions (the stream's locations or --layout, mm) → map points.
     project_geometry: Callable[[Mapping[str, tuple[float, float, float]]], dict[str, tuple[float, float]]] = (
         _project_geometry)
-    find_streams: Callable[[float], list[StreamIdentity]] = _find_streams
+    #: A look for EEG streams that lists them as they answer (the picker fills at once).
+    look_for_streams: Callable[[], StreamLookLike] = _look_for_streams
     select_stream: Callable[
         [Sequence[StreamIdentity], str | None, str | None, str | None], StreamIdentity
     ] = _select_stream

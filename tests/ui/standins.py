@@ -241,6 +241,26 @@ class MemoryRecorder:
         self.closed = True
 
 
+class ScriptedLook:
+    """A look for streams that hears ``script[i]`` at its i-th poll (then the last one
+    for good); it has settled once the script is used up. ``polls`` counts the polls."""
+
+    def __init__(self, script: Sequence[Sequence[StreamIdentity]]) -> None:
+        self.script = [list(s) for s in script] or [[]]
+        self.polls = 0
+        self.closed = False
+
+    def visible(self) -> list[StreamIdentity]:
+        self.polls += 1
+        return list(self.script[min(self.polls, len(self.script)) - 1])
+
+    def settled(self, wait_s: float) -> bool:
+        return self.polls >= len(self.script)
+
+    def close(self) -> None:
+        self.closed = True
+
+
 def services(
     *,
     frames: list[QualityFrame] | None = None,
@@ -262,7 +282,7 @@ def services(
         plan_placement=plan_placement,
         positions_for=positions_for,
         project_2d=project_2d,
-        find_streams=lambda wait_s: list(found),
+        look_for_streams=lambda: ScriptedLook([found]),
         select_stream=select,
         open_source=lambda ident, choices: FixedSource(),
         load_quality=lambda: None,
