@@ -12,7 +12,6 @@ import contextlib
 import logging
 import os
 import sys
-import time
 from collections.abc import Iterator
 from pathlib import Path
 from typing import cast
@@ -69,8 +68,9 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
 
 
 def default_log_path(subject: str) -> Path:
-    stamp = time.strftime("%Y%m%d-%H%M%S")
-    return Path("bedside-logs") / f"{subject or 'setup'}-{stamp}.yaml"
+    from bedside.record.session import default_log_name
+
+    return Path("bedside-logs") / default_log_name(subject)
 
 
 def app_config(args: argparse.Namespace, *, stream_name: str | None = None, start_view: str = "watch"):  # type: ignore[no-untyped-def]
@@ -90,6 +90,7 @@ def app_config(args: argparse.Namespace, *, stream_name: str | None = None, star
         wait_s=getattr(args, "wait", 3.0),
         log_path=log_path,
         discard_empty_log=log_path is not None and not args.log,
+        rename_log_with_subject=log_path is not None and not args.log,
         technologist=args.technologist,
         subject_id=args.subject,
         config_paths=configs,

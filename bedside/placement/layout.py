@@ -130,6 +130,57 @@ def project_2d(
     return (r * u[0] / horizontal, r * u[1] / horizontal)
 
 
+#: A sphere fitted to a cap's positions is trusted for the head map when its radius is
+#: a head's (adult about 90 mm; our bounds, generous for neonates and large heads).
+_FIT_RADIUS_MM = (40.0, 200.0)
+
+
+def fit_sphere(points_mm: Sequence[Sequence[float]]) -> tuple[tuple[float, float, float], float] | None:
+    """Centre and radius (mm) of the sphere nearest the points (linear least squares:
+    |p|² = 2 c·p + (r² − |c|²)), or None with fewer than 4 points, points on one plane,
+    or a radius no head has (see ``_FIT_RADIUS_MM``)."""
+    import numpy as np
+
+    p = np.asarray(points_mm, dtype=float).reshape(-1, 3)
+    p = p[np.all(np.isfinite(p), axis=1)]
+    if len(p) < 4:
+        return None
+    a = np.column_stack([2.0 * p, np.ones(len(p))])
+    b = np.sum(p * p, axis=1)
+    sol, _, rank, _ = np.linalg.lstsq(a, b, rcond=None)
+    if rank < 4:
+        return None
+    centre = sol[:3]
+    r2 = float(sol[3] + centre @ centre)
+    if not r2 > 0.0:
+        return None
+    radius = math.sqrt(r2)
+    if not _FIT_RADIUS_MM[0] <= radius <= _FIT_RADIUS_MM[1]:
+        return None
+    return (float(centre[0]), float(centre[1]), float(centre[2])), radius
+
+
+def project_geometry(positions_mm: Mapping[str, Sequence[float]]) -> dict[str, tuple[float, float]]:
+    """A cap's own positions (a stream's locations or a layout file; mm, x right, y
+    front, z up) on the 2-D head map, as :func:`project_2d` maps the named sites:
+    azimuthal equidistant from the vertex of the sphere fitted to the positions (the
+    frame's origin is wherever the digitiser put it: between the ears in a head frame).
+    With too few points for a fit, the frame's own origin is the centre. Positions
+    that are not three finite numbers are left out."""
+    clean = {
+        name: (float(p[0]), float(p[1]), float(p[2]))
+        for name, p in positions_mm.items()
+        if len(p) == 3 and all(math.isfinite(float(v)) for v in p)
+    }
+    fit = fit_sphere(list(clean.values()))
+    centre, radius = fit if fit is not None else ((0.0, 0.0, 0.0), 1.0)
+    axes = (radius, radius, radius)
+    return {
+        name: project_2d(tuple(v - c for v, c in zip(p, centre, strict=True)), axes)
+        for name, p in clean.items()
+    }
+
+
 def read_electrodes_tsv(path: str) -> dict[str, tuple[float, float, float]]:
     """Positions (mm) from a BIDS ``electrodes.tsv`` (columns name, x, y, z; BIDS-EEG).
 

@@ -45,7 +45,7 @@ def describe_os_error(exc: OSError, path: Path) -> str:
     return f"cannot write {path} ({reason})"
 
 
-def _fsync_dir(folder: Path) -> None:
+def fsync_folder(folder: Path) -> None:
     # Makes the rename itself durable. Some file systems refuse O_RDONLY on a folder
     # or fsync on it (EINVAL); the rename has still happened, so that is not an error.
     try:
@@ -87,7 +87,7 @@ def atomic_write(path: Path | str, writer: Callable[[BinaryIO], None], *, mode: 
         with contextlib.suppress(OSError):
             tmp.unlink()
         raise
-    _fsync_dir(folder)
+    fsync_folder(folder)
     return path
 
 

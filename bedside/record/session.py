@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import atexit
 import contextlib
+import errno
 import fcntl
 import logging
 import math
@@ -51,7 +52,7 @@ from typing import Any
 from bedside import __version__
 from bedside.config import config_hash
 from bedside.errors import InputError, LogSaveError, RecordError
-from bedside.record.atomic import atomic_write_text, describe_os_error
+from bedside.record.atomic import atomic_write_text, describe_os_error, fsync_folder
 from bedside.record.ids import (
     validate_electrode,
     validate_impedance,
@@ -578,17 +579,93 @@ class SessionRecorder:
                 self._log.technologist = initials
                 self._touch()
 
-    def set_subject(self, subject_id: str) -> None:
+    def set_subject(self, subject_id: str, rename_file: bool = False) -> None:
+        """Set the subject ID. rename_file: the log's name was made by bedside from the
+        subject (:func:`default_log_name`), so it follows the new ID: ``DEMO-001-<time>``
+        becomes ``W3-017-<time>`` (see :meth:`rename`); a name the technologist chose
+        is never changed."""
         subject = validate_subject_id(subject_id, allow_letters_only=self._allow_letters_only_id)
         with self._lock:
             self._check_open()
-            if subject != self._log.subject_id:
-                if self._log.subject_id:
-                    self._log.events.append(
-                        Event(self._now(), "subject", f"{self._log.subject_id} → {subject}")
-                    )
+            before = self._log.subject_id
+            if subject != before:
+                if before:
+                    self._log.events.append(Event(self._now(), "subject", f"{before} → {subject}"))
                 self._log.subject_id = subject
                 self._touch()
+        if rename_file and subject and subject != before:
+            self.rename(self._path.with_name(name_for_subject(self._path.name, before, subject)))
+
+    def rename(self, target: Path | str) -> Path:
+        """Move the log to ``target`` in the same folder, atomically, never replacing a
+        file: if ``target`` exists, ``<stem>-2<suffix>`` (then -3, …) is taken. Returns
+        the path the log now has (also :attr:`path` and ``status.path``).
+
+        The file is hard-linked under the new name, then the old name is removed, so at
+        every instant the log is on disk under one name or both, never neither; where
+        the file system has no hard links the new name is first reserved (created
+        empty, exclusively) and the log renamed onto it. A failure keeps the old name,
+        says why in ``status.notice`` and the log's events, and raises nothing: the
+        session goes on under its old name."""
+        self._check_open()
+        target = Path(target)
+        if target.parent != self._path.parent:
+            raise RecordError(f"the log can only be renamed within its folder {self._path.parent}")
+        validate_log_name(target.name)
+        with self._io_lock:
+            old = self._path
+            if target.name == old.name:
+                return old
+            try:
+                new, lock_fd = self._move_to_free_name(old, target)
+            except OSError as exc:
+                with self._lock:
+                    self._notice = (
+                        f"the log keeps its name {old.name}: it could not be renamed to "
+                        f"{target.name} ({describe_os_error(exc, target)})"
+                    )
+                    self._log.events.append(Event(self._now(), "log_rename_failed", self._notice))
+                    self._touch()
+                log.warning("setup log: %s", self._notice)
+                return old
+            old_lock, old_lock_fd = self._lock_path, self._lock_fd
+            with self._lock:
+                self._path = new
+                self._lock_fd = lock_fd
+                self._log.events.append(Event(self._now(), "log_renamed", f"{old.name} → {new.name}"))
+                self._touch()
+            if old_lock_fd is not None:
+                with contextlib.suppress(OSError):
+                    old_lock.unlink()
+                with contextlib.suppress(OSError):
+                    os.close(old_lock_fd)
+        log.info("setup log renamed: %s → %s", old, new)
+        self._wake.set()  # the rename event goes out with the next autosave
+        return new
+
+    def _move_to_free_name(self, old: Path, target: Path) -> tuple[Path, int | None]:
+        """Give the log file (if it is on disk yet) the first free name from ``target``
+        on, with that name's writer lock held; raises OSError when no move is possible."""
+        stem, suffix = _split_name(target.name)
+        for n in range(1, 1000):
+            candidate = target if n == 1 else target.with_name(f"{stem}-{n}{suffix}")
+            if candidate.exists() or candidate.is_symlink():
+                continue
+            lock_fd = _take_lock(candidate.with_name(f".{candidate.name}.lock"))
+            if lock_fd is False:
+                continue  # another session writes a log of that name
+            try:
+                if old.exists() and not _link_or_reserve_and_rename(old, candidate):
+                    raise FileExistsError  # taken between the check and the move
+            except FileExistsError:
+                _drop_lock(candidate, lock_fd)
+                continue
+            except OSError:
+                _drop_lock(candidate, lock_fd)
+                raise
+            fsync_folder(old.parent)
+            return candidate, lock_fd
+        raise OSError(errno.EEXIST, f"no free name like {target.name}")
 
     def set_reference(self, reference: str = "", ground: str = "") -> None:
         """Where the reference and ground electrodes are (for the BIDS sidecar)."""
@@ -816,6 +893,89 @@ def _refuse_foreign_file(path: Path, raw: bytes) -> None:
             f"{path} was written by a newer bedside (log format {int(match.group(1))}, this "
             f"one reads {FORMAT_VERSION}); it is left untouched — update bedside or choose another file"
         )
+
+
+def default_log_name(subject_id: str, when: float | None = None) -> str:
+    """The name bedside gives a log when the technologist names none:
+    ``<subject>-<YYYYmmdd-HHMMSS>.yaml`` (``setup-…`` before a subject is known)."""
+    stamp_text = time.strftime("%Y%m%d-%H%M%S", time.localtime(when))
+    return f"{subject_id or 'setup'}-{stamp_text}.yaml"
+
+
+def name_for_subject(name: str, old_subject: str, new_subject: str) -> str:
+    """The log's file name once its subject changes: the old subject (or ``setup``) at
+    the start of the name is replaced by the new one; any other name gets the new
+    subject in front."""
+    for prefix in (f"{old_subject}-" if old_subject else "", "setup-"):
+        if prefix and name.startswith(prefix):
+            return f"{new_subject}-{name[len(prefix):]}"
+    return f"{new_subject}-{name}"
+
+
+def validate_log_name(name: str) -> None:
+    if not name or name in (".", "..") or "/" in name or "\x00" in name or name.startswith("."):
+        raise InputError(f"{name!r} cannot be a log's file name; accepted: a plain file name, e.g. W3-017.yaml")
+
+
+def _split_name(name: str) -> tuple[str, str]:
+    dot = name.rfind(".")
+    return (name[:dot], name[dot:]) if dot > 0 else (name, "")
+
+
+def _take_lock(lock_path: Path) -> int | None | bool:
+    """The writer lock of a log name: its fd; None when no lock file can be made there
+    (the move will tell why); False when another session holds it."""
+    try:
+        fd = os.open(lock_path, os.O_RDWR | os.O_CREAT, 0o600)
+    except OSError:
+        return None
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except OSError:
+        os.close(fd)
+        return False
+    with contextlib.suppress(OSError):
+        os.ftruncate(fd, 0)
+        os.write(fd, str(os.getpid()).encode())
+    return fd
+
+
+def _drop_lock(log_path: Path, fd: int | None | bool) -> None:
+    if isinstance(fd, bool) or fd is None:
+        return
+    with contextlib.suppress(OSError):
+        log_path.with_name(f".{log_path.name}.lock").unlink()
+    with contextlib.suppress(OSError):
+        os.close(fd)
+
+
+def _link_or_reserve_and_rename(old: Path, new: Path) -> bool:
+    """Move ``old`` to ``new`` without ever replacing a file at ``new``. False when
+    ``new`` was taken meanwhile (``old`` is then untouched)."""
+    try:
+        os.link(old, new)  # fails with EEXIST rather than replace: the no-overwrite rename
+    except FileExistsError:
+        return False
+    except OSError as exc:
+        if exc.errno not in (errno.EPERM, errno.EOPNOTSUPP, errno.ENOTSUP, errno.EMLINK, errno.EXDEV):
+            raise
+        # No hard links here: reserve the name (exclusive create), then rename onto it.
+        try:
+            os.close(os.open(new, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600))
+        except FileExistsError:
+            return False
+        try:
+            os.replace(old, new)
+        except OSError:
+            with contextlib.suppress(OSError):
+                new.unlink()
+            raise
+        return True
+    try:
+        old.unlink()
+    except OSError as exc:  # both names hold the log; the new one is written from now on
+        log.warning("setup log: the old name %s could not be removed (%s)", old, exc.strerror)
+    return True
 
 
 def _mains_hz(value: Any) -> float | None:

@@ -4,7 +4,8 @@ stream health, the ring buffer. Sample arrays are (n_samples, n_channels), in µ
 Modules (only :mod:`bedside.stream.lsl` imports pylsl, lazily):
 
 * ``lsl`` — ``prepare_lsl(log_to=None)`` before any LSL use; pylsl errors translated.
-* ``discovery`` — ``find_streams``, ``select_stream``, ``resolve_one``.
+* ``discovery`` — ``find_streams``, ``select_stream``, ``resolve_one``; ``StreamLook`` (a
+  look that answers as streams reply, for the app's picker).
 * ``reader`` — ``LslSource(identity, settings=None)`` (the Source protocol) and
   ``open_stream(name, source_id, host, wait_s)``.
 * ``labels`` / ``units`` / ``channels`` — metadata to :class:`ChannelInfo`.

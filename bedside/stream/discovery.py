@@ -10,6 +10,7 @@ publish EEG); with none, :class:`StreamNotFound` saying what was visible.
 from __future__ import annotations
 
 import logging
+import time
 from collections.abc import Sequence
 from typing import Any
 
@@ -60,6 +61,43 @@ def visible_streams(
     found = sorted({identity_of(i) for i in infos}, key=lambda s: (s.name, s.hostname, s.source_id))
     log.debug("LSL: %d streams visible", len(found))
     return found
+
+
+class StreamLook:
+    """A look for streams that answers at once and keeps listening: a background
+    resolver (liblsl's continuous resolver) hears outlets as they reply, and
+    :meth:`visible` returns every stream of ``stream_type`` heard since the look
+    began (a stream is not dropped within a look: the resolver's own list blinks
+    between its query rounds). For a picker that fills as streams answer; deciding
+    that exactly one stream is there still takes the full look (``min_wait_s``):
+    the first reply comes in milliseconds, a second outlet's up to half a second
+    later (measured here on loopback, two outlets: 0.02 s and 0.51 s).
+    """
+
+    def __init__(self, stream_type: str | None = "EEG", settings: StreamSettings | None = None) -> None:
+        s = settings or load_stream_settings()
+        self.min_wait_s = s.discovery_min_wait_s
+        self._type = stream_type
+        self._resolver: Any = pylsl().ContinuousResolver(forget_after=s.forget_after_s)
+        self._seen: dict[StreamIdentity, None] = {}
+        self._started = time.monotonic()
+
+    def settled(self, wait_s: float) -> bool:
+        """The look has lasted ``wait_s`` (at least ``discovery_min_wait_s``): a stream
+        that has not answered by now is taken as absent, so one stream seen is the one."""
+        return time.monotonic() - self._started >= max(float(wait_s), self.min_wait_s)
+
+    def visible(self) -> list[StreamIdentity]:
+        """Every stream of the type heard so far in this look, sorted by name (never blocks)."""
+        if self._resolver is not None:
+            for info in self._resolver.results():
+                ident = identity_of(info)
+                if _is_type(ident, self._type):
+                    self._seen.setdefault(ident, None)
+        return sorted(self._seen, key=lambda s: (s.name, s.hostname, s.source_id))
+
+    def close(self) -> None:
+        self._resolver = None  # pylsl destroys the resolver with the object
 
 
 def _is_type(identity: StreamIdentity, stream_type: str | None) -> bool:

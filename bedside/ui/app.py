@@ -10,7 +10,9 @@ from __future__ import annotations
 import gc
 import logging
 import math
+import threading
 import time
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -35,20 +37,36 @@ from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
 from bedside.ui.screens.picker import StreamPicker, streams_visible
 from bedside.ui.screens.watch import WatchScreen
-from bedside.ui.services import ChannelPreview, Services, default_services
+from bedside.ui.services import ChannelPreview, Services, StreamLookLike, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
 log = logging.getLogger("bedside")
 
 VIEW_TITLE = {"measure": "Measure", "watch": "Watch", "log": "Log"}
+#: How often a look for streams is asked what it heard (it never blocks), and for how
+#: many polls an open picker keeps listening (10 min) before its list stays as it is.
+LOOK_POLL_S = 0.2
+LOOK_MAX_POLLS = 3000
 
 
 class StreamsFound(Message):
+    """What a look found: one stream to pin, several to choose from (the picker), or a
+    problem to say. still_looking: the look goes on and the picker will be updated."""
+
     def __init__(self, streams: list[StreamIdentity], ambiguous: bool, pinned: StreamIdentity | None,
-                 note: str) -> None:
+                 note: str, still_looking: bool = False, look: threading.Event | None = None) -> None:
         super().__init__()
         self.streams, self.ambiguous, self.pinned, self.note = streams, ambiguous, pinned, note
+        self.still_looking, self.look = still_looking, look
+
+
+class StreamsSeen(Message):
+    """The open picker's list, updated as more streams answer (or the look settles)."""
+
+    def __init__(self, streams: list[StreamIdentity], still_looking: bool, look: threading.Event) -> None:
+        super().__init__()
+        self.streams, self.still_looking, self.look = streams, still_looking, look
 
 
 class Connected(Message):
@@ -57,10 +75,10 @@ class Connected(Message):
     note: said to the technologist once it is shown; confirmed: its channels are the
     ones just confirmed in the channels screen (not asked again)."""
 
-    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]],
+    def __init__(self, connection: Connection, places: MapPlaces,
                  note: str = "", confirmed: bool = False) -> None:
         super().__init__()
-        self.connection, self.points = connection, points
+        self.connection, self.places = connection, places
         self.note, self.confirmed = note, confirmed
 
 
@@ -74,9 +92,17 @@ class ChannelsNotApplied(Message):
 
 
 class MapPoints(Message):
-    def __init__(self, connection: Connection, points: dict[str, tuple[float, float]]) -> None:
+    def __init__(self, connection: Connection, places: MapPlaces) -> None:
         super().__init__()
-        self.connection, self.points = connection, points
+        self.connection, self.places = connection, places
+
+
+@dataclass(frozen=True)
+class MapPlaces:
+    """Where the head map draws the scalp channels, and those it cannot place."""
+
+    points: dict[str, tuple[float, float]]
+    unplaced: tuple[str, ...] = ()
 
 
 class LogOpened(Message):
@@ -126,11 +152,15 @@ class BedsideApp(App[int]):
         self.tracker = GoodTracker()
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
+        #: Scalp channels with neither a position nor a 10-20/10-10 name (not on the map).
+        self.unplaced: tuple[str, ...] = ()
         self._last_frame_at: float | None = None
         self._connected_at: float | None = None
         self._shown_stalled = False
         self._leaving = False
-        self._pending_pick: tuple[list[StreamIdentity], str] | None = None
+        self._pending_pick: tuple[list[StreamIdentity], str, bool] | None = None
+        #: The running look for streams (set when it is over or replaced).
+        self._look: threading.Event | None = None
         self._view: str = config.start_view
         self._monitor_error_shown = False
         self._others_seen: set[StreamIdentity] = set()
@@ -161,6 +191,7 @@ class BedsideApp(App[int]):
             self.discover(force_picker=False)
 
     def on_unmount(self) -> None:
+        self._end_look()
         # Leaving by any other way than q/Ctrl-C (e.g. an error): still stop and save.
         if self.connection is not None:
             self.connection.stop()
@@ -177,6 +208,7 @@ class BedsideApp(App[int]):
         if self._leaving:
             return
         self._leaving = True
+        self._end_look()
         self.notify("saving the log and closing…", timeout=3)
         self._close_down()
 
@@ -262,45 +294,91 @@ class BedsideApp(App[int]):
 
     # --- stream ------------------------------------------------------------------
     def discover(self, force_picker: bool) -> None:
+        """Look for streams (Watch: p for the picker, r to look again). The look answers
+        as streams reply: the picker opens at once (p) or as soon as two candidates are
+        heard, and fills as more answer; only pinning the one stream waits the full look."""
         self.status_note = "looking for streams…"
         self._refresh_watch_status()
-        self._discover(force_picker)
+        self._end_look()
+        look = threading.Event()  # set: this look is over (picked, cancelled, replaced)
+        self._look = look
+        self._discover(force_picker, look)
 
-    @work(thread=True, exclusive=True, group="discover", exit_on_error=False)
-    def _discover(self, force_picker: bool) -> None:
-        cfg = self.config
+    def _end_look(self) -> None:
+        if self._look is not None:
+            self._look.set()
+            self._look = None
+
+    @work(thread=True, group="discover", exit_on_error=False)
+    def _discover(self, force_picker: bool, done: threading.Event) -> None:
         try:
-            found = self.services.find_streams(cfg.wait_s)
+            look = self.services.look_for_streams()
         except BedsideError as exc:
             self.post_message(StreamsFound([], False, None, str(exc)))
             return
-        if force_picker and found:
-            self.post_message(StreamsFound(found, True, None, ""))
-            return
         try:
-            pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
-        except AmbiguousStream as exc:
-            cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
-            # The picker says it in the app's terms (the error's text names command options).
-            self.post_message(StreamsFound(cands, True, None, ""))
-            return
-        except StreamNotFound as exc:
-            self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
-            return
+            self._run_look(look, force_picker, done)
         except BedsideError as exc:
-            self.post_message(StreamsFound(found, False, None, str(exc)))
-            return
-        self.post_message(StreamsFound(found, False, pinned, ""))
+            self.post_message(StreamsFound([], False, None, str(exc)))
+        finally:
+            look.close()
+
+    def _run_look(self, look: StreamLookLike, force_picker: bool, done: threading.Event) -> None:
+        """Poll the look every LOOK_POLL_S (worker thread) until it has an answer; while
+        a picker shows its list, keep it up to date until the picker closes."""
+        cfg = self.config
+        shown: tuple[list[StreamIdentity], bool] | None = None  # what the picker lists
+        polls = 0
+        while not done.is_set() and polls < LOOK_MAX_POLLS:
+            polls += 1
+            settled = look.settled(cfg.wait_s)
+            found = look.visible()
+            if shown is not None:
+                cands = found if force_picker else self._matching(found)
+                if (cands, settled) != shown:
+                    shown = (cands, settled)
+                    self.post_message(StreamsSeen(cands, not settled, done))
+            elif force_picker:
+                shown = (found, settled)
+                self.post_message(StreamsFound(found, True, None, "", not settled, done))
+            else:
+                try:
+                    pinned = self.services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
+                except AmbiguousStream as exc:  # two candidates heard: it cannot become one
+                    cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
+                    shown = (cands, settled)
+                    # The picker says it in the app's terms (the error's text names command options).
+                    self.post_message(StreamsFound(cands, True, None, "", not settled, done))
+                except StreamNotFound as exc:
+                    if settled:
+                        self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again",
+                                                       look=done))
+                        return
+                else:
+                    if settled:  # one stream, and the look lasted long enough to say so
+                        self.post_message(StreamsFound(found, False, pinned, "", look=done))
+                        return
+            done.wait(LOOK_POLL_S)
+
+    def _matching(self, found: list[StreamIdentity]) -> list[StreamIdentity]:
+        """The streams that fit what the app was started with (all when nothing was pinned)."""
+        cfg = self.config
+        return [s for s in found
+                if (cfg.stream_name is None or s.name == cfg.stream_name)
+                and (cfg.source_id is None or s.source_id == cfg.source_id)
+                and (cfg.host is None or s.hostname == cfg.host)]
 
     def on_streams_found(self, message: StreamsFound) -> None:
+        if message.look is not None and message.look is not self._look:
+            return  # an older look's answer
         self.status_note = message.note
         if message.pinned is not None:
             self.status_note = "connecting…"
             self._connect(message.pinned, None)
-        elif message.ambiguous and message.streams:
+        elif message.ambiguous:
             # The picker opens on Watch; elsewhere it waits (it would take the keys
             # of someone typing measurements or notes).
-            self._pending_pick = (message.streams, message.note)
+            self._pending_pick = (message.streams, message.note, message.still_looking)
             if self.current_view == "watch":
                 self._open_picker()
             else:
@@ -308,14 +386,24 @@ class BedsideApp(App[int]):
                 self.notify(self.status_note, timeout=6)
         self._refresh_watch_status()
 
+    def on_streams_seen(self, message: StreamsSeen) -> None:
+        if message.look is not self._look:
+            return
+        if isinstance(self.screen, StreamPicker):
+            self.screen.update_streams(message.streams, message.still_looking)
+        elif self._pending_pick is not None:
+            self._pending_pick = (message.streams, self._pending_pick[1], message.still_looking)
+
     def _open_picker(self) -> None:
         if self._pending_pick is None or isinstance(self.screen, StreamPicker):
             return
-        streams, note = self._pending_pick
+        streams, note, still_looking = self._pending_pick
         self._pending_pick = None
-        self.push_screen(StreamPicker(streams, note, current=self.identity), self._picked)
+        self.push_screen(StreamPicker(streams, note, current=self.identity, still_looking=still_looking),
+                         self._picked)
 
     def _picked(self, identity: StreamIdentity | None) -> None:
+        self._end_look()
         if identity is not None:
             self.status_note = "connecting…"
             self._connect(identity, None)
@@ -345,11 +433,11 @@ class BedsideApp(App[int]):
                 assert identity is not None
                 source = self.services.open_source(identity, None)
             conn = self._start(source, generation)
-            points = self._points_for(conn)
+            places = self._points_for(conn)
         except BedsideError as exc:
             self.post_message(FeedProblem(f"could not start watching: {exc}"))
             return
-        self.post_message(Connected(conn, points))
+        self.post_message(Connected(conn, places))
 
     def _start(self, source: Source, generation: int) -> Connection:
         """Engine and monitor on ``source`` (worker thread); frames carry ``generation``."""
@@ -418,13 +506,13 @@ class BedsideApp(App[int]):
         old.stop()
         try:
             conn = self._start(source, generation)
-            points = self._points_for(conn)
+            places = self._points_for(conn)
         except BedsideError as exc:
             source.close()
             self.post_message(FeedProblem(f"could not start watching with the new channels: {exc}"))
             return
         note = self._saved_note(conn.identity.source_id, preview)
-        self.post_message(Connected(conn, points, note=note, confirmed=True))
+        self.post_message(Connected(conn, places, note=note, confirmed=True))
 
     def on_channels_not_applied(self, message: ChannelsNotApplied) -> None:
         if message.generation == self._generation:  # nothing newer asked meanwhile
@@ -439,19 +527,31 @@ class BedsideApp(App[int]):
         gate = self.recorder
         return (gate.recorder.on_frame, gate.lock) if gate is not None else None
 
-    def _points_for(self, conn: Connection) -> dict[str, tuple[float, float]]:
-        """Map positions for the stream's scalp channels (plan first, else the standard head)."""
-        names = [ch.name for ch in conn.channels if ch.is_scalp]
+    def _points_for(self, conn: Connection) -> MapPlaces:
+        """Map places for the stream's scalp channels: the geometry the stream gives (its
+        own locations or --layout: ``ChannelInfo.position_mm``) first; for the channels
+        without one, their 10-20/10-10 name on this head's plan, else on the standard
+        head; the rest are unplaced (the map lists them)."""
+        scalp = [ch for ch in conn.channels if ch.is_scalp]
+        names = [ch.name for ch in scalp]
+        geometry = {ch.name: ch.position_mm for ch in scalp if ch.position_mm is not None}
+        points: dict[str, tuple[float, float]] = {}
+        if geometry:
+            try:
+                points.update(self.services.project_geometry(geometry))
+            except (BedsideError, ValueError) as exc:
+                log.warning("the stream's electrode positions cannot be drawn: %s", exc)
         xyz: dict[str, tuple[float, float, float]] = {}
         if self.plan is not None:
-            xyz.update({n: p for n, p in self.plan.positions_mm.items() if n in names})
-        missing = [n for n in names if n not in xyz]
+            xyz.update({n: p for n, p in self.plan.positions_mm.items() if n in names and n not in points})
+        missing = [n for n in names if n not in xyz and n not in points]
         if missing:
             try:
                 xyz.update(self.services.positions_for(missing))
             except BedsideError as exc:
                 log.warning("no map positions: %s", exc)
-        return {n: self.services.project_2d(p) for n, p in xyz.items()}
+        points.update({n: self.services.project_2d(p) for n, p in xyz.items()})
+        return MapPlaces(points, tuple(n for n in names if n not in points))
 
     def on_connected(self, message: Connected) -> None:
         conn = message.connection
@@ -462,7 +562,7 @@ class BedsideApp(App[int]):
             self._forget_frames()
         self.connection = conn
         self.identity = message.connection.identity
-        self.points = message.points
+        self.points, self.unplaced = message.places.points, message.places.unplaced
         self._monitor_error_shown = False
         self._connected_at = time.monotonic()
         self.status_note = ""
@@ -470,7 +570,7 @@ class BedsideApp(App[int]):
             conn = message.connection
             self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
         if self._watch_ready():
-            self.views["watch"].set_points(message.points)
+            self.views["watch"].set_points(self.points, self.unplaced)
         self._refresh_watch_status()
         if message.note:
             self.notify(message.note, timeout=8)
@@ -595,9 +695,9 @@ class BedsideApp(App[int]):
 
     def on_map_points(self, message: MapPoints) -> None:
         if message.connection is self.connection:
-            self.points = message.points
+            self.points, self.unplaced = message.places.points, message.places.unplaced
             if self._watch_ready():
-                self.views["watch"].set_points(message.points)
+                self.views["watch"].set_points(self.points, self.unplaced)
 
     def export_plan(self, plan: PlacementPlan) -> None:
         # The taped values are read here, on the UI thread, and go with the plan.
@@ -633,6 +733,9 @@ class BedsideApp(App[int]):
             self.notify(f"setup log not open: {message.error}", severity="error", timeout=10)
             return
         self.recorder = message.gate
+        log_screen = self.views.get("log")
+        if log_screen is not None and log_screen.is_mounted:
+            log_screen.refresh_status()  # its status line and file name, now, not at the next tick
         if self.plan is not None:
             message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
         if self.connection is not None:

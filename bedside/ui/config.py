@@ -36,6 +36,9 @@ class AppConfig:
     log_path: Path | None = None
     #: The log was named by bedside (no --log): if nothing is recorded it is not kept.
     discard_empty_log: bool = False
+    #: The log's name was made by bedside from the subject ID (no --log): when the ID
+    #: changes in the app the file is renamed to follow it (DEMO-001-… → W3-017-…).
+    rename_log_with_subject: bool = False
     technologist: str = ""
     subject_id: str = ""
     config_paths: tuple[Path, ...] = field(default_factory=tuple)

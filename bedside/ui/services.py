@@ -44,7 +44,10 @@ class RecorderLike(Protocol):
 
     def set_technologist(self, initials: str) -> None: ...
 
-    def set_subject(self, subject_id: str) -> None: ...
+    def set_subject(self, subject_id: str, rename_file: bool = False) -> None: ...
+
+    @property
+    def path(self) -> Path: ...
 
     def sign_off(self, initials: str) -> None: ...
 
@@ -81,10 +84,26 @@ def _project_2d(xyz: tuple[float, float, float]) -> tuple[float, float]:
     return float(x), float(y)
 
 
-def _find_streams(wait_s: float) -> list[StreamIdentity]:
-    from bedside.stream.discovery import find_streams
+def _project_geometry(positions_mm: Mapping[str, tuple[float, float, float]]) -> dict[str, tuple[float, float]]:
+    from bedside.placement.layout import project_geometry
 
-    return list(find_streams(wait_s))
+    return {n: (float(x), float(y)) for n, (x, y) in project_geometry(positions_mm).items()}
+
+
+class StreamLookLike(Protocol):
+    """A look for streams (bedside.stream.discovery.StreamLook): never blocks."""
+
+    def visible(self) -> list[StreamIdentity]: ...
+
+    def settled(self, wait_s: float) -> bool: ...
+
+    def close(self) -> None: ...
+
+
+def _look_for_streams() -> StreamLookLike:
+    from bedside.stream.discovery import StreamLook
+
+    return StreamLook()
 
 
 def _select_stream(
@@ -211,7 +230,11 @@ class Services:
     plan_placement: Callable[[HeadMeasurements, str, str], PlacementPlan] = _plan_placement
     positions_for: Callable[[Sequence[str]], dict[str, tuple[float, float, float]]] = _positions_for
     project_2d: Callable[[tuple[float, float, float]], tuple[float, float]] = _project_2d
-    find_streams: Callable[[float], list[StreamIdentity]] = _find_streams
+    #: A cap's own positions (the stream's locations or --layout, mm) → map points.
+    project_geometry: Callable[[Mapping[str, tuple[float, float, float]]], dict[str, tuple[float, float]]] = (
+        _project_geometry)
+    #: A look for EEG streams that lists them as they answer (the picker fills at once).
+    look_for_streams: Callable[[], StreamLookLike] = _look_for_streams
     select_stream: Callable[
         [Sequence[StreamIdentity], str | None, str | None, str | None], StreamIdentity
     ] = _select_stream

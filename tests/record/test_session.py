@@ -22,7 +22,7 @@ from bedside.checks.types import Level
 from bedside.errors import InputError, LogSaveError, RecordError
 from bedside.record import atomic
 from bedside.record.log import load_log
-from bedside.record.session import SessionRecorder
+from bedside.record.session import SessionRecorder, default_log_name, name_for_subject
 
 
 def _wait_for(predicate, timeout_s: float = 5.0) -> bool:  # type: ignore[no-untyped-def]
@@ -418,3 +418,134 @@ def test_restarting_checks_on_the_same_stream_logs_no_false_clearing(tmp_path: P
         snap = rec.snapshot()
     assert [f.change for f in snap.findings] == ["appeared"]
     assert snap.earlier_streams == []
+
+
+# -- the log's name follows the subject (issue 17, item 13) ---------------------------
+
+
+def test_name_for_subject_replaces_the_old_subject_or_setup() -> None:
+    """bedside names a log <subject>-<time>.yaml (``setup-…`` before an ID); common practice
+    for file names here, our own rule."""
+    assert name_for_subject("DEMO-001-20261204-090000.yaml", "DEMO-001", "W3-017") == "W3-017-20261204-090000.yaml"
+    assert name_for_subject("setup-20261204-090000.yaml", "", "W3-017") == "W3-017-20261204-090000.yaml"
+    assert name_for_subject("other.yaml", "DEMO-001", "W3-017") == "W3-017-other.yaml"
+    assert default_log_name("W3-017", 0.0).startswith("W3-017-") and default_log_name("", 0.0).startswith("setup-")
+
+
+def test_new_subject_renames_the_log_atomically_and_keeps_everything(tmp_path: Path, clock: FakeClock) -> None:
+    start = tmp_path / "DEMO-001-20261204-090000.yaml"
+    rec = SessionRecorder.open(start, subject_id="DEMO-001", clock=clock)
+    try:
+        rec.add_note("cap on")
+        rec.save_now()
+        rec.set_subject("W3-017", rename_file=True)
+        moved = tmp_path / "W3-017-20261204-090000.yaml"
+        assert rec.path == moved and rec.status.path == moved
+        assert moved.exists() and not start.exists()
+        assert not (tmp_path / f".{start.name}.lock").exists(), "the old name's lock went with it"
+        assert (tmp_path / f".{moved.name}.lock").exists(), "the new name is locked against a second writer"
+        with pytest.raises(RecordError, match="another bedside session"):
+            SessionRecorder.open(moved, subject_id="W3-017", clock=clock)
+        assert stat.S_IMODE(moved.stat().st_mode) == 0o600
+        rec.add_note("Fp1 re-gelled")
+    finally:
+        rec.close()
+    saved = load_log(moved)
+    assert saved.subject_id == "W3-017"
+    assert [n.text for n in saved.notes] == ["cap on", "Fp1 re-gelled"]
+    assert any(e.kind == "log_renamed" and e.detail == f"{start.name} → {moved.name}" for e in saved.events)
+    assert sorted(p.name for p in tmp_path.iterdir()) == [moved.name], "no lock or temp file is left"
+
+
+def test_rename_never_replaces_an_existing_file(tmp_path: Path, clock: FakeClock) -> None:
+    start = tmp_path / "setup-20261204-090000.yaml"
+    taken = tmp_path / "W3-017-20261204-090000.yaml"
+    taken.write_text("a file that is not ours\n", encoding="utf-8")
+    (tmp_path / "W3-017-20261204-090000-2.yaml").write_text("nor this\n", encoding="utf-8")
+    with SessionRecorder.open(start, clock=clock) as rec:
+        rec.set_subject("W3-017", rename_file=True)
+        assert rec.path == tmp_path / "W3-017-20261204-090000-3.yaml"
+    assert taken.read_text(encoding="utf-8") == "a file that is not ours\n"
+    assert (tmp_path / "W3-017-20261204-090000-2.yaml").read_text(encoding="utf-8") == "nor this\n"
+    assert load_log(tmp_path / "W3-017-20261204-090000-3.yaml").subject_id == "W3-017"
+
+
+def test_rename_without_hard_links_reserves_the_name_first(
+    tmp_path: Path, clock: FakeClock, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """A file system without hard links (EPERM from link(2), as on FAT or some network
+    shares; errno per POSIX link(2)): the new name is created exclusively, then the log is
+    renamed onto it. A name taken meanwhile (EEXIST from the exclusive create) is skipped."""
+    start = tmp_path / "DEMO-001-20261204-090000.yaml"
+
+    def no_links(src: object, dst: object) -> None:
+        raise OSError(errno.EPERM, "Operation not permitted")
+
+    monkeypatch.setattr(os, "link", no_links)
+    with SessionRecorder.open(start, subject_id="DEMO-001", clock=clock) as rec:
+        rec.add_note("cap on")
+        rec.save_now()
+        rec.set_subject("W3-017", rename_file=True)
+        assert rec.path.name == "W3-017-20261204-090000.yaml"
+    assert not start.exists()
+    assert [n.text for n in load_log(tmp_path / "W3-017-20261204-090000.yaml").notes] == ["cap on"]
+
+
+def test_a_rename_that_fails_keeps_the_old_name_and_says_so(
+    tmp_path: Path, clock: FakeClock, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    start = tmp_path / "DEMO-001-20261204-090000.yaml"
+
+    def refuse(src: object, dst: object) -> None:
+        raise OSError(errno.EACCES, "Permission denied")
+
+    with SessionRecorder.open(start, subject_id="DEMO-001", clock=clock) as rec:
+        monkeypatch.setattr(os, "link", refuse)
+        rec.set_subject("W3-017", rename_file=True)
+        assert rec.path == start
+        assert rec.status.notice is not None and "keeps its name" in rec.status.notice
+        assert "no permission" in rec.status.notice
+        rec.add_note("still recorded")
+    saved = load_log(start)
+    assert saved.subject_id == "W3-017" and [n.text for n in saved.notes] == ["still recorded"]
+    assert any(e.kind == "log_rename_failed" for e in saved.events)
+    assert sorted(p.name for p in tmp_path.iterdir()) == [start.name]
+
+
+def test_without_rename_the_name_is_kept(tmp_path: Path, clock: FakeClock) -> None:
+    chosen = tmp_path / "bed3.yaml"
+    with SessionRecorder.open(chosen, subject_id="DEMO-001", clock=clock) as rec:
+        rec.set_subject("W3-017")
+        assert rec.path == chosen
+    assert load_log(chosen).subject_id == "W3-017"
+
+
+def test_rename_while_frames_arrive_loses_nothing(tmp_path: Path) -> None:
+    """The autosave thread and a writer thread keep going while the log is renamed."""
+    start = tmp_path / "DEMO-001-20261204-090000.yaml"
+    rec = SessionRecorder.open(start, subject_id="DEMO-001", autosave_s=0.05)
+    stop = threading.Event()
+    written: list[str] = []
+
+    def writer() -> None:
+        i = 0
+        while not stop.is_set():
+            text = f"note {i}"
+            rec.add_note(text)
+            written.append(text)
+            i += 1
+            time.sleep(0.002)
+
+    thread = threading.Thread(target=writer)
+    thread.start()
+    try:
+        time.sleep(0.1)
+        rec.set_subject("W3-017", rename_file=True)
+        time.sleep(0.1)
+    finally:
+        stop.set()
+        thread.join()
+        rec.close()
+    moved = tmp_path / "W3-017-20261204-090000.yaml"
+    assert [n.text for n in load_log(moved).notes] == written and len(written) > 10
+    assert sorted(p.name for p in tmp_path.iterdir()) == [moved.name]

@@ -224,7 +224,7 @@ class MemoryRecorder:
             raise InputError(f"initials {initials!r} are not acceptable; accepted: letters")
         self.technologist = initials
 
-    def set_subject(self, subject_id: str) -> None:
+    def set_subject(self, subject_id: str, rename_file: bool = False) -> None:
         self.subject_id = subject_id
 
     def sign_off(self, initials: str) -> None:
@@ -236,6 +236,26 @@ class MemoryRecorder:
     @property
     def status(self) -> MemoryStatus:
         return MemoryStatus(self.path, last_saved="12:00:00" if self.saves else None, closed=self.closed)
+
+    def close(self) -> None:
+        self.closed = True
+
+
+class ScriptedLook:
+    """A look for streams that hears ``script[i]`` at its i-th poll (then the last one
+    for good); it has settled once the script is used up. ``polls`` counts the polls."""
+
+    def __init__(self, script: Sequence[Sequence[StreamIdentity]]) -> None:
+        self.script = [list(s) for s in script] or [[]]
+        self.polls = 0
+        self.closed = False
+
+    def visible(self) -> list[StreamIdentity]:
+        self.polls += 1
+        return list(self.script[min(self.polls, len(self.script)) - 1])
+
+    def settled(self, wait_s: float) -> bool:
+        return self.polls >= len(self.script)
 
     def close(self) -> None:
         self.closed = True
@@ -262,7 +282,7 @@ def services(
         plan_placement=plan_placement,
         positions_for=positions_for,
         project_2d=project_2d,
-        find_streams=lambda wait_s: list(found),
+        look_for_streams=lambda: ScriptedLook([found]),
         select_stream=select,
         open_source=lambda ident, choices: FixedSource(),
         load_quality=lambda: None,

@@ -56,7 +56,7 @@ async def test_picker_marks_the_stream_being_watched() -> None:
         await pilot.press("down", "enter")
         assert await _until(pilot, lambda: app.connection is not None)
         app.identity = b
-        app._pending_pick = ([a, b], "")
+        app._pending_pick = ([a, b], "", False)
         app._open_picker()
         assert await _until(pilot, lambda: "watching now" in si.screen_text(app))
         line = next(ln for ln in si.screen_text(app).splitlines() if "watching now" in ln)

@@ -154,3 +154,65 @@ async def test_impedance_for_an_electrode_not_in_the_stream_is_refused(tmp_path:
         assert await _until(pilot, lambda: "Fp1" in app.views["log"].impedances)
         await pilot.press("ctrl+q")
         await _until(pilot, lambda: app.return_code is not None)
+
+
+async def test_the_log_bedside_named_follows_a_new_subject_id(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """`bedside demo` names its log DEMO-001-<time>.yaml; once the technologist types the
+    real code W3-017 the file becomes W3-017-<time>.yaml, the Log view shows the new path
+    and "saved to" on exit names it. A file already under the new name is left as it is
+    and the log takes the next free name (-2). Checked on the disk, not the app's state."""
+    monkeypatch.chdir(tmp_path)  # the app's own default folder is relative: bedside-logs/
+    folder = Path("bedside-logs")
+    folder.mkdir()
+    start = folder / "DEMO-001-20261204-090000.yaml"
+    taken = folder / "W3-017-20261204-090000.yaml"
+    taken.write_text("someone else's file\n", encoding="utf-8")
+    cfg = AppConfig(discover=False, start_view="log", log_path=start, subject_id="DEMO-001",
+                    discard_empty_log=True, rename_log_with_subject=True)
+    app = make_app(cfg)
+    final = folder / "W3-017-20261204-090000-2.yaml"
+    async with app.run_test(size=(80, 24)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        assert await _until(pilot, lambda: f"log file  {start}" in si.screen_text(app))
+        await pilot.press("tab", "tab", "tab")  # subject → note → … back round to the subject
+        subject = app.screen.query_one("#subject")
+        subject.focus()
+        subject.value = ""
+        await _type(pilot, "W3-017")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: f"log file  {final}" in si.screen_text(app)), si.screen_text(app)
+        assert final.exists() and not start.exists()
+        app.screen.query_one("#note").focus()
+        await _type(pilot, "cap applied")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "cap applied" in final.read_text(encoding="utf-8"))
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert app.return_code == 0
+    assert app.log_outcome == f"setup log saved to {final}"
+    assert taken.read_text(encoding="utf-8") == "someone else's file\n"
+    data = yaml.safe_load(final.read_text(encoding="utf-8"))
+    assert data["subject_id"] == "W3-017"
+    events = _flat(data["events"])
+    assert "DEMO-001 → W3-017" in events and "DEMO-001-20261204-090000.yaml → W3-017-20261204-090000-2.yaml" in events
+    assert sorted(p.name for p in folder.iterdir()) == sorted([taken.name, final.name]), "no lock or temp file left"
+
+
+async def test_a_log_the_technologist_named_keeps_its_name(tmp_path: Path) -> None:
+    """With --log FILE the name is the technologist's: a new subject ID changes the log's
+    subject only."""
+    chosen = tmp_path / "bed3-night.yaml"
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=chosen, subject_id="DEMO-001"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None)
+        subject = app.screen.query_one("#subject")
+        subject.focus()
+        subject.value = ""
+        await _type(pilot, "W3-017")
+        await pilot.press("enter")
+        assert await _until(pilot, lambda: "subject ID set" in si.screen_text(app))
+        await pilot.press("ctrl+q")
+        await _until(pilot, lambda: app.return_code is not None)
+    assert yaml.safe_load(chosen.read_text(encoding="utf-8"))["subject_id"] == "W3-017"
+    assert [p.name for p in tmp_path.iterdir()] == [chosen.name]
+    assert app.log_outcome == f"setup log saved to {chosen}"

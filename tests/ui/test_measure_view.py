@@ -11,6 +11,7 @@ from pathlib import Path
 
 import pytest
 from standins import screen_text
+from textual import events
 from textual.widgets import DataTable, Input
 
 from bedside.ui.app import make_app
@@ -271,3 +272,51 @@ async def test_taped_unit_is_shown_beside_cm_and_logged_as_taped(
     assert rec.taped == TapedMeasurements(unit, *taped)
     sheet = next(tmp_path.glob("marks-*.txt")).read_text(encoding="utf-8")
     assert f"(taped {' / '.join(typed)} {unit}, the same order)" in sheet
+
+
+def _boxes(app) -> tuple[str, str, str]:  # type: ignore[no-untyped-def]
+    return tuple(app.screen.query_one(f"#{k}", Input).value for k in ("ni", "pa", "circ"))  # type: ignore[return-value]
+
+
+async def test_pasting_a_row_of_three_measurements_fills_the_form_in_order(tmp_path: Path) -> None:
+    """A spreadsheet row "36⇥35⇥56" (or a column, one per line) pasted into any box fills
+    nasion–inion, ear to ear and around in the form's order; the marks follow (Cz at 50 % of
+    36 cm = 18.0 cm, Jasper 1958). The paste arrives as the terminal sends it: one Paste
+    event to the focused box (Textual's bracketed paste)."""
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        app.post_message(events.Paste("36\t35\t56"))
+        table = app.screen.query_one("#marks-table", DataTable)
+        assert await _settle(pilot, app, lambda: table.row_count > 0)
+        assert _boxes(app) == ("36", "35", "56")
+        cz = next(r for r in _rows(table) if r[1] == "Cz")
+        assert float(cz[4]) == pytest.approx(18.0)
+
+        for key in ("ni", "pa", "circ"):
+            app.screen.query_one(f"#{key}", Input).value = ""
+        app.screen.query_one("#circ", Input).focus()  # pasted into the last box: still in order
+        await pilot.pause(0.05)
+        app.post_message(events.Paste("36,5\r\n35\r\n56\r\n"))  # a column, decimal comma
+        assert await _settle(pilot, app, lambda: _boxes(app) == ("36,5", "35", "56"))
+
+        app.screen.query_one("#pa", Input).focus()  # two numbers from ear to ear onwards
+        await pilot.pause(0.05)
+        app.post_message(events.Paste("34 55"))
+        assert await _settle(pilot, app, lambda: _boxes(app) == ("36,5", "34", "55"))
+
+
+async def test_a_paste_that_does_not_fit_is_refused_and_changes_nothing(tmp_path: Path) -> None:
+    app = make_app(AppConfig(discover=False, start_view="measure", export_dir=tmp_path))
+    async with app.run_test(size=(100, 40)) as pilot:
+        await _enter(pilot, "36", "35", "56")
+        assert await _settle(pilot, app, lambda: app.screen.plan is not None)
+        app.post_message(events.Paste("36\t35\t56\t58"))
+        assert await _settle(pilot, app, lambda: "pasted 4 numbers" in screen_text(app)), screen_text(app)
+        assert _boxes(app) == ("36", "35", "56")
+        app.post_message(events.Paste("36 cm\t35 cm\t56 cm"))
+        assert await _settle(pilot, app, lambda: "pasted text not taken" in screen_text(app))
+        assert _boxes(app) == ("36", "35", "56")
+        # One value is an ordinary paste into the box with the focus.
+        app.screen.query_one("#circ", Input).value = ""
+        app.post_message(events.Paste("57"))
+        assert await _settle(pilot, app, lambda: _boxes(app) == ("36", "35", "57"))

@@ -7,6 +7,7 @@ intended change, look at the new screens and accept them with
 
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -77,8 +78,10 @@ def test_measure_screen(snap_compare: Any) -> None:
 
 
 def test_log_screen(snap_compare: Any, tmp_path: Any) -> None:
-    rec = si.MemoryRecorder(tmp_path / "W3-017.yaml")
-    app = make_app(AppConfig(discover=False, start_view="log", log_path=tmp_path / "W3-017.yaml",
+    # A fixed relative path (the memory log writes nothing): the screen names the log's file.
+    where = Path("bedside-logs") / "W3-017-20261204-090000.yaml"
+    rec = si.MemoryRecorder(where)
+    app = make_app(AppConfig(discover=False, start_view="log", log_path=where,
                              technologist="AB", subject_id="W3-017"),
                    services=si.services(recorder=rec))
 

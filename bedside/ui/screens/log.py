@@ -56,7 +56,6 @@ def status_words(status: Any, signed: str = "") -> Text:
         return Text("no setup log is being kept", style="grey62")
     error = getattr(status, "error", None)
     saved = getattr(status, "last_saved", None)
-    path = getattr(status, "path", None)
     notice = getattr(status, "notice", None)
     out = Text()
     if error:
@@ -74,8 +73,15 @@ def status_words(status: Any, signed: str = "") -> Text:
         out.append(f"  ✔ signed off by {signed}", style="bold")
     if notice:
         out.append(f"  ▲ {notice}", style="yellow")
-    if path:
-        out.append(f"  {path}", style="grey62")
+    return out
+
+
+def file_words(path: Any, kept: bool = True) -> Text:
+    """Where the log is kept, on its own line (the status line is too narrow for a path)."""
+    if path is None or not kept:
+        return Text("log file  none: no setup log is kept in this session", style="grey62")
+    out = Text("log file  ", style="grey62")
+    out.append(str(path), style="bold")
     return out
 
 
@@ -119,7 +125,9 @@ class LogScreen(Screen[None]):
         with Horizontal(id="log-actions"):
             yield Button("Save  ctrl+s", id="save", compact=True)
             yield Button("Sign off  ctrl+o", id="sign-off", compact=True)
-            yield Static(status_words(None), id="save-status")
+            yield Static(status_words(None) if cfg.log_path is None else Text("◌ opening the log…", style="yellow"),
+                         id="save-status")
+        yield Static(file_words(cfg.log_path), id="log-file")
         yield Footer()
 
     def on_mount(self) -> None:
@@ -173,6 +181,9 @@ class LogScreen(Screen[None]):
             self.signed = f"{initials} at {time.strftime('%H:%M:%S')}"
         if message.status is not None:
             self.query_one("#save-status", Static).update(status_words(message.status, self.signed))
+            path = getattr(message.status, "path", None)
+            if path is not None:  # the log follows a new subject ID: show its name now
+                self.query_one("#log-file", Static).update(file_words(path))
         if message.ok:
             if message.action not in ("status",):
                 self._say(f"● {message.action}", "green")
@@ -189,7 +200,7 @@ class LogScreen(Screen[None]):
         if field == "tech":
             self._call("initials set", "set_technologist", value)
         elif field == "subject":
-            self._call("subject ID set", "set_subject", value)
+            self._set_subject(value)
         elif field == "note":
             if not value:
                 self._say("a note needs some text", "yellow")
@@ -200,6 +211,10 @@ class LogScreen(Screen[None]):
             self.query_one("#imp-kohm", Input).focus()
         elif field == "imp-kohm":
             self._impedance()
+
+    def _set_subject(self, subject: str) -> None:
+        # A log bedside named after the subject is renamed with it (the new path is shown).
+        self._call("subject ID set", "set_subject", subject, self.bedside.config.rename_log_with_subject)
 
     def add_note(self, text: str) -> None:
         at = time.strftime("%H:%M:%S")
@@ -245,7 +260,7 @@ class LogScreen(Screen[None]):
         if tech:
             self._call("initials set", "set_technologist", tech)
         if subject:
-            self._call("subject ID set", "set_subject", subject)
+            self._set_subject(subject)
 
     def on_button_pressed(self, event: Button.Pressed) -> None:
         if event.button.id == "save":

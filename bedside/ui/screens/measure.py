@@ -9,7 +9,7 @@ import re
 from typing import TYPE_CHECKING, cast
 
 from rich.text import Text
-from textual import work
+from textual import events, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -73,6 +73,41 @@ def in_unit(distance_cm: float, unit: str) -> str:
     return f"{distance_cm * 10:.0f}" if unit == "mm" else f"{distance_cm / CM_PER_UNIT[unit]:.1f}"
 
 
+#: What separates pasted measurements: tabs (a spreadsheet row), line breaks (a column),
+#: semicolons, spaces, or a comma followed by a space. A comma between digits is a
+#: decimal comma (36,5) and stays.
+_PASTE_SPLIT = re.compile(r"[\t\r\n;]+|,\s+|\s+")
+_PASTE_NUMBER = re.compile(r"[0-9]+(?:[.,][0-9]+)?|[.,][0-9]+")
+
+
+def split_pasted(text: str) -> list[str]:
+    """The parts of a pasted text, in order (empty parts dropped)."""
+    return [part for part in _PASTE_SPLIT.split(text.strip()) if part]
+
+
+class MeasuresPasted(Message):
+    """Several values were pasted into one measurement field."""
+
+    def __init__(self, field: str, parts: list[str]) -> None:
+        super().__init__()
+        self.field = field
+        self.parts = parts
+
+
+class MeasureField(Input):
+    """A measurement box: a paste of several values ("36⇥35⇥56" from a spreadsheet row)
+    fills the form's boxes in order instead of landing in this one."""
+
+    def _on_paste(self, event: events.Paste) -> None:
+        # Textual calls this, then Input's own handler (one value: an ordinary paste)
+        # unless the default is prevented.
+        parts = split_pasted(event.text)
+        if len(parts) > 1:
+            event.prevent_default()
+            event.stop()
+            self.post_message(MeasuresPasted(self.id or "", parts))
+
+
 class PlanReady(Message):
     """The measurements were accepted and the marks computed."""
 
@@ -132,7 +167,7 @@ class MeasureScreen(Screen[None]):
                 for key, label, hint in FIELDS:
                     with Horizontal(classes="form-row"):
                         yield Label(label, classes="form-label")
-                        yield Input(placeholder=hint, compact=True, id=key)
+                        yield MeasureField(placeholder=hint, compact=True, id=key)
                 yield Static(
                     Text("Skin preparation, neonates, collodion, infection control: "
                          "see the cautions (F1). Follow local policy.", style="grey62 italic"),
@@ -214,6 +249,28 @@ class MeasureScreen(Screen[None]):
                 self.query_one(f"#{order[nxt]}", Input).focus()
             else:
                 self.query_one("#marks-table", DataTable).focus()
+
+    def on_measures_pasted(self, message: MeasuresPasted) -> None:
+        """Fill the boxes from a paste of several numbers: three go to nasion–inion, ear to
+        ear and around (the form's order), fewer from the box pasted into onwards."""
+        order = [k for k, _, _ in FIELDS]
+        labels = ", ".join(label for _, label, _ in FIELDS)
+        parts = message.parts
+        start = 0 if len(parts) == len(order) else order.index(message.field) if message.field in order else 0
+        accepted = (f"accepted: up to three numbers separated by tabs, spaces or line breaks, "
+                    f"filled in the form's order ({labels})")
+        if not all(_PASTE_NUMBER.fullmatch(p) for p in parts):
+            self._message(f"✖ pasted text not taken ({' '.join(parts)[:60]!r}); {accepted}; "
+                          "the unit is chosen above", "bold red")
+            return
+        if start + len(parts) > len(order):
+            self._message(f"✖ pasted {len(parts)} numbers, but only {len(order) - start} box(es) "
+                          f"follow from here; {accepted}", "bold red")
+            return
+        filled = order[start:start + len(parts)]
+        for key, value in zip(filled, parts, strict=True):
+            self.query_one(f"#{key}", Input).value = value
+        self.query_one(f"#{filled[-1]}", Input).focus()
 
     def _revalidate(self) -> None:
         self._generation += 1

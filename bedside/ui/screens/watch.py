@@ -83,7 +83,7 @@ class WatchScreen(Screen[None]):
         yield Footer()
 
     def on_mount(self) -> None:
-        self.query_one(HeadMap).set_points(self.bedside.points)
+        self.query_one(HeadMap).set_points(self.bedside.points, self.bedside.unplaced)
         self.query_one(ChannelTable).focus()
         self.set_interval(0.5, self._request_trace)
         self.query_one(TraceView).clear("select a channel (↑/↓) to see its trace")
@@ -111,7 +111,7 @@ class WatchScreen(Screen[None]):
 
     def on_screen_resume(self) -> None:
         self.bedside.open_pending_confirm()  # a new stream's channels, if they wait
-        self.set_points(self.bedside.points)
+        self.set_points(self.bedside.points, self.bedside.unplaced)
         self.refresh_status()
         app = self.bedside
         if app.latest_frame is not None:
@@ -119,8 +119,8 @@ class WatchScreen(Screen[None]):
 
     # --- fed by the app -------------------------------------------------------
     @while_mounted
-    def set_points(self, points: dict[str, tuple[float, float]]) -> None:
-        self.query_one(HeadMap).set_points(points)
+    def set_points(self, points: dict[str, tuple[float, float]], unplaced: tuple[str, ...] = ()) -> None:
+        self.query_one(HeadMap).set_points(points, unplaced)
 
     @while_mounted
     def refresh_status(self, note: str = "") -> None:

@@ -3,7 +3,10 @@
 Each electrode is drawn as its level's symbol *and* colour (never colour alone),
 with its name beside it when there is room; "?" in grey when there is no live data.
 Bridges are drawn as a dotted line between the two electrodes. Positions come in
-as (x, y) in [-1, 1] with the nose up (from ``bedside.placement.project_2d``).
+as (x, y) in [-1, 1] with the nose up (``bedside.placement.project_2d`` for named
+sites, ``project_geometry`` for a cap's own positions). Electrodes the caller could
+not place (no position, no 10-20/10-10 name) are listed on the map's bottom line,
+never silently left out.
 """
 
 from __future__ import annotations
@@ -80,11 +83,16 @@ class HeadMap(Widget):
         self._bridges: tuple[Bridge, ...] = ()
         self._selected: str | None = None
         self._spread = 1.0
+        self._unplaced: tuple[str, ...] = ()
+        #: Where each electrode's symbol went in the last render (column, row).
+        self.drawn: dict[str, tuple[int, int]] = {}
 
-    def set_points(self, points: dict[str, tuple[float, float]]) -> None:
+    def set_points(self, points: dict[str, tuple[float, float]], unplaced: tuple[str, ...] = ()) -> None:
         """Positions (x, y) in [-1, 1], nose up. The set is spread to fill the outline
-        (largest radius → the rim) so names collide less; relative places are kept."""
+        (largest radius → the rim) so names collide less; relative places are kept.
+        unplaced: electrodes with no place, listed at the bottom."""
         self._points = dict(points)
+        self._unplaced = tuple(unplaced)
         radii = [math.hypot(x, y) for x, y in self._points.values()]
         top = max(radii, default=0.0)
         self._spread = 1.0 / top if 0.0 < top < 1.0 else 1.0
@@ -118,6 +126,31 @@ class HeadMap(Widget):
     @property
     def points(self) -> dict[str, tuple[float, float]]:
         return dict(self._points)
+
+    @property
+    def unplaced(self) -> tuple[str, ...]:
+        return self._unplaced
+
+    #: The first of the two bottom lines when electrodes have no place.
+    UNPLACED_HEAD = "not on the map (no position, no name):"
+
+    def _unplaced_lines(self, width: int) -> Text:
+        """Two lines: what they are, then as many names as the width holds ("E61, X1 +4 more")."""
+        names = self._unplaced
+        shown = ""
+        for i, name in enumerate(names):
+            candidate = f"{shown}, {name}" if shown else name
+            left = len(names) - i - 1
+            suffix = f" +{left} more" if left else ""
+            if shown and len(candidate) + len(suffix) > width:
+                shown += f" +{left + 1} more"
+                break
+            shown = candidate
+        out = Text(no_wrap=True, overflow="ellipsis")
+        out.append(self.UNPLACED_HEAD[:width], style="yellow")
+        out.append("\n")
+        out.append(shown[:width], style="bold yellow")
+        return out
 
     def cell_of(self, x: float, y: float, width: int, height: int) -> tuple[int, int]:
         """The text cell of a projected point on a canvas of this size."""
@@ -157,6 +190,9 @@ class HeadMap(Widget):
         w, h = self.size.width, self.size.height
         if w < 4 or h < 3:
             return Text("")
+        note = self._unplaced_lines(w) if self._unplaced and not self.marks_mode and h > 6 else None
+        if note is not None:
+            h -= 2  # the bottom lines list the electrodes with no place
         cv = _Canvas(w, h)
         self._outline(cv)
         k = self._spread
@@ -189,7 +225,12 @@ class HeadMap(Widget):
                     for i, ch in enumerate(label):
                         cv.put(start + i, row, ch, style, own=True)
                     break
-        return cv.text()
+        self.drawn = placed
+        out = cv.text()
+        if note is not None:
+            out.append("\n")
+            out.append_text(note)
+        return out
 
     @staticmethod
     def _nearest_free(cv: _Canvas, col: int, row: int) -> tuple[int, int] | None:
