@@ -22,13 +22,20 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 
-from bedside.checks.levels import finding_key
-from bedside.checks.types import NO_DATA_KEY, ChannelQuality, QualityFrame
+from bedside.checks.types import NO_DATA_KEY, ChannelQuality, Finding, QualityFrame
 from bedside.errors import InputError
 
 #: A channel the checks do not judge (not an electrode: trigger, sensor).
 NOT_JUDGED_KEY = "not_judged"
 _RANK = {"good": 0, "check": 1, "bad": 2}
+
+
+def finding_key(f: Finding) -> tuple[str, tuple[str, ...]]:
+    """:func:`bedside.checks.levels.finding_key` (imported when first needed: this module
+    stays light for the command line)."""
+    from bedside.checks.levels import finding_key as key
+
+    return key(f)
 
 
 def channel_key(channel: ChannelQuality, live: bool = True) -> str:
