@@ -20,7 +20,7 @@ from textual.binding import Binding
 from textual.message import Message
 
 from bedside.checks.types import QualityFrame
-from bedside.errors import AmbiguousStream, BedsideError, StreamNotFound
+from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStreams, StreamNotFound
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
 from bedside.stream.source import Source
@@ -42,6 +42,9 @@ from bedside.ui.widgets.stream_status import STATE_LOOK
 log = logging.getLogger("bedside")
 
 VIEW_TITLE = {"measure": "Measure", "watch": "Watch", "log": "Log"}
+#: The picker's title when the streams are equal in name, type, source_id and host.
+TWINS_NOTE = ("These streams cannot be told apart (same name, type, source_id and host: two copies "
+              "of one program?) — choose the outlet for this bed, or close a copy")
 
 
 class StreamsFound(Message):
@@ -282,7 +285,8 @@ class BedsideApp(App[int]):
         except AmbiguousStream as exc:
             cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
             # The picker says it in the app's terms (the error's text names command options).
-            self.post_message(StreamsFound(cands, True, None, ""))
+            note = TWINS_NOTE if isinstance(exc, IndistinguishableStreams) else ""
+            self.post_message(StreamsFound(cands, True, None, note))
             return
         except StreamNotFound as exc:
             self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again"))
