@@ -19,6 +19,7 @@ so the count starts only once there is data and starts again after an outage.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 
@@ -249,19 +250,20 @@ class ReadyState:
                 "accepted": [a.as_dict() for a in self.accepted]}
 
     def text(self) -> str:
-        """In words, for the Watch view and the table."""
+        """In words, for the Watch view (no clock times: the caller adds them)."""
+        accepted = ("; accepted as they are: " + ", ".join(a.electrode for a in self.accepted)
+                    if self.accepted else "")
         if self.good_now:
-            return f"ready: every electrode good for {self.hold_s:g} s"
-        if self.ready_at_s is not None and not self.waiting:
-            return f"ready (reached at {self.ready_at_s:.0f} s)"
+            return f"ready to record: every scalp electrode good for {self.hold_s:g} s{accepted}"
         if not self.judged:
-            return "ready count waits for the first verdicts"
+            return f"ready count ({self.hold_s:g} s) starts with the first verdicts"
         if self.waiting:
-            shown = ", ".join(self.waiting[:6]) + (" …" if len(self.waiting) > 6 else "")
-            lead = "not good now" if self.ready_at_s is not None else "waiting for"
-            return f"{lead}: {shown}"
+            shown = ", ".join(self.waiting[:6]) + (f" +{len(self.waiting) - 6}" if len(self.waiting) > 6 else "")
+            if self.ready_at_s is not None:
+                return f"was ready; not good now: {shown} (the count starts again once good)"
+            return f"not ready: waiting for {shown} (each good for {self.hold_s:g} s)"
         assert self.remaining_s is not None
-        return f"ready in {max(0.0, self.remaining_s):.0f} s (all good; holding {self.hold_s:g} s)"
+        return f"ready in {math.ceil(max(0.0, self.remaining_s)):.0f} s (all good; holding {self.hold_s:g} s){accepted}"
 
 
 class ReadyGate:

@@ -19,6 +19,7 @@ from textual.app import App, ScreenStackError
 from textual.binding import Binding
 from textual.message import Message
 
+from bedside.checks.ready import Cues, ReadyGate, ReadyState
 from bedside.checks.types import QualityFrame
 from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStreams, StreamNotFound
 from bedside.placement.types import PlacementPlan
@@ -127,6 +128,12 @@ class BedsideApp(App[int]):
         self.latest_frame: QualityFrame | None = None
         self.progress: Progress | None = None
         self.tracker = GoodTracker()
+        # The start gate (bedside.checks.ready, the same as check --until-good) and the
+        # sound cue; both start again with every connection.
+        self.ready_gate = ReadyGate(self.config.ready_hold_s)
+        self.ready_state: ReadyState | None = None
+        self.cues = Cues()
+        self.bell_on = self.config.bell
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
         self._last_frame_at: float | None = None
@@ -335,6 +342,7 @@ class BedsideApp(App[int]):
 
     def _forget_frames(self) -> None:
         self.tracker.reset()
+        self.ready_gate, self.ready_state, self.cues = ReadyGate(self.config.ready_hold_s), None, Cues()
         self.latest_frame, self.progress = None, None
         self._last_frame_at = None
         self._connected_at = time.monotonic()
@@ -496,9 +504,26 @@ class BedsideApp(App[int]):
         self._last_frame_at = time.monotonic()
         self._shown_stalled = False
         self.progress = self.tracker.update(frame)
+        self._judge_ready(frame)
         self._update_subtitle()
         if self.current_view == "watch":
             self.views["watch"].show_frame(frame, self.progress, live=self.is_live())
+
+    def _judge_ready(self, frame: QualityFrame) -> None:
+        """The start gate on the frame's own clock; the log gets the first ready time;
+        the bell (when on) rings for ready and for a new fault."""
+        t = frame.wall_time if frame.wall_time > 0 else time.time()
+        was = self.ready_gate.ready_at_s
+        state = self.ready_state = self.ready_gate.update(frame, t)
+        if was is None and state.ready and self.recorder is not None:
+            self.recorder.submit("set_ready", (state.hold_s, state.accepted, "app"), self._log_done("ready"))
+        if self.cues.update(frame, state) and self.bell_on:
+            self.bell()
+
+    def toggle_bell(self) -> None:
+        self.bell_on = not self.bell_on
+        self.notify("sound cue on: a bell when ready and when a new fault appears" if self.bell_on
+                    else "sound cue off", timeout=3)
 
     def show_frame(self, frame: QualityFrame) -> None:
         """Show a frame as if the monitor had sent it (tests, replays)."""
