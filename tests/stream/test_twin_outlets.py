@@ -62,3 +62,12 @@ def test_the_chosen_outlet_is_the_one_opened(feeders: Callable[..., Feeder]) -> 
         chosen = next(s for s in seen if s.uid == uid)
         with LslSource(chosen) as src:
             assert src.identity.uid == uid
+
+
+def test_streams_lists_both_and_says_they_cannot_be_told_apart(feeders: Callable[..., Feeder],
+                                                               capsys: pytest.CaptureFixture[str]) -> None:
+    name, _a, _b = _twins(feeders)
+    assert main(["streams", "--wait", "1"]) == 0
+    out, err = capsys.readouterr()
+    assert [line.split()[0] for line in out.splitlines()].count(name) == 2
+    assert "cannot be told apart" in err and name in err
