@@ -28,7 +28,8 @@ JSON (``--format json``): one object ::
      "first_verdict_s": 2.3, "judged_on": "run", "stream_lost": false}
 
 plus, with ``--until-good``, ``"ready": {"at_s", "held_s", "accepted": [{"electrode",
-"reason"}]}`` (null when it was not reached). ``level``, ``reasons``, ``metrics`` and
+"reason"}]}`` (null when it was not reached) and ``"ready_waiting"``, the electrodes not
+good at the end when it was not reached. ``level``, ``reasons``, ``metrics`` and
 ``findings`` are the end state; ``worst_level`` and ``worst_reason`` the worst level of
 the run and its reason; ``not_good_s`` the seconds spent ``check`` or ``bad``; ``events``
 the level changes (the first is the first verdict after the warm-up); ``run_findings``
@@ -261,6 +262,8 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
     if look is not None and look.gate is not None:
         state = look.gate.state
         report["ready"] = state.as_dict() if state is not None else None
+        # Who kept the gate shut at the end (not good then, and not accepted).
+        report["ready_waiting"] = list(state.waiting) if state is not None and not state.ready else []
     return report
 
 
@@ -344,7 +347,9 @@ def _run_words(c: dict[str, Any], symbol: dict[str, str]) -> str:
 def _ready_words(report: dict[str, Any]) -> str:
     ready = report["ready"]
     if ready is None:
-        return f"NOT READY: the scalp electrodes were not all good together within {report['seconds']:g} s"
+        waiting = report.get("ready_waiting") or []
+        return (f"NOT READY: the scalp electrodes were not all good together within {report['seconds']:g} s"
+                + (f"; not good at the end: {', '.join(waiting)}" if waiting else ""))
     words = f"READY at {ready['at_s']:.1f} s: every scalp electrode good for {ready['held_s']:g} s"
     if ready["accepted"]:
         words += "; accepted as they are: " + "; ".join(

@@ -113,6 +113,7 @@ def test_a_steady_fault_is_never_ready_unless_accepted(tmp_path: Path, capsys: p
         captured = capsys.readouterr()
         report = json.loads(captured.out)
         assert code == 1 and report["ready"] is None
+        assert report["ready_waiting"] == ["O2"]
         assert report["looked_s"] >= 6.5
         assert captured.err.count(BELL) == 1  # the flat O2 appeared; ready never came
         code = main(["check", "--stream", name, "--wait", "1", "--seconds", "10", "--until-good", "2",
