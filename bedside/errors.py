@@ -10,6 +10,7 @@
     │   ├── LSLUnavailable       pylsl is installed but liblsl cannot be loaded
     │   ├── StreamNotFound       no stream matches the selection
     │   ├── AmbiguousStream      several streams match and none is pinned (lists them)
+    │   │   └── IndistinguishableStreams  outlets equal in name, type, source_id and host
     │   ├── StreamLost           the pinned stream went away and did not come back
     │   └── StreamFormatError    the stream cannot be used (wrong type, rate, channel count)
     ├── ScenarioError            a demo scenario (demo_streams/*.yaml) or replay file is unusable
@@ -57,6 +58,11 @@ class AmbiguousStream(StreamError):
     def __init__(self, message: str, candidates: tuple[object, ...] = ()) -> None:
         super().__init__(message)
         self.candidates = candidates
+
+
+class IndistinguishableStreams(AmbiguousStream):
+    """Several live outlets with the same name, type, source_id and host: no option can
+    pin one, so bedside refuses rather than read one of them at random."""
 
 
 class StreamLost(StreamError):

@@ -1,17 +1,40 @@
-"""``bedside check``: run the quality checks on a live stream and print the final report.
+"""``bedside check``: run the quality checks on a live stream and report the whole run.
 
-Exit status: 0 when every channel and finding is good; 1 when any channel or finding
-is ``check``/``bad`` (or has no data), or the stream was lost during the run; 2 on
-error (bad option, config error, no stream, or several streams match — they are
-listed so that one can be pinned).
+Exit status: 0 when every channel and finding was good throughout the run (from its
+first verdict on); 1 when any channel or finding went ``check``/``bad`` at any time, a
+channel has no verdict at the end, or the stream was lost during the run; 2 on error
+(bad option, config error, no stream, several streams match — they are listed so that
+one can be pinned — or two outlets that cannot be told apart). ``--final-only`` judges
+the end state alone. With ``--until-good S`` the look ends as soon as every scalp
+electrode has been good for S consecutive seconds (or is accepted with ``--accept
+ELECTRODE=REASON``): exit 0 when that is reached, 1 when ``--seconds`` pass first.
+
+No data is not a fault: the first seconds (the warm-up, ``min_data_s`` in quality.yaml)
+and any time the stream is stale or lost give ``no_data``, which is not counted in
+``not_good_s`` and is never a ``worst_level`` (a channel never judged has
+``worst_level`` ``no_data``); for the gate it is not good either, so the count starts
+with the first verdicts and starts again after an outage.
 
 JSON (``--format json``): one object ::
 
     {"stream": {"identity": {...}, "health": {...}},
-     "channels": [{"name", "label", "type", "level", "reasons", "metrics"}, ...],
+     "channels": [{"name", "label", "type", "level", "reasons", "metrics",
+                   "worst_level", "worst_reason", "not_good_s",
+                   "events": [{"t_s", "level", "reason"}, ...]}, ...],
      "channel_setup": {"summary", "reference", "amplifier", "neighbours", "notes"},
      "findings": [{"kind", "electrodes", "level", "reason"}, ...],
-     "mains_hz": 50, "window_s": 4.0, "seconds": 10.0, "stream_lost": false}
+     "run_findings": [{"kind", "electrodes", "level", "reason", "first_s", "last_s"}, ...],
+     "mains_hz": 50, "window_s": 4.0, "seconds": 10.0, "looked_s": 10.0,
+     "first_verdict_s": 2.3, "judged_on": "run", "stream_lost": false}
+
+plus, with ``--until-good``, ``"ready": {"at_s", "held_s", "accepted": [{"electrode",
+"reason"}]}`` (null when it was not reached) and ``"ready_waiting"``, the electrodes not
+good at the end when it was not reached. ``level``, ``reasons``, ``metrics`` and
+``findings`` are the end state; ``worst_level`` and ``worst_reason`` the worst level of
+the run and its reason; ``not_good_s`` the seconds spent ``check`` or ``bad``; ``events``
+the level changes (the first is the first verdict after the warm-up); ``run_findings``
+every finding seen during the run; times (``t_s``, ``at_s`` …) are seconds from the
+start of the look.
 
 ``name`` is bedside's normalised name (``FC5`` from ``Fc5.``), ``label`` the stream's own,
 ``type`` the BIDS channels.tsv type. ``level`` is ``good``, ``check``, ``bad``,
@@ -32,6 +55,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from bedside.cautions import DISCLAIMER
+from bedside.checks.ready import NOT_JUDGED_KEY
 from bedside.commands._common import (
     add_channel_options,
     add_stream_selection,
@@ -49,6 +73,7 @@ FORMATS = ("table", "json")
 EXIT_OK, EXIT_ATTENTION = 0, 1
 
 if TYPE_CHECKING:
+    from bedside.checks.ready import ReadyGate, ReadyState
     from bedside.checks.settings import QualitySettings
     from bedside.checks.types import QualityFrame
     from bedside.errors import BedsideError
@@ -88,6 +113,26 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         f"{MAX_SECONDS:g}: for longer, watch in the app)",
     )
     p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
+    p.add_argument(
+        "--final-only", action="store_true",
+        help="judge the end state alone (exit 0 when it is all good, even if something went "
+        "wrong earlier in the look); by default anything that went check/bad during the run "
+        "gives exit 1. The first seconds without a verdict (warm-up) never count as a fault",
+    )
+    gate = p.add_argument_group("start gate (may the recording start?)")
+    gate.add_argument(
+        "--until-good", metavar="S", type=positive_float("--until-good"), default=None,
+        help="stop as soon as every scalp electrode has been good for S consecutive seconds "
+        "(or is accepted): exit 0 and a 'ready' time; exit 1 if --seconds pass first. "
+        "Seconds with no data (warm-up, an outage) start the count again",
+    )
+    gate.add_argument(
+        "--accept", metavar="ELECTRODE=REASON", action="append", default=[],
+        help="with --until-good: accept a scalp electrode as it is, with the reason "
+        "(e.g. 'O2=scalp lesion, electrode left as is'); repeat for each one",
+    )
+    p.add_argument("--bell", action="store_true",
+                   help="ring the terminal bell (on stderr) when ready is reached and when a new fault appears")
     p.add_argument("--config", metavar="PATH", help="a quality.yaml to use instead of the shipped one")
     log = p.add_argument_group("setup log (the same log the app keeps; an existing one is resumed)")
     log.add_argument("--log", metavar="PATH", help="record this check into the setup log at PATH (YAML)")
@@ -104,9 +149,10 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
 
 def collect(
     source: Source, settings: QualitySettings, seconds: float, consumers: list[FrameConsumer],
-    engine_kwargs: dict[str, Any] | None = None,
+    engine_kwargs: dict[str, Any] | None = None, done: Callable[[], bool] | None = None,
 ) -> tuple[QualityFrame | None, bool, BedsideError | None]:
-    """Run engine + monitor on ``source`` for ``seconds``; returns (last frame, lost?, error)."""
+    """Run engine + monitor on ``source`` for ``seconds`` (or until ``done()``); returns
+    (last frame, lost?, error)."""
     from bedside.checks.engine import Engine
     from bedside.checks.monitor import Monitor
 
@@ -119,9 +165,53 @@ def collect(
     mon = Monitor(source, engine, on_frame, settings.update_hz)
     deadline = time.monotonic() + seconds
     with mon:
-        while time.monotonic() < deadline and mon.running:
+        while time.monotonic() < deadline and mon.running and not (done is not None and done()):
             time.sleep(0.05)
     return mon.latest, mon.lost_seen, mon.error
+
+
+class Look:
+    """What a look keeps besides the last frame: the whole run, the start gate, the
+    bell. Its ``on_frame`` is a frame consumer (it runs on the monitor's thread); times
+    are seconds of the look (wall clock from ``start``)."""
+
+    def __init__(self, gate: ReadyGate | None = None, bell: bool = False,
+                 ring: Callable[[], None] | None = None) -> None:
+        from bedside.checks.ready import Cues, RunHistory
+
+        self.history = RunHistory()
+        self.gate = gate
+        self.cues = Cues() if bell else None
+        self.ring = ring or _ring
+        self.t0 = time.time()
+        self.last_t = 0.0
+        self.on_ready: Callable[[ReadyState], None] | None = None
+
+    def start(self) -> None:
+        self.t0 = time.time()
+
+    def on_frame(self, frame: QualityFrame) -> None:
+        t = max(0.0, (frame.wall_time or time.time()) - self.t0)
+        self.last_t = t
+        self.history.update(frame, t)
+        state = None
+        if self.gate is not None:
+            was = self.gate.ready_at_s
+            state = self.gate.update(frame, t)
+            if was is None and state.ready and self.on_ready is not None:
+                self.on_ready(state)
+        if self.cues is not None and self.cues.update(frame, state):
+            self.ring()
+
+    @property
+    def ready(self) -> bool:
+        return self.gate is not None and self.gate.ready_at_s is not None
+
+
+def _ring() -> None:
+    """The terminal bell, on stderr (stdout may carry the JSON report)."""
+    sys.stderr.write("\a")
+    sys.stderr.flush()
 
 
 def _num(v: object) -> object:
@@ -129,7 +219,9 @@ def _num(v: object) -> object:
 
 
 def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool,
-            channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None) -> dict[str, Any]:
+            channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None,
+            look: Look | None = None, final_only: bool = False) -> dict[str, Any]:
+    runs = {r.name: r for r in look.history.channels(look.last_t)} if look is not None else {}
     chans = []
     for i, c in enumerate(frame.channels):
         info = channels[i] if i < len(channels) else None
@@ -139,11 +231,17 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
             d["type"] = info.kind
         d.update({k: v for k, v in c.as_dict().items() if k != "name"})
         if c.level is None and frame.live and any(r.startswith("not judged") for r in c.reasons):
-            d["level"] = "not_judged"  # a channel that is no electrode (engine's wording)
+            d["level"] = NOT_JUDGED_KEY  # a channel that is no electrode (engine's wording)
         d["metrics"] = {k: _num(v) for k, v in c.metrics.items()}
+        run = runs.get(c.name)
+        if run is not None:
+            d["worst_level"] = d["level"] if d["level"] == NOT_JUDGED_KEY else run.worst_level
+            d["worst_reason"] = run.worst_reason
+            d["not_good_s"] = run.not_good_s
+            d["events"] = [e.as_dict() for e in run.events]
         chans.append(d)
     health = frame.stream_health
-    return {
+    report: dict[str, Any] = {
         "stream": {
             "identity": identity.as_dict(),
             "health": health.as_dict() if health is not None else None,
@@ -151,11 +249,22 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
         "channels": chans,
         "channel_setup": setup or {},
         "findings": [f.as_dict() for f in frame.findings],
+        "run_findings": [f.as_dict() for f in look.history.findings()] if look is not None else [],
         "mains_hz": frame.extras.get("mains_hz"),
         "window_s": frame.window_s,
         "seconds": seconds,
+        "looked_s": round(look.last_t, 3) if look is not None else seconds,
+        "first_verdict_s": (None if look is None or look.history.first_verdict_s is None
+                            else round(look.history.first_verdict_s, 3)),
+        "judged_on": "final" if final_only or look is None else "run",
         "stream_lost": lost,
     }
+    if look is not None and look.gate is not None:
+        state = look.gate.state
+        report["ready"] = state.as_dict() if state is not None else None
+        # Who kept the gate shut at the end (not good then, and not accepted).
+        report["ready_waiting"] = list(state.waiting) if state is not None and not state.ready else []
+    return report
 
 
 def as_table(report: dict[str, Any]) -> str:
@@ -163,17 +272,20 @@ def as_table(report: dict[str, Any]) -> str:
 
     symbol = {lv.key: lv.symbol for lv in Level}
     symbol["no_data"] = NO_DATA_SYMBOL
-    head = ["channel", "type", "verdict", *(h for _k, h in TABLE_METRICS), "reason"]
+    head = ["channel", "type", "verdict", "during the run", *(h for _k, h in TABLE_METRICS), "reason"]
     rows = []
     for c in report["channels"]:
         m = c["metrics"]
         level = c["level"]
         shown = f"{symbol[level]} {level}" if level in symbol else "- not judged"
-        cells = [c["name"], c.get("type", ""), shown]
+        cells = [c["name"], c.get("type", ""), shown, _run_words(c, symbol)]
         for key, _h in TABLE_METRICS:
             v = m.get(key)
             cells.append("-" if v is None else f"{v:.1f}")
-        cells.append(c["reasons"][0] if c["reasons"] else "")
+        reason = c["reasons"][0] if c["reasons"] else ""
+        if not reason and c.get("worst_reason"):
+            reason = f"earlier: {c['worst_reason']}"
+        cells.append(reason)
         rows.append(cells)
     widths = [max(len(h), *(len(r[i]) for r in rows)) for i, h in enumerate(head[:-1])]
     lines = ["  ".join(h.ljust(w) for h, w in zip(head[:-1], widths, strict=True)) + "  " + head[-1]]
@@ -185,6 +297,27 @@ def as_table(report: dict[str, Any]) -> str:
         lines.append("findings:")
         for f in findings:
             lines.append(f"  {symbol[f['level']]} {f['level']:<5} {f['kind']:<9} {f['reason']}")
+    now = {(f["kind"], tuple(f["electrodes"])) for f in findings}
+    earlier = [f for f in report.get("run_findings", []) if (f["kind"], tuple(f["electrodes"])) not in now]
+    if earlier:
+        lines.append("")
+        lines.append("findings earlier in the run (gone at the end):")
+        for f in earlier:
+            lines.append(f"  {symbol[f['level']]} {f['level']:<5} {f['kind']:<9} {f['reason']} "
+                         f"(seen {f['first_s']:.1f}–{f['last_s']:.1f} s)")
+    changes = [c for c in report["channels"] if c.get("worst_level") in ("check", "bad")]
+    if changes:
+        lines.append("")
+        lines.append("changes during the run (seconds from the start of the look):")
+        for c in changes:
+            said = ", ".join(
+                f"{e['level']} at {e['t_s']:.1f} s" + (f" ({e['reason']})" if e["reason"] else "")
+                for e in c["events"]
+            )
+            lines.append(f"  {c['name']}: {said}")
+    if "ready" in report:
+        lines.append("")
+        lines.append(_ready_words(report))
     ident = report["stream"]["identity"]
     health = report["stream"]["health"] or {}
     lines.append("")
@@ -199,11 +332,42 @@ def as_table(report: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
+def _run_words(c: dict[str, Any], symbol: dict[str, str]) -> str:
+    """The run in words: "● good throughout", "✖ bad, 3.2 s not good"."""
+    worst = c.get("worst_level")
+    if worst is None or worst == NOT_JUDGED_KEY:
+        return "-"
+    if worst == "no_data":
+        return f"{symbol['no_data']} never judged"
+    if worst == "good":
+        return f"{symbol['good']} good throughout"
+    return f"{symbol[worst]} {worst}, {c['not_good_s']:.1f} s not good"
+
+
+def _ready_words(report: dict[str, Any]) -> str:
+    ready = report["ready"]
+    if ready is None:
+        waiting = report.get("ready_waiting") or []
+        return (f"NOT READY: the scalp electrodes were not all good together within {report['seconds']:g} s"
+                + (f"; not good at the end: {', '.join(waiting)}" if waiting else ""))
+    words = f"READY at {ready['at_s']:.1f} s: every scalp electrode good for {ready['held_s']:g} s"
+    if ready["accepted"]:
+        words += "; accepted as they are: " + "; ".join(
+            f"{a['electrode']} ({a['reason']})" for a in ready["accepted"])
+    return words
+
+
 def exit_code(report: dict[str, Any]) -> int:
+    """0 all good, 1 attention (see the module docstring)."""
+    if "ready" in report:
+        return EXIT_OK if report["ready"] is not None else EXIT_ATTENTION
     if report["stream_lost"]:
         return EXIT_ATTENTION
-    levels = [c["level"] for c in report["channels"] if c["level"] != "not_judged"]
-    levels += [f["level"] for f in report["findings"]]
+    judged = [c for c in report["channels"] if c["level"] != NOT_JUDGED_KEY]
+    levels = [c["level"] for c in judged] + [f["level"] for f in report["findings"]]
+    if report.get("judged_on") == "run":
+        levels += [c["worst_level"] for c in judged if c.get("worst_level") in ("check", "bad")]
+        levels += [f["level"] for f in report.get("run_findings", [])]
     return EXIT_OK if all(lv == "good" for lv in levels) else EXIT_ATTENTION
 
 
@@ -255,6 +419,17 @@ def run(args: argparse.Namespace) -> int:
         )
     if args.clip_seconds is None:
         args.clip_seconds = args.seconds
+    from bedside.checks.ready import ReadyGate, match_accepted, parse_accept
+
+    accepted = parse_accept(args.accept)
+    if accepted and args.until_good is None:
+        raise InputError("--accept goes with --until-good S (it accepts an electrode for the start gate)")
+    if args.until_good is not None and args.until_good + settings.min_data_s > args.seconds:
+        raise InputError(
+            f"--until-good {args.until_good:g} cannot be reached within --seconds {args.seconds:g}: the "
+            f"checks need {settings.min_data_s:g} s before the first verdict (min_data_s), so give "
+            f"--seconds of at least {args.until_good + settings.min_data_s:g}"
+        )
     from bedside.checks.settings import DEFAULT_PATH
     from bedside.record.ids import validate_initials, validate_subject_id
     from bedside.record.session import optional_recorder
@@ -289,10 +464,21 @@ def run(args: argparse.Namespace) -> int:
         keep = KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
         if keep is not None:
             source = keep
+        gate = None
+        if args.until_good is not None:
+            scalp = [c.name for c in source.channels if c.is_scalp]
+            gate = ReadyGate(args.until_good, match_accepted(accepted, scalp), scalp)
+        look = Look(gate, bell=args.bell)
         if recorder is not None:
             recorder.set_stream(source.identity, source.channels)
             consumers.append(recorder.on_frame)
-        frame, lost, error = collect(source, settings, args.seconds, consumers, kwargs)
+            if gate is not None:
+                rec = recorder
+                look.on_ready = lambda state: rec.set_ready(state.hold_s, state.accepted, how="bedside check")
+        consumers.append(look.on_frame)
+        look.start()
+        frame, lost, error = collect(source, settings, args.seconds, consumers, kwargs,
+                                     done=lambda: look.ready)
         identity = source.identity
         setup["notes"] = [lsl_source.unit_note] if lsl_source.unit_note else []
         channels = source.channels
@@ -302,7 +488,7 @@ def run(args: argparse.Namespace) -> int:
         raise error
     if frame is None:
         raise InputError("no frame was produced; the stream sent nothing")
-    report = as_json(frame, identity, args.seconds, lost, channels, setup)
+    report = as_json(frame, identity, args.seconds, lost, channels, setup, look, args.final_only)
     if args.format == "json":
         print(json.dumps(report, indent=2, ensure_ascii=False))
     else:

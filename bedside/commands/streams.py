@@ -65,6 +65,11 @@ def run(args: argparse.Namespace) -> int:
         others = len(everything) - len(found)
         hint = f"; {others} stream(s) of other types are visible (--all lists them)" if others else ""
         print(f"no {what} visible (looked for {max(args.wait, 1.0):g} s){hint}", file=sys.stderr)
+    elif len(set(found)) < len(found):  # equal outlets: the same identity listed twice
+        twins = sorted({s.name for s in found if found.count(s) > 1})
+        print(f"note: outlets that cannot be told apart (same name, type, source_id and host; two "
+              f"copies of one program?): {', '.join(twins)}. bedside refuses to read them until one "
+              "is closed or given its own source_id", file=sys.stderr)
     elif len({r["name"] for r in rows}) < len(rows):
         print("note: several streams share a name; pin one with --source-id", file=sys.stderr)
     return 0

@@ -50,6 +50,12 @@ def add_app_options(p: argparse.ArgumentParser) -> None:
                       help="screen updates per second (default 4)")
     view.add_argument("--export-dir", metavar="DIR", type=Path, default=Path("."),
                       help="where the marking sheet is saved (default: here)")
+    view.add_argument("--until-good", metavar="S", type=positive_float("--until-good"), default=10.0,
+                      help="ready to record when every scalp electrode has been good for S "
+                      "consecutive seconds (default 10; Watch counts down)")
+    view.add_argument("--bell", action="store_true",
+                      help="ring the terminal bell when ready is reached and when a new fault "
+                      "appears (off by default; b on Watch toggles it)")
 
 
 def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
@@ -98,6 +104,8 @@ def app_config(args: argparse.Namespace, *, stream_name: str | None = None, star
         update_hz=args.update_hz,
         export_dir=args.export_dir,
         confirm_channels=True,
+        ready_hold_s=args.until_good,
+        bell=args.bell,
     )
 
 

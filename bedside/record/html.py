@@ -260,6 +260,17 @@ def all_good_sentence(log_: SetupLog) -> str:
     return f"Reached {_span(seconds)} after the first verdict."
 
 
+def ready_sentence(log_: SetupLog) -> str:
+    """The start gate: when it was first reached and what was accepted, as a sentence."""
+    r = log_.ready
+    if r is None:
+        return "not recorded (the start gate was not reached while the log was kept)"
+    words = f"at {_t(r.at)}: every scalp electrode good for {r.held_s:g} s"
+    if r.accepted:
+        words += " except " + "; ".join(f"{a.electrode} (accepted: {a.reason})" for a in r.accepted)
+    return words
+
+
 def _measured_values(log_: SetupLog, names: list[str]) -> list[str]:
     """The final values per electrode, in plain words with units (bedside.metric_labels),
     grouped by what they are about; technical values stay in the setup log file only."""
@@ -345,9 +356,12 @@ def render_report(log_: SetupLog) -> str:
         ),
         ("Reference / ground", f"{log_.reference or '—'} / {log_.ground or '—'}"),
         ("Mains", f"{log_.power_line_hz:g} Hz" if log_.power_line_hz else "—"),
+        ("Ready to record", ready_sentence(log_)),
         (
             "Signed off",
-            f"{log_.sign_off.initials} at {_t(log_.sign_off.at)}" if log_.sign_off else "not signed off",
+            (f"{log_.sign_off.initials} at {_t(log_.sign_off.at)}" + "".join(
+                f"; {a.electrode} not good, accepted: {a.reason}" for a in log_.sign_off.exceptions))
+            if log_.sign_off else "not signed off",
         ),
         ("Software", f"bedside {log_.software_version}"),
         (

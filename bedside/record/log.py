@@ -134,9 +134,33 @@ class Note:
 
 
 @dataclass(frozen=True)
+class AcceptedElectrode:
+    """An electrode accepted as it is (not good), with the technologist's typed reason."""
+
+    electrode: str
+    reason: str
+
+
+@dataclass(frozen=True)
 class SignOff:
+    """The sign-off. exceptions: the scalp electrodes that were not good at that moment,
+    each with its reason (logs written before it was kept have none)."""
+
     at: datetime
     initials: str
+    exceptions: tuple[AcceptedElectrode, ...] = ()
+
+
+@dataclass(frozen=True)
+class ReadyRecord:
+    """When the start gate was first reached: every scalp electrode good for ``held_s``
+    consecutive seconds, except those accepted with a reason. how: who judged it
+    ("bedside check", "app")."""
+
+    at: datetime
+    held_s: float
+    accepted: tuple[AcceptedElectrode, ...] = ()
+    how: str = ""
 
 
 @dataclass(frozen=True)
@@ -217,6 +241,8 @@ class SetupLog:
     final: dict[str, ChannelFinal] = field(default_factory=dict)
     impedances: list[ImpedanceEntry] = field(default_factory=list)
     notes: list[Note] = field(default_factory=list)
+    #: The first time the start gate was reached (None: never; logs before it had none).
+    ready: ReadyRecord | None = None
     sign_off: SignOff | None = None
     #: Streams checked before the current one, oldest first; ``stream``, ``timeline``,
     #: ``findings`` and ``final`` always belong to the current stream alone.

@@ -63,6 +63,7 @@ from bedside.record.ids import (
 from bedside.record.log import (
     FORMAT_NAME,
     FORMAT_VERSION,
+    AcceptedElectrode,
     ChannelFinal,
     DumpCache,
     Event,
@@ -71,6 +72,7 @@ from bedside.record.log import (
     LevelChange,
     Note,
     PlanRecord,
+    ReadyRecord,
     SetupLog,
     SignOff,
     StreamRecord,
@@ -676,14 +678,33 @@ class SessionRecorder:
             self._log.reference, self._log.ground = ref, gnd
             self._touch()
 
-    def sign_off(self, initials: str) -> None:
-        """The technologist signs the setup off; saved at once (best effort)."""
+    def set_ready(self, held_s: float, accepted: Iterable[Any] = (), how: str = "") -> None:
+        """The start gate was reached (``accepted``: objects with ``electrode`` and
+        ``reason``); the first time is kept as ``ready``, every time is an event."""
+        kept = _accepted(accepted)
+        with self._lock:
+            self._check_open()
+            at = self._now()
+            if self._log.ready is None:
+                self._log.ready = ReadyRecord(at, float(held_s), kept, how)
+            detail = f"every scalp electrode good for {held_s:g} s"
+            if kept:
+                detail += "; accepted: " + "; ".join(f"{a.electrode} ({a.reason})" for a in kept)
+            self._log.events.append(Event(at, "ready", detail))
+            self._touch()
+        self._wake.set()
+
+    def sign_off(self, initials: str, exceptions: Iterable[Any] = ()) -> None:
+        """The technologist signs the setup off; saved at once (best effort).
+        ``exceptions``: the electrodes not good at this moment, each with a typed reason
+        (objects with ``electrode`` and ``reason``); a blank reason is refused."""
         initials = validate_initials(initials)
         if not initials:
             raise InputError("sign-off needs the technologist's initials, e.g. JMK")
+        kept = _accepted(exceptions)
         with self._lock:
             self._check_open()
-            self._log.sign_off = SignOff(self._now(), initials)
+            self._log.sign_off = SignOff(self._now(), initials, kept)
             if not self._log.technologist:
                 self._log.technologist = initials
             self._touch()
@@ -976,6 +997,16 @@ def _link_or_reserve_and_rename(old: Path, new: Path) -> bool:
     except OSError as exc:  # both names hold the log; the new one is written from now on
         log.warning("setup log: the old name %s could not be removed (%s)", old, exc.strerror)
     return True
+
+
+def _accepted(items: Iterable[Any]) -> tuple[AcceptedElectrode, ...]:
+    out = []
+    for item in items:
+        electrode, reason = str(item.electrode).strip(), " ".join(str(item.reason).split())
+        if not reason:
+            raise InputError(f"{electrode}: give a reason for accepting it as it is (e.g. 'scalp lesion')")
+        out.append(AcceptedElectrode(validate_electrode(electrode), reason))
+    return tuple(out)
 
 
 def _mains_hz(value: Any) -> float | None:

@@ -4,7 +4,11 @@ Every command that reads a stream selects it the same way (``--stream NAME``,
 ``--source-id ID``, ``--host HOST``): :func:`select_stream` keeps the candidates that
 match every given criterion; exactly one must remain. With several and nothing to tell
 them apart it raises :class:`AmbiguousStream` listing them (two beds side by side both
-publish EEG); with none, :class:`StreamNotFound` saying what was visible.
+publish EEG); with none, :class:`StreamNotFound` saying what was visible. Outlets
+that are equal in name, type, source_id and host (two copies of one acquisition program
+on a computer) are never collapsed into one: each outlet is listed (its uid and start
+time tell them apart), and selecting among them is :class:`IndistinguishableStreams`
+(the app offers its picker, which opens the chosen outlet by uid).
 """
 
 from __future__ import annotations
@@ -14,7 +18,12 @@ import time
 from collections.abc import Sequence
 from typing import Any
 
-from bedside.errors import AmbiguousStream, StreamFormatError, StreamNotFound
+from bedside.errors import (
+    AmbiguousStream,
+    IndistinguishableStreams,
+    StreamFormatError,
+    StreamNotFound,
+)
 from bedside.stream.lsl import pylsl
 from bedside.stream.settings import StreamSettings, load_stream_settings
 from bedside.stream.types import StreamIdentity
@@ -23,7 +32,18 @@ log = logging.getLogger("bedside")
 
 
 def identity_of(info: Any) -> StreamIdentity:
-    """A pylsl StreamInfo as a StreamIdentity."""
+    """A pylsl StreamInfo as a StreamIdentity (with the outlet's uid and start time)."""
+    started = 0.0
+    try:
+        created = float(info.created_at())
+        if created > 0:
+            started = time.time() - (pylsl().local_clock() - created)
+    except (AttributeError, RuntimeError, TypeError, ValueError):
+        started = 0.0
+    try:
+        uid = str(info.uid())
+    except (AttributeError, RuntimeError):
+        uid = ""
     return StreamIdentity(
         name=info.name(),
         type=info.type(),
@@ -31,7 +51,19 @@ def identity_of(info: Any) -> StreamIdentity:
         hostname=info.hostname(),
         n_channels=int(info.channel_count()),
         nominal_rate_hz=float(info.nominal_srate()),
+        uid=uid,
+        started_wall=started,
     )
+
+
+def outlet_words(identity: StreamIdentity) -> str:
+    """What tells one outlet from an equal one: "outlet 3f2a9c1e…, started 14:02:11"."""
+    parts = []
+    if identity.uid:
+        parts.append(f"outlet {identity.uid[:8]}…")
+    if identity.started_wall > 0:
+        parts.append("started " + time.strftime("%H:%M:%S", time.localtime(identity.started_wall)))
+    return ", ".join(parts)
 
 
 def describe(identity: StreamIdentity) -> str:
@@ -58,7 +90,12 @@ def visible_streams(
     if wait > wait_s:
         log.debug("LSL: looking for %.1f s rather than %.1f s (discovery_min_wait_s)", wait, wait_s)
     infos = pylsl().resolve_streams(wait_time=wait)
-    found = sorted({identity_of(i) for i in infos}, key=lambda s: (s.name, s.hostname, s.source_id))
+    # One entry per outlet (by uid): equal outlets are kept apart, never collapsed.
+    outlets: dict[object, StreamIdentity] = {}
+    for info in infos:
+        ident = identity_of(info)
+        outlets.setdefault(ident.uid or ident, ident)
+    found = sorted(outlets.values(), key=lambda s: (s.name, s.hostname, s.source_id, s.started_wall))
     log.debug("LSL: %d streams visible", len(found))
     return found
 
@@ -147,7 +184,22 @@ def select_stream(
             )
         listing = "\n".join("  " + describe(c) for c in candidates)
         raise StreamNotFound(f"no EEG stream matches {asked}; visible:\n{listing}")
-    listing = "\n".join("  " + describe(c) for c in matches)
+    twins = [c for c in matches if matches.count(c) > 1]
+    if len(twins) == len(matches):
+        listing = "\n".join(f"  {describe(c)} — {outlet_words(c) or 'no uid'}" for c in matches)
+        raise IndistinguishableStreams(
+            f"{len(matches)} EEG streams match{(' ' + asked) if asked else ''} and cannot be told "
+            "apart: the same name, type, source_id and host (two copies of one acquisition "
+            "program on this computer do this). No option can pin one, and bedside will not "
+            "read one of them at random. Close one copy, or give each its own source_id in the "
+            f"sending program, then look again (the app's picker can open one outlet):\n{listing}",
+            tuple(matches),
+        )
+    listing = "\n".join(
+        "  " + describe(c) + (" — cannot be told apart from another outlet; pin the other stream or close a copy"
+                              if c in twins else "")
+        for c in matches
+    )
     how = "--source-id" if len({c.source_id for c in matches}) == len(matches) else "--host"
     raise AmbiguousStream(
         f"{len(matches)} EEG streams match{(' ' + asked) if asked else ''}; bedside will not "

@@ -195,7 +195,12 @@ class LslSource:
         if identity.hostname:
             pred += f" and hostname={_quote(identity.hostname)}"
         try:
-            found = mod.resolve_bypred(pred, 1, s.open_timeout_s)
+            found = []
+            if identity.uid:  # one outlet chosen among equal ones (the app's picker)
+                found = mod.resolve_bypred(f"{pred} and uid={_quote(identity.uid)}", 1,
+                                           min(1.0, s.open_timeout_s))
+            if not found:
+                found = mod.resolve_bypred(pred, 1, s.open_timeout_s)
         except RuntimeError as exc:
             raise translate(exc, f"looking for {describe(identity)}") from exc
         if not found:

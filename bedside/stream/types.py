@@ -10,7 +10,12 @@ import numpy as np
 
 @dataclass(frozen=True)
 class StreamIdentity:
-    """Who a stream is: enough to pin it and to tell two beds apart."""
+    """Who a stream is: enough to pin it and to tell two beds apart.
+
+    uid and started_wall (time.time() when the outlet was made, 0 when not known) name
+    one outlet; they take no part in ``==``: two outlets equal in everything else cannot
+    be told apart by the user (two copies of one acquisition program on a computer), and
+    :func:`bedside.stream.discovery.select_stream` refuses them."""
 
     name: str
     type: str
@@ -18,6 +23,8 @@ class StreamIdentity:
     hostname: str
     n_channels: int
     nominal_rate_hz: float
+    uid: str = field(default="", compare=False)
+    started_wall: float = field(default=0.0, compare=False)
 
     def as_dict(self) -> dict[str, object]:
         return {

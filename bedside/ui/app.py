@@ -21,8 +21,9 @@ from textual.app import App, ScreenStackError
 from textual.binding import Binding
 from textual.message import Message
 
+from bedside.checks.ready import Cues, ReadyGate, ReadyState
 from bedside.checks.types import QualityFrame
-from bedside.errors import AmbiguousStream, BedsideError, StreamNotFound
+from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStreams, StreamNotFound
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
 from bedside.stream.source import Source
@@ -48,6 +49,9 @@ VIEW_TITLE = {"measure": "Measure", "watch": "Watch", "log": "Log"}
 #: many polls an open picker keeps listening (10 min) before its list stays as it is.
 LOOK_POLL_S = 0.2
 LOOK_MAX_POLLS = 3000
+#: The picker's title when the streams are equal in name, type, source_id and host.
+TWINS_NOTE = ("These streams cannot be told apart (same name, type, source_id and host: two copies "
+              "of one program?) — choose the outlet for this bed, or close a copy")
 
 
 class StreamsFound(Message):
@@ -150,6 +154,12 @@ class BedsideApp(App[int]):
         self.latest_frame: QualityFrame | None = None
         self.progress: Progress | None = None
         self.tracker = GoodTracker()
+        # The start gate (bedside.checks.ready, the same as check --until-good) and the
+        # sound cue; both start again with every connection.
+        self.ready_gate = ReadyGate(self.config.ready_hold_s)
+        self.ready_state: ReadyState | None = None
+        self.cues = Cues()
+        self.bell_on = self.config.bell
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
         #: Scalp channels with neither a position nor a 10-20/10-10 name (not on the map).
@@ -348,7 +358,8 @@ class BedsideApp(App[int]):
                     cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
                     shown = (cands, settled)
                     # The picker says it in the app's terms (the error's text names command options).
-                    self.post_message(StreamsFound(cands, True, None, "", not settled, done))
+                    note = TWINS_NOTE if isinstance(exc, IndistinguishableStreams) else ""
+                    self.post_message(StreamsFound(cands, True, None, note, not settled, done))
                 except StreamNotFound as exc:
                     if settled:
                         self.post_message(StreamsFound(found, False, None, f"{exc} — press r to look again",
@@ -419,6 +430,7 @@ class BedsideApp(App[int]):
 
     def _forget_frames(self) -> None:
         self.tracker.reset()
+        self.ready_gate, self.ready_state, self.cues = ReadyGate(self.config.ready_hold_s), None, Cues()
         self.latest_frame, self.progress = None, None
         self._last_frame_at = None
         self._connected_at = time.monotonic()
@@ -592,9 +604,26 @@ class BedsideApp(App[int]):
         self._last_frame_at = time.monotonic()
         self._shown_stalled = False
         self.progress = self.tracker.update(frame)
+        self._judge_ready(frame)
         self._update_subtitle()
         if self.current_view == "watch":
             self.views["watch"].show_frame(frame, self.progress, live=self.is_live())
+
+    def _judge_ready(self, frame: QualityFrame) -> None:
+        """The start gate on the frame's own clock; the log gets the first ready time;
+        the bell (when on) rings for ready and for a new fault."""
+        t = frame.wall_time if frame.wall_time > 0 else time.time()
+        was = self.ready_gate.ready_at_s
+        state = self.ready_state = self.ready_gate.update(frame, t)
+        if was is None and state.ready and self.recorder is not None:
+            self.recorder.submit("set_ready", (state.hold_s, state.accepted, "app"), self._log_done("ready"))
+        if self.cues.update(frame, state) and self.bell_on:
+            self.bell()
+
+    def toggle_bell(self) -> None:
+        self.bell_on = not self.bell_on
+        self.notify("sound cue on: a bell when ready and when a new fault appears" if self.bell_on
+                    else "sound cue off", timeout=3)
 
     def show_frame(self, frame: QualityFrame) -> None:
         """Show a frame as if the monitor had sent it (tests, replays)."""

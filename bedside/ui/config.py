@@ -23,7 +23,10 @@ class AppConfig:
     connects whose channels were not confirmed before (for its source_id), open the
     channels screen on Watch so the technologist confirms or changes what bedside
     inferred (``bedside watch`` and ``bedside demo`` turn it on; off by default so an
-    embedding or a test sees Watch as it is).
+    embedding or a test sees Watch as it is). ready_hold_s: the start gate's hold —
+    every scalp electrode good for this many consecutive seconds is "ready to record"
+    (Watch counts down; ``--until-good``). bell: ring the terminal bell when ready is
+    reached and when a new fault appears (``--bell``; ``b`` on Watch toggles it).
     """
 
     system: str = "10-20"
@@ -48,5 +51,7 @@ class AppConfig:
     stale_after_s: float = 2.5
     discover: bool = True
     confirm_channels: bool = False
+    ready_hold_s: float = 10.0
+    bell: bool = False
     export_dir: Path = field(default_factory=Path.cwd)
     title: str = "bedside"

@@ -202,6 +202,8 @@ class MemoryRecorder:
     plan: Any = None
     taped: Any = None
     stream: Any = None
+    exceptions: tuple[Any, ...] = ()
+    ready: list[tuple[float, tuple[Any, ...], str]] = field(default_factory=list)
 
     def set_plan(self, plan: Any, taped: Any = None) -> None:
         self.plan = plan
@@ -227,8 +229,12 @@ class MemoryRecorder:
     def set_subject(self, subject_id: str, rename_file: bool = False) -> None:
         self.subject_id = subject_id
 
-    def sign_off(self, initials: str) -> None:
+    def sign_off(self, initials: str, exceptions: Any = ()) -> None:
         self.signed = initials
+        self.exceptions = tuple(exceptions)
+
+    def set_ready(self, held_s: float, accepted: Any = (), how: str = "") -> None:
+        self.ready.append((held_s, tuple(accepted), how))
 
     def save_now(self) -> None:
         self.saves += 1

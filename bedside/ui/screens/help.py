@@ -32,6 +32,7 @@ KEYS = (
         ("v", "trace as recorded → average reference → bipolar"),
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
+        ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
     )),
     ("Channels", (
         ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
@@ -40,7 +41,7 @@ KEYS = (
     )),
     ("Log", (
         ("Enter", "in 'note': add the note; in 'kΩ': record the impedance"),
-        ("ctrl+o", "sign off (needs initials)"),
+        ("ctrl+o", "sign off (needs initials; a reason for each electrode not good)"),
     )),
 )
 

@@ -21,7 +21,9 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Button, DataTable, Footer, Header, Input, Label, Static
 
+from bedside.checks.ready import Accepted, not_good_electrodes
 from bedside.errors import BedsideError
+from bedside.ui.screens.sign_off import SignOffReasons
 
 if TYPE_CHECKING:
     from bedside.ui.app import BedsideApp
@@ -277,8 +279,24 @@ class LogScreen(Screen[None]):
             self._say("✖ sign-off needs the technologist's initials", "bold red")
             self.query_one("#tech", Input).focus()
             return
+        frame = self.bedside.latest_frame
+        not_good = not_good_electrodes(frame) if frame is not None else ()
+        if not_good:  # refused unless each one gets a typed reason
+            why = {c.name: (c.reasons[0] if c.reasons else c.level_key) for c in frame.channels}  # type: ignore[union-attr]
+            self.app.push_screen(SignOffReasons([(n, why.get(n, "not good")) for n in not_good]),
+                                 self._signed_with_reasons)
+            return
+        self._sign_off(())
+
+    def _signed_with_reasons(self, exceptions: tuple[Accepted, ...] | None) -> None:
+        if exceptions is None:
+            self._say("✖ not signed off: electrodes are not good and no reason was given for each", "bold red")
+            return
+        self._sign_off(exceptions)
+
+    def _sign_off(self, exceptions: tuple[Accepted, ...]) -> None:
         self._push_identity()
-        self._call("signed off", "sign_off", self.query_one("#tech", Input).value.strip())
+        self._call("signed off", "sign_off", self.query_one("#tech", Input).value.strip(), exceptions)
         self._call("saved", "save_now")
 
     def action_leave_field(self) -> None:

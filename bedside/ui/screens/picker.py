@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import time
+
 from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -18,6 +20,10 @@ def describe(identity: StreamIdentity) -> Text:
     out.append(identity.name, style="bold")
     out.append(f"  {identity.type}, {identity.n_channels} ch at {identity.nominal_rate_hz:g} Hz")
     out.append(f"\n  from {identity.hostname or '?'}, id {identity.source_id or '—'}", style="grey62")
+    if identity.uid:  # equal outlets (two copies of one program) differ only here
+        started = (", started " + time.strftime("%H:%M:%S", time.localtime(identity.started_wall))
+                   if identity.started_wall > 0 else "")
+        out.append(f"\n  outlet {identity.uid[:8]}…{started}", style="grey62")
     return out
 
 

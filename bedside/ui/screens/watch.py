@@ -24,6 +24,7 @@ from bedside.ui.progress import Progress
 from bedside.ui.widgets.channel_table import ChannelTable
 from bedside.ui.widgets.findings import Findings, ProgressLine
 from bedside.ui.widgets.head_map import Bridge, HeadMap
+from bedside.ui.widgets.ready_line import ReadyLine
 from bedside.ui.widgets.stream_status import StreamStatus
 from bedside.ui.widgets.trace_view import TraceRequest, TraceView
 
@@ -56,6 +57,7 @@ class WatchScreen(Screen[None]):
         Binding("c", "channels", "Channels"),
         Binding("p", "pick_stream", "Streams"),
         Binding("r", "rescan", "Look again", show=False),
+        Binding("b", "toggle_bell", "Bell", show=False),
     ]
 
     def __init__(self) -> None:
@@ -80,6 +82,7 @@ class WatchScreen(Screen[None]):
         yield TraceView(id="trace-view")
         yield Findings(id="findings")
         yield ProgressLine(id="progress")
+        yield ReadyLine(id="ready-line")
         yield Footer()
 
     def on_mount(self) -> None:
@@ -148,6 +151,7 @@ class WatchScreen(Screen[None]):
         self.query_one(HeadMap).show(levels, live=live, bridges=bridges if live else (), selected=self.selected)
         self._show_findings()
         self.query_one(ProgressLine).show(progress)
+        self.query_one(ReadyLine).show(self.bedside.ready_state, live)
         self.refresh_status()
 
     @while_mounted
@@ -225,6 +229,9 @@ class WatchScreen(Screen[None]):
 
     def action_pick_stream(self) -> None:
         self.bedside.discover(force_picker=True)
+
+    def action_toggle_bell(self) -> None:
+        self.bedside.toggle_bell()
 
     def action_rescan(self) -> None:
         self.bedside.discover(force_picker=False)
