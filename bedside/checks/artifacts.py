@@ -121,7 +121,7 @@ def muscle(spec: Spectrum, ctx: Context, settings: QualitySettings) -> CheckResu
 def amplitude(stats: WindowStats, ctx: Context, settings: QualitySettings) -> CheckResult:
     a = settings.artifacts
     rms = stats.rms_uv
-    level = levels_from(rms, a.rms_check_uv, a.rms_bad_uv)
+    level = levels_from(rms, a.rms_check_uv, a.rms_bad_uv, rule="amplitude.rms", margins=ctx.margins)
     z = robust_z(rms, ctx.valid)
     deviant = (z > a.deviation_z) & (rms >= a.deviation_min_rms_uv)
     level[deviant & (level == GOOD)] = CHECK

@@ -28,7 +28,8 @@ class Context:
     neighbours: index pairs (i, j), i < j; rate_hz: the analysis copy's rate (the
     rate of the time-domain statistics); amplifier_range_uv: ±range when known;
     mains_hz: the mains frequency in use (None while not yet detected); coupling:
-    the amplifier's ("ac", "dc"; None: unknown).
+    the amplifier's ("ac", "dc"; None: unknown); margins: the engine's hysteresis
+    memory (levels_from's ``rule``/``margins``; None: no hysteresis).
     """
 
     names: tuple[str, ...]
@@ -40,6 +41,7 @@ class Context:
     amplifier_range_uv: float | None = None
     mains_hz: float | None = None
     coupling: str | None = None
+    margins: Margins | None = None
 
 
 @dataclass(frozen=True)
@@ -59,11 +61,36 @@ class CheckResult:
     findings: tuple[Finding, ...] = ()
 
 
-def levels_from(value: np.ndarray, check_at: float, bad_at: float, *, below: bool = False) -> np.ndarray:
-    """0/1/2 per channel: value at/over ``check_at`` → 1, at/over ``bad_at`` → 2.
+class Margins:
+    """Hysteresis with a margin: the levels each named rule gave at the last evaluation,
+    so that a level, once reached, is left only when the value is clear of its threshold
+    by ``fraction`` of it (``db`` for a rule in dB) — a steady fault whose estimate
+    wavers around a threshold keeps one verdict. The engine owns one, hands it to the
+    checks in the Context, and commits what they kept after each evaluation (a rule not
+    evaluated this time keeps its last levels)."""
 
-    With ``below=True`` the test is reversed (value at/under the limit). NaN → 0.
-    """
+    def __init__(self, fraction: float, db: float) -> None:
+        self.fraction, self.db = float(fraction), float(db)
+        self._previous: dict[str, np.ndarray] = {}
+        self._new: dict[str, np.ndarray] = {}
+
+    def previous(self, rule: str, shape: tuple[int, ...]) -> np.ndarray | None:
+        got = self._previous.get(rule)
+        return got if got is not None and got.shape == shape else None
+
+    def keep(self, rule: str, levels: np.ndarray) -> None:
+        self._new[rule] = levels
+
+    def commit(self) -> None:
+        self._previous.update(self._new)
+        self._new = {}
+
+    def reset(self) -> None:
+        self._previous.clear()
+        self._new.clear()
+
+
+def _levels(value: np.ndarray, check_at: float, bad_at: float, below: bool) -> np.ndarray:
     with np.errstate(invalid="ignore"):
         if below:
             check, bad = value <= check_at, value <= bad_at
@@ -72,6 +99,31 @@ def levels_from(value: np.ndarray, check_at: float, bad_at: float, *, below: boo
     out = np.zeros(value.shape, dtype=np.int8)
     out[check] = CHECK
     out[bad] = BAD
+    return out
+
+
+def levels_from(value: np.ndarray, check_at: float, bad_at: float, *, below: bool = False,
+                rule: str | None = None, margins: Margins | None = None, db: bool = False) -> np.ndarray:
+    """0/1/2 per channel: value at/over ``check_at`` → 1, at/over ``bad_at`` → 2.
+
+    With ``below=True`` the test is reversed (value at/under the limit). NaN → 0.
+    With a ``rule`` name and ``margins``: a channel whose level for this rule was higher
+    at the last evaluation keeps it (at most) while the value has not cleared the
+    threshold by the margin — ``margins.fraction`` of the threshold, or ``margins.db``
+    for a value in dB (``db=True``).
+    """
+    out = _levels(value, check_at, bad_at, below)
+    if rule is None or margins is None:
+        return out
+    prev = margins.previous(rule, out.shape)
+    if prev is not None and (prev > out).any():
+        def eased(t: float) -> float:
+            m = margins.db if db else margins.fraction * abs(t)
+            return t + m if below else t - m
+
+        held = _levels(value, eased(check_at), eased(bad_at), below)
+        out = np.where(prev > out, np.minimum(prev, np.maximum(held, out)), out).astype(np.int8)
+    margins.keep(rule, out)
     return out
 
 

@@ -72,7 +72,7 @@ def evaluate(history: Sequence[np.ndarray], ctx: Context, settings: QualitySetti
     current = history[-1]
     with np.errstate(invalid="ignore"):
         lowest = np.fmin.reduce(np.vstack(history), axis=0)
-    level = levels_from(lowest, cs.check_below, cs.bad_below, below=True)
+    level = levels_from(lowest, cs.check_below, cs.bad_below, below=True, rule="correlation", margins=ctx.margins)
     level[np.isnan(lowest) | ~ctx.valid] = GOOD
     judged = ~np.isnan(current)
     median = float(np.median(current[judged])) if judged.any() else float("nan")

@@ -44,8 +44,9 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
     slope = slope_uv_per_s(stats.block_times_s, means)
     slow = means.std(axis=0)
     level = np.maximum(
-        levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s),
-        levels_from(slow, ds.slow_check_uv, ds.slow_bad_uv),
+        levels_from(np.abs(slope), ds.slope_check_uv_per_s, ds.slope_bad_uv_per_s,
+                    rule="drift.slope", margins=ctx.margins),
+        levels_from(slow, ds.slow_check_uv, ds.slow_bad_uv, rule="drift.slow", margins=ctx.margins),
     )
     metrics = {"drift_uv_per_s": slope, "slow_uv": slow, "offset_uv": stats.mean_uv}
     offset_level = np.zeros_like(level)

@@ -45,7 +45,7 @@ from bedside.checks import (
     reference,
 )
 from bedside.checks.analysis import AnalysisCopy
-from bedside.checks.base import BAD, GOOD, CheckResult, Context
+from bedside.checks.base import BAD, GOOD, CheckResult, Context, Margins
 from bedside.checks.levels import FindingHold, LevelHold, combine
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import SpectralAccumulator, Spectrum
@@ -229,6 +229,7 @@ class Engine:
         )
         self._check_proto: dict[tuple[str, ...], dict[int, Mapping[str, str]]] = {}
         self._metric_index: dict[tuple[str, ...], dict[str, int]] = {}
+        self._margins = Margins(settings.hold.margin_fraction, settings.hold.margin_db)
         self._channel_range = range(c)
         self._corr_hist: tuple[tuple[int, bytes, bytes], list[np.ndarray]] | None = None
         self._spec_gen = 0  # bumped by reset(): segment counts restart
@@ -314,6 +315,7 @@ class Engine:
         self._bridge.reset()
         self._corr_cache.clear()
         self._corr_hist = None
+        self._margins.reset()
         self._taint_hop[:] = -(10**9)
         self._hold.reset()
         self._fhold.reset()
@@ -381,6 +383,7 @@ class Engine:
             recent_blocks = max(1, round(self.settings.flat.flat_s / self.settings.block_s))
             recent = self._spec.recent(self._recent_segments()) or spec
             self._cache = self._compute(self._blocks.stats(recent_blocks, self._raw), spec, recent)
+            self._margins.commit()
             self._cache_key = key
         raw, reasons, per_check, metrics, findings = self._cache
         now = self.data_time_s
@@ -475,7 +478,7 @@ class Engine:
         # Flat first, evaluated on every channel (non-scalp ones too: the light check).
         all_ctx = Context(
             self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling,
+            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling, self._margins,
         )
         flat_res = flat.evaluate(stats, all_ctx, s)
         valid = self.scalp & finite & (flat_res.level < BAD)
@@ -491,7 +494,7 @@ class Engine:
                 log.info("mains frequency detected: %g Hz", found)
         ctx = Context(
             self.names, self.scalp, valid, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling,
+            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling, self._margins,
         )
         memo_key = (*spec_key, self._mains_hz)
         if self._spectral is None or self._spectral[0] != memo_key:

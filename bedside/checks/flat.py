@@ -25,7 +25,7 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
     # Judged on the newest data (flat_s) so a lead that falls off shows within a second.
     ptp = stats.recent_ptp_uv
     zero = stats.recent_zero_diff_fraction
-    level = levels_from(ptp, fs.ptp_check_uv, fs.ptp_bad_uv, below=True)
+    level = levels_from(ptp, fs.ptp_check_uv, fs.ptp_bad_uv, below=True, rule="flat.ptp", margins=ctx.margins)
     constant = zero >= fs.zero_diff_bad_fraction
     level[constant] = BAD
     rail = np.zeros(ptp.shape, dtype=bool)

@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import CHECK, GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import GOOD, CheckResult, Context, levels_from
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum, band_index
 
@@ -128,9 +128,11 @@ def evaluate(recent: Spectrum, ctx: Context, settings: QualitySettings,
     median = float(np.median(steady[valid])) if valid.any() else float("nan")
     with np.errstate(invalid="ignore", divide="ignore"):
         vs_median = steady / max(median, ln.median_floor_uv)
-    imbalance = np.where((vs_median >= ln.imbalance_ratio) & (steady >= ln.imbalance_min_uv), CHECK, GOOD)
-    absolute = levels_from(amp, ln.check_uv, ln.bad_uv)
-    ratio = levels_from(db, ln.check_db, ln.bad_db)
+    big_enough = levels_from(steady, ln.imbalance_min_uv, np.inf, rule="line_noise.imbalance_uv", margins=ctx.margins)
+    far = levels_from(vs_median, ln.imbalance_ratio, np.inf, rule="line_noise.imbalance", margins=ctx.margins)
+    imbalance = np.minimum(big_enough, far).astype(np.int8)
+    absolute = levels_from(amp, ln.check_uv, ln.bad_uv, rule="line_noise.absolute", margins=ctx.margins)
+    ratio = levels_from(db, ln.check_db, ln.bad_db, rule="line_noise.ratio", margins=ctx.margins, db=True)
     ratio[amp < ln.ratio_min_uv] = GOOD
     level = np.maximum(np.maximum(absolute, imbalance), ratio).astype(np.int8)
     level[~ctx.valid] = GOOD  # flat or broken channels: no mains to speak of

@@ -55,6 +55,8 @@ class HoldSettings:
     confirm_updates: int = field(default=1, metadata=_rng(1, 20))
     relapse_window_s: float = field(default=10.0, metadata=_rng(0.0, 300.0))
     relapse_hold_s: float = field(default=10.0, metadata=_rng(0.0, 300.0))
+    margin_fraction: float = field(default=0.3, metadata=_rng(0.0, 0.9))
+    margin_db: float = field(default=2.0, metadata=_rng(0.0, 20.0))
 
 
 @dataclass(frozen=True)

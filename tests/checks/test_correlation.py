@@ -26,7 +26,7 @@ def test_metric_is_the_98th_percentile_of_abs_r_with_the_others(c: int) -> None:
     x = rng.normal(size=(400, c))
     x = x + np.roll(x, 1, axis=1)
     xc = x - x.mean(axis=0)
-    ctx = SimpleNamespace(names=tuple(map(str, range(c))), valid=np.ones(c, dtype=bool))
+    ctx = SimpleNamespace(names=tuple(map(str, range(c))), valid=np.ones(c, dtype=bool), margins=None)
     got = correlation.corr_98(xc.T @ xc, ctx.valid, load_quality())
     res = correlation.evaluate([got], ctx, load_quality())  # type: ignore[arg-type]
     np.testing.assert_array_equal(res.metrics["corr_98"], got)
@@ -55,7 +55,7 @@ def test_eeg_053_is_unlike_every_other_lead_and_no_other_is() -> None:
 
 
 def test_too_few_leads_to_compare_is_no_verdict() -> None:
-    ctx = SimpleNamespace(names=("a", "b", "c"), valid=np.ones(3, dtype=bool))
+    ctx = SimpleNamespace(names=("a", "b", "c"), valid=np.ones(3, dtype=bool), margins=None)
     few = correlation.corr_98(np.eye(3), ctx.valid, load_quality())
     res = correlation.evaluate([few], ctx, load_quality())  # type: ignore[arg-type]
     assert (res.level == 0).all() and np.isnan(res.metrics["corr_98"]).all()
@@ -66,7 +66,7 @@ def test_too_few_leads_to_compare_is_no_verdict() -> None:
 def test_judged_by_the_lowest_of_the_newest_windows() -> None:
     """PREP: bad when below the threshold in more than 1 % of the windows; live: in any of
     the newest ``windows``."""
-    ctx = SimpleNamespace(names=("a", "b"), valid=np.ones(2, dtype=bool))
+    ctx = SimpleNamespace(names=("a", "b"), valid=np.ones(2, dtype=bool), margins=None)
     hist = [np.array([0.9, 0.9]), np.array([0.3, 0.9]), np.array([0.9, 0.95])]
     res = correlation.evaluate(hist, ctx, load_quality())  # type: ignore[arg-type]
     assert res.level.tolist() == [1, 0]

@@ -176,7 +176,9 @@ def test_independent_drifts_are_each_electrodes_own_and_a_shared_one_is_the_refe
     shared[on:] -= (200.0 * t + 150.0 * np.sin(2 * np.pi * 0.2 * t))[:, None]  # x_i = s_i − r
     r2 = run(make_engine(sub), shared)
     found = [f for tt, fr in r2.judged() if tt > ONSET_S + SLOW_S for f in fr.findings if f.kind == "reference"]
-    assert found and "drift" in found[-1].reason
+    # The shared drift is the reference's (its RMS over the window may be shared "high
+    # amplitude" too, one more reference finding of the same waveform).
+    assert found and any("drift" in f.reason for f in found[-2:])
 
 
 def _ten_twenty(rec: real_eeg.Recording, seconds: float) -> real_eeg.Recording:
