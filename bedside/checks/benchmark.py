@@ -58,7 +58,41 @@ TARGETS = {
     "clear_s": 5.0,
     "rss_growth_mb": 20.0,
     "ui_frame_ms": 50.0,  # one frame applied and refreshed at 256 channels, headless
+    "ward_core_share": 0.25,  # 8 beds of 64 channels at 1 kHz in one process
 }
+
+
+def ward_share(streams: int = 8, n_channels: int = 64, rate_hz: float = 1000.0, seconds: float = 20.0,
+               settings: QualitySettings | None = None) -> dict[str, Any]:
+    """A ward of ``streams`` beds in one process (``bedside ward``): one engine each on
+    its own benchmark data, fed update by update in turn as the monitors feed them, and
+    each bed's summary built from its frame (bedside.ward.summarise) — the checks' part
+    of the ward's cost. core_share = CPU seconds / simulated seconds (one thread). The
+    LSL pull of each bed's samples is not in it (liblsl's own threads)."""
+    from bedside.stream.types import StreamIdentity
+    from bedside.ward import summarise
+
+    settings = settings or load_quality()
+    rng = np.random.default_rng(7)
+    names = [f"E{i + 1}" for i in range(n_channels)]
+    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
+    step = int(round(rate_hz / settings.update_hz))
+    n_updates = int(seconds * settings.update_hz)
+    beds = []
+    for b in range(streams):
+        engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
+        data = _eeg_like(rng, min(n_updates, 40) * step, n_channels, rate_hz)
+        ident = StreamIdentity(f"bed-{b + 1}", "EEG", f"sid-{b + 1}", "bench", n_channels, rate_hz)
+        beds.append((engine, data, ident))
+    t0 = _clock()
+    for k in range(n_updates):
+        for engine, data, ident in beds:
+            j = k % (len(data) // step)
+            engine.push(data[j * step : (j + 1) * step])
+            summarise(ident, engine.evaluate(), "live")
+    cpu = _clock() - t0
+    return {"streams": streams, "channels": n_channels, "rate_hz": rate_hz, "simulated_s": seconds,
+            "cpu_s": cpu, "core_share": cpu / seconds}
 
 
 def _grid_neighbours(names: list[str]) -> list[tuple[str, str]]:

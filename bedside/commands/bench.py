@@ -165,12 +165,14 @@ def measure(quick: bool) -> dict[str, Any]:
         latency_scenario_path,
         memory_run,
         speed_table,
+        ward_share,
     )
 
     speed = speed_table(quick=quick)
     with tempfile.TemporaryDirectory() as tmp:
         latency = fault_latency(latency_scenario_path(Path(tmp)))
     memory = memory_run(600.0 if quick else 3600.0)
+    ward = ward_share(seconds=10.0 if quick else 30.0)
     try:
         ui: dict[str, Any] | None = ui_frame(quick)
     except ImportError as exc:  # the UI's packages are not installed: the rest still counts
@@ -179,7 +181,7 @@ def measure(quick: bool) -> dict[str, Any]:
     import scipy
 
     return {"machine": {**machine(), "numpy": np.__version__, "scipy": scipy.__version__},
-            "quick": quick, "speed": speed, "latency": latency, "memory": memory, "ui": ui,
+            "quick": quick, "speed": speed, "latency": latency, "memory": memory, "ui": ui, "ward": ward,
             "targets": TARGETS}
 
 
@@ -224,6 +226,11 @@ def as_table(report: dict[str, Any]) -> str:
               f"({mem['channels']} ch @ {mem['rate_hz']:.0f} Hz) in {mem['wall_s']:.1f} s "
               f"({mem['speedup']:.0f}× real time): RSS {mem['rss_after_60s_mb']:.1f} → {mem['rss_end_mb']:.1f} MB "
               f"(growth {mem['rss_growth_mb']:+.1f} MB; target ≤ {t['rss_growth_mb']} MB)"]
+    ward = report.get("ward")
+    if ward:
+        lines += ["", f"ward: {ward['streams']} beds of {ward['channels']} ch @ {ward['rate_hz']:.0f} Hz in one "
+                  f"process, checks and summaries: core_share {ward['core_share']:.3f} "
+                  f"(target ≤ {t.get('ward_core_share', 0.25)}; liblsl's pulling not included)"]
     ui = report.get("ui")
     if ui:
         lines += ["", f"UI: one frame applied and the screen refreshed, {ui['channels']} channels, headless "

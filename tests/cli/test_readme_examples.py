@@ -201,6 +201,10 @@ def test_readme_example_runs(example: str, stream: str, tmp_path: Path) -> None:
         # The ward demo has a bridge from the start: attention needed (exit 1), each channel named.
         assert done.returncode == 1, done.stderr
         assert "O1" in done.stdout and "Oz" in done.stdout
+    elif example.startswith("bedside ward"):
+        # The ward demo stream is one bed, with a bridge from the start: attention needed.
+        assert done.returncode == 1, done.stderr
+        assert stream in done.stdout
     elif example == "bedside streams":
         assert done.returncode == 0, done.stderr
         assert stream in done.stdout

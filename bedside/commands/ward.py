@@ -1,0 +1,82 @@
+"""``bedside ward``: every visible EEG stream judged at once, one line per bed.
+
+Headless: watch for ``--seconds`` (beds that appear meanwhile are taken in), then print
+each bed's state and counts (``--format json``: ``{"streams": [{name, source_id,
+hostname, state, n_scalp, good, check, bad, not_good, findings, note}]}``, the counts
+integers). Exit 0 when every bed is live with all its scalp electrodes good, 1 when a
+bed needs attention, was lost or refused, or no bed is visible; 2 on bad input.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import time
+
+from bedside.commands._common import positive_float
+
+NAME = "ward"
+ORDER = 36
+FORMATS = ("table", "json")
+#: A ward look this long at most (for longer, leave the app running).
+MAX_SECONDS = 3600.0
+
+
+def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    p = sub.add_parser(
+        NAME,
+        help="judge every visible EEG stream at once (a ward of beds), one line each",
+        description="Watch every EEG stream this computer can see, each with its own checks, "
+        "for a few seconds, and print one line per bed: its state (live, stale, lost), its "
+        "scalp electrodes good/check/bad and the worst finding. Streams that appear while "
+        "looking are taken in. bedside supports the technologist; it does not diagnose.",
+    )
+    p.add_argument("--seconds", metavar="S", type=positive_float("--seconds"), default=8.0,
+                   help=f"seconds to watch (default 8, at most {MAX_SECONDS:g})")
+    p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
+    p.set_defaults(func=run)
+
+
+def table(rows: list[dict[str, object]]) -> str:
+    head = ["bed (stream)", "host", "source_id", "state", "scalp", "good", "check", "bad", "worst"]
+    cells = []
+    for r in rows:
+        worst = str(r["note"] or (r["findings"][0] if r["findings"] else ""))  # type: ignore[index]
+        if not worst and (r["check"] or r["bad"]):
+            worst = "not good: " + ", ".join(r["not_good"][:6])  # type: ignore[index]
+        cells.append([str(r["name"]), str(r["hostname"]), str(r["source_id"]), str(r["state"]),
+                      str(r["n_scalp"]), str(r["good"]), str(r["check"]), str(r["bad"]), worst])
+    widths = [max(len(h), *(len(c[i]) for c in cells)) for i, h in enumerate(head)]
+    lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths, strict=True)).rstrip()]
+    lines += ["  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip() for row in cells]
+    return "\n".join(lines)
+
+
+def run(args: argparse.Namespace) -> int:
+    from bedside.errors import InputError
+    from bedside.stream.lsl import prepare_lsl
+    from bedside.ward import Ward
+
+    if args.seconds > MAX_SECONDS:
+        raise InputError(f"--seconds {args.seconds:g} is longer than a ward look takes; accepted: up to "
+                         f"{MAX_SECONDS:g} s (for longer, leave the app running)")
+    prepare_lsl()
+    ward = Ward()
+    try:
+        deadline = time.monotonic() + args.seconds
+        while time.monotonic() < deadline:
+            ward.poll()
+            time.sleep(min(0.25, max(0.0, deadline - time.monotonic())))
+        rows = [s.as_dict() for s in ward.poll()]
+    finally:
+        ward.close()
+    if args.format == "json":
+        print(json.dumps({"streams": rows}, indent=2, ensure_ascii=False))
+    elif rows:
+        print(table(rows))
+    if not rows:
+        print(f"no EEG streams visible (looked for {args.seconds:g} s)", file=sys.stderr)
+        return 1
+    fine = all(r["state"] == "live" and r["n_scalp"] and r["good"] == r["n_scalp"] for r in rows)
+    return 0 if fine else 1
