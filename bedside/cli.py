@@ -13,9 +13,11 @@ import argparse
 import contextlib
 import importlib
 import logging
+import os
 import pkgutil
 import signal
 import sys
+import threading
 import types
 from collections.abc import Sequence
 from typing import TYPE_CHECKING, NoReturn
@@ -130,6 +132,25 @@ def interrupted() -> int:
     return 130
 
 
+def _in_import(frame: types.FrameType | None) -> bool:
+    while frame is not None:
+        if frame.f_code.co_filename.startswith("<frozen importlib"):
+            return True
+        frame = frame.f_back
+    return False
+
+
+def _sigint_outside_imports(signum: int, frame: types.FrameType | None) -> None:
+    """Ctrl-C as a KeyboardInterrupt, but not while a module is being imported (the
+    reason above): then the signal is sent again 20 ms later, until the import is done."""
+    if _in_import(frame):
+        timer = threading.Timer(0.02, os.kill, (os.getpid(), signal.SIGINT))
+        timer.daemon = True
+        timer.start()
+        return
+    raise KeyboardInterrupt
+
+
 def _run(argv: Sequence[str] | None) -> int:
     # Building the parser imports every command (numpy, scipy…). Ctrl-C during those
     # imports is held until they finish: a KeyboardInterrupt raised inside an
@@ -140,7 +161,10 @@ def _run(argv: Sequence[str] | None) -> int:
     try:
         parser = build_parser()
     finally:
-        signal.signal(signal.SIGINT, previous)
+        # From here on, Ctrl-C is a KeyboardInterrupt except inside an import (commands
+        # import parts of SciPy when they first need them): there it is put off a moment.
+        signal.signal(signal.SIGINT, _sigint_outside_imports if previous is signal.default_int_handler
+                      else previous)
     if held:
         raise KeyboardInterrupt
     args = parser.parse_args(list(argv) if argv is not None else None)

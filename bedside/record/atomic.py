@@ -99,3 +99,31 @@ def atomic_write_text(path: Path | str, text: str, *, mode: int = FILE_MODE) -> 
         fh.write(data)
 
     return atomic_write(path, write, mode=mode)
+
+
+def append_durable(path: Path | str, data: bytes, at: int, *, mode: int = FILE_MODE) -> int:
+    """Write ``data`` at byte ``at`` of ``path`` — the end of what is known to be good —
+    cutting anything after it (what a failed earlier attempt left), and fsync: once this
+    returns, the bytes survive a power cut. Returns the new good length. A failure raises
+    :class:`LogSaveError` and cuts the file back to ``at`` where it can; a crash mid-write
+    leaves a partial last line, which bedside's journal reader ignores."""
+    path = Path(path)
+    try:
+        fd = os.open(path, os.O_WRONLY | os.O_CREAT, mode)
+    except OSError as exc:
+        raise LogSaveError(describe_os_error(exc, path)) from exc
+    try:
+        os.ftruncate(fd, at)
+        os.lseek(fd, at, os.SEEK_SET)
+        view = memoryview(data)
+        while view:
+            written = os.write(fd, view)
+            view = view[written:]
+        os.fsync(fd)
+    except OSError as exc:
+        with contextlib.suppress(OSError):
+            os.ftruncate(fd, at)
+        raise LogSaveError(describe_os_error(exc, path)) from exc
+    finally:
+        os.close(fd)
+    return at + len(data)

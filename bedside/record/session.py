@@ -52,7 +52,7 @@ from typing import Any
 from bedside import __version__
 from bedside.config import config_hash
 from bedside.errors import InputError, LogSaveError, RecordError
-from bedside.record.atomic import atomic_write_text, describe_os_error, fsync_folder
+from bedside.record.atomic import append_durable, atomic_write_text, describe_os_error, fsync_folder
 from bedside.record.ids import (
     validate_electrode,
     validate_impedance,
@@ -61,6 +61,7 @@ from bedside.record.ids import (
     validate_subject_id,
 )
 from bedside.record.log import (
+    FINAL_EVERY_S,
     FORMAT_NAME,
     FORMAT_VERSION,
     AcceptedElectrode,
@@ -69,6 +70,7 @@ from bedside.record.log import (
     Event,
     FindingChange,
     ImpedanceEntry,
+    JournalCursor,
     LevelChange,
     Note,
     PlanRecord,
@@ -78,8 +80,12 @@ from bedside.record.log import (
     StreamRecord,
     StreamSection,
     TapedMeasurements,
+    base_digest,
     dump_yaml,
-    parse_yaml,
+    journal_path,
+    journal_records,
+    journal_text,
+    parse_with_journal,
     shallow_copy,
     stamp,
     zone_name,
@@ -174,6 +180,12 @@ class SessionRecorder:
         self._io_lock = threading.Lock()  # one save at a time
         self._log = SetupLog()
         self._dump_cache = DumpCache()
+        # The journal beside the base file (bedside.record.log): None until a base has
+        # been written this session (the next save writes one).
+        self._cursor: JournalCursor | None = None
+        self._final_full_at = 0.0
+        self._journal_records = 0  # appended since the base
+        self._journal_size = 0  # bytes of the journal known to be on disk
         self._generation = 0
         self._saved_generation = -1
         self._last_saved: datetime | None = None
@@ -227,10 +239,9 @@ class SessionRecorder:
                 ) from exc
             _refuse_foreign_file(self._path, raw)
             try:
-                existing = parse_yaml(raw.decode("utf-8"), source=str(self._path))
-            except (RecordError, UnicodeDecodeError) as exc:
-                reason = str(exc) if isinstance(exc, RecordError) else f"{self._path}: not UTF-8 text"
-                self._aside_pending = reason
+                existing, _note = parse_with_journal(raw, self._path, source=str(self._path))
+            except RecordError as exc:
+                self._aside_pending = str(exc)
                 existing = None
         if existing is not None:
             self._resumed = True
@@ -300,6 +311,8 @@ class SessionRecorder:
         try:
             if self._path.exists():
                 os.rename(self._path, target)
+            if journal_path(self._path).exists():  # its journal goes with it
+                os.rename(journal_path(self._path), journal_path(target))
         except OSError as exc:
             raise LogSaveError(
                 f"{self._path} is unreadable and could not be moved aside "
@@ -619,7 +632,17 @@ class SessionRecorder:
             if target.name == old.name:
                 return old
             try:
+                # The whole log into the one file first (its journal folded in and
+                # removed), so the file that moves holds everything.
+                self._save_locked(compact=True)
                 new, lock_fd = self._move_to_free_name(old, target)
+            except LogSaveError as exc:
+                with self._lock:
+                    self._notice = f"the log keeps its name {old.name}: it could not be saved before renaming ({exc})"
+                    self._log.events.append(Event(self._now(), "log_rename_failed", self._notice))
+                    self._touch()
+                log.warning("setup log: %s", self._notice)
+                return old
             except OSError as exc:
                 with self._lock:
                     self._notice = (
@@ -754,35 +777,80 @@ class SessionRecorder:
         """Save at once; raises LogSaveError if it fails (the log stays in memory)."""
         self._save()
 
-    def _save(self) -> None:
+    def _save(self, compact: bool = False) -> None:
         with self._io_lock:
-            try:
-                self._acquire_file_lock(strict=False)
-                if self._aside_pending is not None:
-                    self._move_corrupt_aside()
-                # Copy under the lock (cheap: entries are frozen), render outside it, so
-                # on_frame never waits for a save.
+            self._save_locked(compact)
+
+    def _save_locked(self, compact: bool = False) -> None:
+        """One save (the caller holds _io_lock): the changes since the last save appended
+        to the journal (fsynced), or — at the first save, and with ``compact`` (close,
+        rename) — the whole log written as the base file, atomically, and the journal
+        started afresh (``compact``: removed)."""
+        try:
+            self._acquire_file_lock(strict=False)
+            if self._aside_pending is not None:
+                self._move_corrupt_aside()
+            if self._cursor is None or compact:
+                generation = self._write_base(keep_journal=not compact)
+            else:
+                # Under the lock only what changed is looked at; written outside it, so
+                # on_frame never waits for the disk.
                 with self._lock:
                     generation = self._generation
-                    view = shallow_copy(self._log)
-                text = dump_yaml(view, self._dump_cache)
-                atomic_write_text(self._path, text)
-            except LogSaveError as exc:
-                self._save_failed(str(exc))
-                raise
-            with self._lock:
-                self._saved_generation = max(self._saved_generation, generation)
-                self._last_saved = self._now()
-                self._saves += 1
-                if self._error is not None:
-                    log.warning(
-                        "setup log saved again to %s after %d failed attempt(s)", self._path, self._failed
+                    cursor = self._cursor.copy()
+                    full = self._clock() - self._final_full_at >= FINAL_EVERY_S
+                    records = journal_records(self._log, cursor, full_final=full)
+                    if records or self._generation != self._saved_generation:
+                        records.append({"saved": self._now().isoformat(timespec="milliseconds")})
+                if records:
+                    self._journal_size = append_durable(
+                        journal_path(self._path), journal_text(records).encode("utf-8"), self._journal_size
                     )
-                    self._log.events.append(
-                        Event(self._last_saved, "save_recovered", f"after: {self._error}")
-                    )
-                    self._error = None
-                    self._touch()  # the recovery event itself goes out on the next tick
+                self._cursor = cursor
+                self._journal_records += len(records)
+                if full:
+                    self._final_full_at = self._clock()
+        except LogSaveError as exc:
+            self._save_failed(str(exc))
+            raise
+        with self._lock:
+            self._saved_generation = max(self._saved_generation, generation)
+            self._last_saved = self._now()
+            self._saves += 1
+            if self._error is not None:
+                log.warning(
+                    "setup log saved again to %s after %d failed attempt(s)", self._path, self._failed
+                )
+                self._log.events.append(
+                    Event(self._last_saved, "save_recovered", f"after: {self._error}")
+                )
+                self._error = None
+                self._touch()  # the recovery event itself goes out on the next tick
+
+    def _write_base(self, keep_journal: bool) -> int:
+        """The whole log as the base file; then a fresh journal naming it (or, at close,
+        none). A crash between the two leaves the old journal beside a base that already
+        holds it: it names the old base, so it is never applied twice."""
+        with self._lock:
+            generation = self._generation
+            view = shallow_copy(self._log)
+        cursor = JournalCursor()
+        journal_records(view, cursor, full_final=True)  # what the base holds
+        text = dump_yaml(view, self._dump_cache)
+        data = text.encode("utf-8")
+        atomic_write_text(self._path, text)
+        journal = journal_path(self._path)
+        if keep_journal:
+            head = journal_text([{"base": base_digest(data), "log": self._path.name}])
+            atomic_write_text(journal, head)
+            self._journal_size = len(head.encode("utf-8"))
+        else:
+            with contextlib.suppress(FileNotFoundError):
+                journal.unlink()
+        self._cursor = cursor if keep_journal else None
+        self._final_full_at = self._clock()
+        self._journal_records = 0
+        return generation
 
     def _save_failed(self, message: str) -> None:
         with self._lock:
@@ -849,12 +917,14 @@ class SessionRecorder:
             # holding only its own opening would be mistaken for a setup that happened.
             with contextlib.suppress(FileNotFoundError):
                 self._path.unlink()
+            with contextlib.suppress(FileNotFoundError):
+                journal_path(self._path).unlink()
             self._discarded = True
             self._release_file_lock()
             log.info("setup log %s: nothing was recorded, no file kept", self._path)
             return
         try:
-            self._save()
+            self._save(compact=True)  # the whole log in one file again; no journal left
         except LogSaveError as exc:
             rescue = self._write_rescue_copy()
             where = f"a copy was written to {rescue}" if rescue else "no rescue copy could be written either"

@@ -178,7 +178,15 @@ def test_disk_full_or_read_only_is_reported_kept_and_retried(
             raise OSError(code, os.strerror(code))
         real_replace(src, dst)
 
+    real_fsync = os.fsync
+
+    def fsync(fd: int) -> None:  # the journal's appends meet the same disk
+        if failing.is_set():
+            raise OSError(code, os.strerror(code))
+        real_fsync(fd)
+
     monkeypatch.setattr(atomic.os, "replace", replace)
+    monkeypatch.setattr(atomic.os, "fsync", fsync)
     t = time.time()
     try:
         with caplog.at_level(logging.WARNING, logger="bedside"):

@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pytest
 
-from bedside.record.log import load_log
+from bedside.record.log import journal_path, load_log
 from bedside.record.session import AUTOSAVE_MAX_S
 
 pytestmark = [
@@ -68,7 +68,11 @@ def test_sigkill_of_the_app_leaves_a_log_that_parses(tmp_path: Path) -> None:
     assert saved.subject_id == "DEMO-009" and saved.stream is not None
     assert len(saved.timeline) >= timeline
     # Written by an autosave no longer ago than the interval (+1 s for a busy machine); the
-    # demo changes the log on every update (final states), so every autosave writes.
-    age_s = killed_at - log_path.stat().st_mtime
+    # demo changes the log on every update (final states), so every autosave writes: to
+    # the journal beside the log (bedside.record.log), each closing with its "saved" time.
+    journal = journal_path(log_path)
+    assert journal.exists(), "a session that did not close keeps its journal"
+    age_s = killed_at - max(log_path.stat().st_mtime, journal.stat().st_mtime)
+    assert any(e.kind == "journal" and "did not close" in e.detail for e in saved.events)
     print(f"\nlast autosave {age_s:.2f} s before SIGKILL; {len(saved.timeline)} level changes on disk")
     assert age_s <= AUTOSAVE_MAX_S + 1.0, age_s

@@ -249,15 +249,26 @@ class MemoryRecorder:
 
 class ScriptedLook:
     """A look for streams that hears ``script[i]`` at its i-th poll (then the last one
-    for good); it has settled once the script is used up. ``polls`` counts the polls."""
+    for good); it has settled once the script is used up. ``polls`` counts the polls.
 
-    def __init__(self, script: Sequence[Sequence[StreamIdentity]]) -> None:
+    hold_after: polls after this many wait until ``release()`` (at most 10 s), so a test
+    can bound the poll at which the UI acted whatever the machine's load (the UI's
+    answer to an earlier poll is then the only way forward)."""
+
+    def __init__(self, script: Sequence[Sequence[StreamIdentity]], hold_after: int | None = None) -> None:
         self.script = [list(s) for s in script] or [[]]
         self.polls = 0
         self.closed = False
+        self.hold_after = hold_after
+        self._go = threading.Event()
+
+    def release(self) -> None:
+        self._go.set()
 
     def visible(self) -> list[StreamIdentity]:
         self.polls += 1
+        if self.hold_after is not None and self.polls > self.hold_after:
+            self._go.wait(10.0)
         return list(self.script[min(self.polls, len(self.script)) - 1])
 
     def settled(self, wait_s: float) -> bool:

@@ -13,6 +13,7 @@ import pytest
 import standins as si
 import yaml
 
+from bedside.record.log import load_log
 from bedside.ui.app import make_app
 from bedside.ui.config import AppConfig
 
@@ -185,7 +186,7 @@ async def test_the_log_bedside_named_follows_a_new_subject_id(tmp_path: Path, mo
         app.screen.query_one("#note").focus()
         await _type(pilot, "cap applied")
         await pilot.press("enter")
-        assert await _until(pilot, lambda: "cap applied" in final.read_text(encoding="utf-8"))
+        assert await _until(pilot, lambda: any(n.text == "cap applied" for n in load_log(final).notes))
         await pilot.press("ctrl+q")
         await _until(pilot, lambda: app.return_code is not None)
     assert app.return_code == 0

@@ -38,13 +38,16 @@ async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
 
 async def test_two_beds_heard_open_the_picker_at_that_poll_and_it_fills() -> None:
     a, b, c = si.identity("bed-a"), si.identity("bed-b"), si.identity("bed-c")
-    look = si.ScriptedLook([[], [a], [a, b], [a, b, c], [a, b, c], [a, b, c]])
+    # The 4th poll waits until the picker is open: the bound below does not depend on
+    # how fast this machine's UI thread answers the 3rd.
+    look = si.ScriptedLook([[], [a], [a, b], [a, b, c], [a, b, c], [a, b, c]], hold_after=3)
     opened_at: list[int] = []
     app = make_app(AppConfig(wait_s=30.0), services=si.services(look_for_streams=lambda: look))
     async with app.run_test(size=(100, 40)) as pilot:
         def opened() -> bool:
             if isinstance(app.screen, StreamPicker) and not opened_at:
                 opened_at.append(look.polls)
+                look.release()
             return bool(opened_at)
 
         assert await _until(pilot, opened)
@@ -64,7 +67,8 @@ async def test_two_beds_heard_open_the_picker_at_that_poll_and_it_fills() -> Non
 
 async def test_p_opens_the_picker_at_the_first_poll_even_before_any_answer() -> None:
     a = si.identity("bed-a")
-    look = si.ScriptedLook([[], [], [a]])
+    # The 2nd poll waits until the picker is open (see above).
+    look = si.ScriptedLook([[], [], [a]], hold_after=1)
     app = make_app(AppConfig(discover=False), services=si.services(look_for_streams=lambda: look))
     opened_at: list[int] = []
     async with app.run_test(size=(100, 40)) as pilot:
@@ -73,10 +77,11 @@ async def test_p_opens_the_picker_at_the_first_poll_even_before_any_answer() -> 
         def opened() -> bool:
             if isinstance(app.screen, StreamPicker) and not opened_at:
                 opened_at.append(look.polls)
+                look.release()
             return bool(opened_at)
 
         assert await _until(pilot, opened)
-        assert opened_at[0] <= 2, opened_at  # the first poll's answer (or the next)
+        assert opened_at[0] <= 2, opened_at  # the first poll's answer (the next is held until then)
         assert await _until(pilot, lambda: "bed-a" in si.screen_text(app))
         await pilot.press("escape")
         assert await _until(pilot, lambda: not isinstance(app.screen, StreamPicker))
