@@ -416,3 +416,77 @@ def memory_run(simulated_s: float = 3600.0, scenario: str = "ward_demo",
         "rss_after_60s_mb": rss_first, "rss_end_mb": rss_end,
         "rss_growth_mb": rss_end - (rss_first or rss_end), "rss_trace": samples,
     }
+
+
+# ---------------------------------------------------------------- soak
+def soak_run(hours: float = 24.0, n_channels: int = 32, seed: int = 11) -> dict[str, Any]:
+    """A long recording through the real setup-log recorder and its journal, accelerated
+    (no sleeping, a simulated clock): a frame and an autosave every 2 simulated seconds,
+    ``n_channels`` electrodes whose faults come and go (each electrode, on average, a
+    fault every 30 min lasting 1-10 min, some bad, some check), a note every hour, and
+    the log folded into one file at the end. Reports the autosave's median time in the
+    first and the last simulated hour, RSS growth after the first hour, and the log's
+    size per simulated day (journal and base while open; the one file after closing)."""
+    import tempfile
+
+    from bedside.checks.types import ChannelQuality, Level
+    from bedside.record.log import journal_path
+    from bedside.record.session import SessionRecorder
+    from bedside.stream.types import StreamHealth
+
+    rng = np.random.default_rng(seed)
+    names = [f"E{i + 1}" for i in range(n_channels)]
+    step_s = 2.0
+    n_frames = int(hours * 3600 / step_s)
+    t0 = 1_796_000_000.0
+    now = [t0]
+    fault_until = np.zeros(n_channels)
+    fault_level: list[Level] = [Level.GOOD] * n_channels
+    p_start = step_s / 1800.0
+    health = StreamHealth("live", 256.0, 256.0)
+    first_h, last_h, rss_first = [], [], None
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "SOAK-001.yaml"
+        rec = SessionRecorder.open(path, subject_id="SOAK-001", technologist="BNC", clock=lambda: now[0])
+        wall0 = time.perf_counter()
+        try:
+            for k in range(n_frames):
+                now[0] = t0 + k * step_s
+                sim_s = k * step_s
+                start = rng.random(n_channels) < p_start
+                for i in np.flatnonzero(start & (fault_until <= sim_s)):
+                    fault_until[i] = sim_s + rng.uniform(60.0, 600.0)
+                    fault_level[i] = Level.BAD if rng.random() < 0.5 else Level.CHECK
+                chans = tuple(
+                    ChannelQuality(n, fault_level[i] if fault_until[i] > sim_s else Level.GOOD,
+                                   {"rms_uv": float(20.0 + rng.normal()), "mains_uv": float(abs(rng.normal())),
+                                    "drift_uv_per_s": float(rng.normal(0, 5))},
+                                   ("a fault of the soak (invented)",) if fault_until[i] > sim_s else ())
+                    for i, n in enumerate(names)
+                )
+                rec.on_frame(QualityFrame(now[0], now[0], chans, (), health, 4.0, {}))
+                if k and k % 1800 == 0:
+                    rec.add_note(f"hour {k // 1800}: skin checked at the electrode sites (invented)")
+                t = time.perf_counter()
+                rec.save_now()
+                dt = time.perf_counter() - t
+                if sim_s < 3600.0:
+                    first_h.append(dt)
+                elif sim_s >= hours * 3600.0 - 3600.0:
+                    last_h.append(dt)
+                if rss_first is None and sim_s >= 3600.0:
+                    rss_first = rss_mb()
+            open_bytes = path.stat().st_size + journal_path(path).stat().st_size
+            rss_end = rss_mb()
+        finally:
+            rec.close()
+        closed_bytes = path.stat().st_size
+        wall = time.perf_counter() - wall0
+    per_day = 24.0 / hours
+    return {
+        "simulated_h": hours, "channels": n_channels, "frames": n_frames, "wall_s": wall,
+        "autosave_ms_first_h": float(np.median(first_h) * 1e3),
+        "autosave_ms_last_h": float(np.median(last_h) * 1e3) if last_h else None,
+        "rss_growth_mb": rss_end - (rss_first or rss_end),
+        "log_mb": open_bytes / 1e6 * per_day, "log_closed_mb": closed_bytes / 1e6 * per_day,
+    }

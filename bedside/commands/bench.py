@@ -28,6 +28,7 @@ import tempfile
 from pathlib import Path
 from typing import Any
 
+from bedside.commands._common import positive_float
 from bedside.errors import BedsideError
 
 NAME = "bench"
@@ -48,6 +49,12 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         "well under a minute; the full run takes a few minutes.",
     )
     p.add_argument("--quick", action="store_true", help="fewer repetitions, ten simulated minutes")
+    p.add_argument("--soak", action="store_true",
+                   help="instead: a day of a 32-channel recording (faults coming and going) through the "
+                   "setup log's recorder and journal, accelerated: autosave time in the first and last "
+                   "hour, memory growth, log size (about two minutes)")
+    p.add_argument("--hours", metavar="H", type=positive_float("--hours"), default=24.0,
+                   help="with --soak: simulated hours (default 24, at least 2)")
     p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
     p.set_defaults(func=run)
 
@@ -246,13 +253,39 @@ def as_table(report: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
+SOAK_TARGETS = {"autosave_last_over_first": 1.5, "rss_growth_mb": 20.0, "log_mb_per_day": 50.0}
+
+
+def soak_table(report: dict[str, Any]) -> str:
+    s = report["soak"]
+    ratio = (s["autosave_ms_last_h"] / s["autosave_ms_first_h"]) if s["autosave_ms_last_h"] else None
+    t = SOAK_TARGETS
+    return "\n".join([
+        f"soak: {s['simulated_h']:g} simulated hours of {s['channels']} channels ({s['frames']} frames and "
+        f"autosaves, one every 2 s) in {s['wall_s']:.0f} s",
+        f"autosave, median: first hour {s['autosave_ms_first_h']:.2f} ms, last hour "
+        f"{_f(s['autosave_ms_last_h'], '.2f')} ms (last/first {_f(ratio, '.2f')}; target ≤ {t['autosave_last_over_first']})",
+        f"RSS growth after the first hour: {s['rss_growth_mb']:+.1f} MB (target ≤ {t['rss_growth_mb']} MB)",
+        f"log: {s['log_mb']:.1f} MB per day while open (base + journal), {s['log_closed_mb']:.1f} MB per day "
+        f"closed (target ≤ {t['log_mb_per_day']} MB per day)",
+    ])
+
+
 def run(args: argparse.Namespace) -> int:
+    if args.soak and args.hours < 2.0:
+        raise BedsideError(f"--hours {args.hours:g}: a soak needs at least 2 simulated hours (a first and a last)")
     if os.environ.get(_CHILD_FLAG) == "1":
-        report = measure(args.quick)
+        if args.soak:
+            from bedside.checks.benchmark import soak_run
+
+            report = {"soak": soak_run(hours=args.hours), "targets": SOAK_TARGETS, "machine": machine()}
+        else:
+            report = measure(args.quick)
         print(json.dumps(report))
         return 0
     env = dict(os.environ, **{v: "1" for v in _THREAD_VARS}, **{_CHILD_FLAG: "1"})
-    cmd = [sys.executable, "-m", "bedside", "bench", *(["--quick"] if args.quick else [])]
+    cmd = [sys.executable, "-m", "bedside", "bench", *(["--quick"] if args.quick else []),
+           *(["--soak", "--hours", repr(args.hours)] if args.soak else [])]
     proc = subprocess.run(cmd, env=env, capture_output=True, text=True, check=False)
     lines = proc.stdout.strip().splitlines()
     if proc.returncode != 0 or not lines:
@@ -262,5 +295,6 @@ def run(args: argparse.Namespace) -> int:
         if line.startswith(("WARNING", "error")):
             print(line, file=sys.stderr)
     report = json.loads(lines[-1])
-    print(json.dumps(report, indent=2) if args.format == "json" else as_table(report))
+    table = soak_table(report) if args.soak else as_table(report)
+    print(json.dumps(report, indent=2) if args.format == "json" else table)
     return 0
