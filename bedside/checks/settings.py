@@ -193,6 +193,13 @@ class PlacementSettings:
 
 
 @dataclass(frozen=True)
+class LongTermSettings:
+    trend_bin_s: float = field(default=600.0, metadata=_rng(10.0, 86400.0))
+    alert_after_s: float = field(default=600.0, metadata=_rng(10.0, 86400.0))
+    skin_check_s: float = field(default=28800.0, metadata=_rng(600.0, 7 * 86400.0))
+
+
+@dataclass(frozen=True)
 class QualitySettings:
     """All settings of the checks. Times in s, rates in Hz, amplitudes in µV."""
 
@@ -216,6 +223,7 @@ class QualitySettings:
     correlation: CorrelationSettings = field(default_factory=CorrelationSettings)
     reference: ReferenceSettings = field(default_factory=ReferenceSettings)
     placement: PlacementSettings = field(default_factory=PlacementSettings)
+    long_term: LongTermSettings = field(default_factory=LongTermSettings)
 
     def __post_init__(self) -> None:
         _band("eeg_band_hz", self.eeg_band_hz)

@@ -1,6 +1,8 @@
 """``bedside ward``: every visible EEG stream judged at once, one line per bed.
 
-Headless: watch for ``--seconds`` (beds that appear meanwhile are taken in), then print
+Without ``--seconds``: the app opens on the ward's list (beds come and go live; Enter
+opens a bed in Watch, ``w`` comes back; no setup log unless ``--log``). With it,
+headless: watch for ``--seconds`` (beds that appear meanwhile are taken in), then print
 each bed's state and counts (``--format json``: ``{"streams": [{name, source_id,
 hostname, state, n_scalp, good, check, bad, not_good, findings, note}]}``, the counts
 integers). Exit 0 when every bed is live with all its scalp electrodes good, 1 when a
@@ -15,6 +17,7 @@ import sys
 import time
 
 from bedside.commands._common import positive_float
+from bedside.commands.watch import add_app_options
 
 NAME = "ward"
 ORDER = 36
@@ -32,9 +35,11 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         "scalp electrodes good/check/bad and the worst finding. Streams that appear while "
         "looking are taken in. bedside supports the technologist; it does not diagnose.",
     )
-    p.add_argument("--seconds", metavar="S", type=positive_float("--seconds"), default=8.0,
-                   help=f"seconds to watch (default 8, at most {MAX_SECONDS:g})")
-    p.add_argument("--format", choices=FORMATS, default="table", help="table (default) or json")
+    p.add_argument("--seconds", metavar="S", type=positive_float("--seconds"), default=None,
+                   help=f"headless: watch this long (at most {MAX_SECONDS:g} s) and print the beds; "
+                   "without it the app opens on the ward's list")
+    p.add_argument("--format", choices=FORMATS, default="table", help="with --seconds: table (default) or json")
+    add_app_options(p)
     p.set_defaults(func=run)
 
 
@@ -58,6 +63,16 @@ def run(args: argparse.Namespace) -> int:
     from bedside.stream.lsl import prepare_lsl
     from bedside.ward import Ward
 
+    if args.seconds is None:
+        if args.format != "table":
+            raise InputError("--format json needs --seconds (a headless look); without it the app opens")
+        from dataclasses import replace
+
+        from bedside.commands.watch import app_config, run_app
+
+        if not args.log:
+            args.no_log = True  # a ward is many patients: no one setup log unless asked for
+        return int(run_app(replace(app_config(args), ward=True, discover=False, confirm_channels=False)))
     if args.seconds > MAX_SECONDS:
         raise InputError(f"--seconds {args.seconds:g} is longer than a ward look takes; accepted: up to "
                          f"{MAX_SECONDS:g} s (for longer, leave the app running)")

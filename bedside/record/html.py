@@ -24,6 +24,7 @@ from bedside.cautions import CAUTIONS, DISCLAIMER
 from bedside.errors import BedsideError
 from bedside.metric_labels import METRIC_LABELS, metric_label, report_metrics
 from bedside.record.log import SetupLog, TapedMeasurements
+from bedside.record.trends import TrendBin
 
 log = logging.getLogger("bedside")
 
@@ -321,6 +322,60 @@ def _as_taped(taped: TapedMeasurements | None) -> str:
     return f" (taped {escape(taped.text())})" if taped is not None and taped.unit != "cm" else ""
 
 
+def _spark(points: list[tuple[float, float | None]], t_max: float, v_max: float, *, label: str) -> str:
+    """A small line plot (SVG, 160×28 px): values over the recording's time, 0 at the
+    bottom and v_max at the top; gaps where a value is missing."""
+    w, h, pad = 160.0, 28.0, 2.0
+    runs: list[list[str]] = [[]]
+    for t, v in points:
+        if v is None:
+            runs.append([])
+            continue
+        x = pad + (w - 2 * pad) * (t / t_max if t_max > 0 else 0.0)
+        y = h - pad - (h - 2 * pad) * (min(v, v_max) / v_max if v_max > 0 else 0.0)
+        runs[-1].append(f"{x:.1f},{y:.1f}")
+    lines = "".join(f'<polyline fill="none" stroke="#1f4e79" stroke-width="1.5" points="{" ".join(r)}"/>'
+                    for r in runs if len(r) > 1)
+    dots = "".join(f'<circle cx="{r[0].split(",")[0]}" cy="{r[0].split(",")[1]}" r="1.5" fill="#1f4e79"/>'
+                   for r in runs if len(r) == 1)
+    return (f'<svg width="{w:.0f}" height="{h:.0f}" viewBox="0 0 {w:.0f} {h:.0f}" role="img" '
+            f'aria-label="{escape(label)}"><rect x="0.5" y="0.5" width="{w - 1:.0f}" height="{h - 1:.0f}" '
+            f'fill="none" stroke="#bbb"/>{lines}{dots}</svg>')
+
+
+def trends_section(log_: SetupLog) -> list[str]:
+    """Per electrode: the share of each 10-min bin it was good, its mean mains and
+    |drift|, as small plots over the recording (only with two bins or more)."""
+    by: dict[str, list[TrendBin]] = {}
+    for b in log_.trends:
+        by.setdefault(b.electrode, []).append(b)
+    if not by or max(len(v) for v in by.values()) < 2:
+        return []
+    t_max = max(b.start_s for b in log_.trends) or 1.0
+    mains_max = max([b.mains_uv for b in log_.trends if b.mains_uv is not None] or [1.0]) or 1.0
+    drift_max = max([b.drift_uv_per_s for b in log_.trends if b.drift_uv_per_s is not None] or [1.0]) or 1.0
+    bin_min = (log_.trends[1].start_s - log_.trends[0].start_s) / 60.0 if len(log_.trends) > 1 else 10.0
+    rows = []
+    for name, bins in by.items():
+        good: list[tuple[float, float | None]] = [(b.start_s, b.good_fraction) for b in bins]
+        worst = min(b.good_fraction for b in bins)
+        rows.append([
+            _td(name),
+            f"<td>{_spark(good, t_max, 1.0, label=f'{name}: share of time good')}</td>",
+            _td(f"{worst:.0%}", num=True),
+            f"<td>{_spark([(b.start_s, b.mains_uv) for b in bins], t_max, mains_max, label=f'{name}: mains')}</td>",
+            f"<td>{_spark([(b.start_s, b.drift_uv_per_s) for b in bins], t_max, drift_max, label=f'{name}: drift')}</td>",
+        ])
+    hours = t_max / 3600.0
+    return [
+        "<h2>Trends over the recording</h2>",
+        f"<p>Per electrode, over {hours:.1f} h in bins of about {max(bin_min, 0.0):.0f} min: the share of each bin "
+        f"it was good (top of the plot: all of it), its mean mains amplitude (top: {mains_max:.1f} µV, the "
+        f"highest of any electrode) and its mean drift (top: {drift_max:.0f} µV/s).</p>",
+        _table(("Electrode", "Time good", "Lowest", "Mains", "Drift"), rows),
+    ]
+
+
 def render_report(log_: SetupLog) -> str:
     """The whole report as one HTML document (UTF-8 text)."""
     subject = log_.subject_id or "(no ID)"
@@ -450,6 +505,7 @@ def render_report(log_: SetupLog) -> str:
                 ),
             )
         )
+    out.extend(trends_section(log_))
     out.append("<h2>Timeline</h2>")
     if log_.timeline:
         start = log_.started_at or log_.timeline[0].at

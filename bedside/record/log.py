@@ -32,6 +32,7 @@ from bedside.config import StrictReader, describe, yaml_problem
 from bedside.errors import InputError, RecordError
 from bedside.placement.types import HeadMeasurements, Mark
 from bedside.record.ids import validate_subject_id
+from bedside.record.trends import TrendBin
 from bedside.stream.types import ChannelInfo, StreamIdentity
 
 #: Written as the first keys of every log, checked on load.
@@ -247,6 +248,9 @@ class SetupLog:
     #: Streams checked before the current one, oldest first; ``stream``, ``timeline``,
     #: ``findings`` and ``final`` always belong to the current stream alone.
     earlier_streams: list[StreamSection] = field(default_factory=list)
+    #: Long recordings: per electrode and 10-min bin, the share of the time it was good,
+    #: its mean mains and drift (bedside.record.trends; logs before it have none).
+    trends: list[TrendBin] = field(default_factory=list)
 
     # -- derived views ------------------------------------------------------------
 
@@ -377,7 +381,7 @@ class SetupLog:
 
 
 #: Lists that only ever grow (entries are frozen): their lines are rendered once.
-_APPEND_ONLY = ("timeline", "findings", "events", "impedances", "notes")
+_APPEND_ONLY = ("timeline", "findings", "events", "impedances", "notes", "trends")
 #: Characters YAML treats as line breaks or non-printable, escaped inside strings.
 _YAML_UNSAFE = re.compile("[\x7f-\x9f\u2028\u2029\ufeff\ufffe\uffff\ud800-\udfff]")
 
@@ -503,7 +507,7 @@ def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:
 # names the base it follows (a hash of the base file's bytes): a journal left beside a
 # newer base (a crash between writing the new base and removing the old journal) is
 # already in that base and is not applied twice. Records: {"add": list, "v": entry}
-# (timeline, findings, events, impedances, notes), {"set": field, "v": value} (any other
+# (timeline, findings, events, impedances, notes, trends), {"set": field, "v": value} (any other
 # field, or a list that was replaced), {"final": {electrode: state}} (the channels whose
 # final level or reasons changed; a full "set" of final at most every FINAL_EVERY_S),
 # {"saved": time} closing each autosave (how far a session that did not close was kept).

@@ -90,6 +90,7 @@ from bedside.record.log import (
     stamp,
     zone_name,
 )
+from bedside.record.trends import AlertKeeper, SkinReminder, TrendKeeper
 
 log = logging.getLogger("bedside")
 
@@ -136,6 +137,7 @@ class SessionRecorder:
         autosave_s: float = AUTOSAVE_MAX_S,
         clock: Callable[[], float] | None = None,
         allow_letters_only_id: bool = False,
+        long_term: Any = None,
     ) -> SessionRecorder:
         """Start (or resume) the session logged at ``path`` and its autosave thread.
 
@@ -165,6 +167,8 @@ class SessionRecorder:
         if path.is_dir():
             raise RecordError(f"{path} is a folder; give a file name for the log, e.g. {path / 'W3-017.yaml'}")
         rec = cls(path, clock or time.time, float(autosave_s), allow_letters_only_id)
+        if long_term is not None:  # the checks' long_term settings (a profile may set them)
+            rec._keepers(long_term)
         rec._start(initials, subject, digest, tuple(p.name for p in paths))
         return rec
 
@@ -209,6 +213,15 @@ class SessionRecorder:
         self._stop = threading.Event()
         self._wake = threading.Event()
         self._thread: threading.Thread | None = None
+        from bedside.checks.settings import LongTermSettings
+
+        self._keepers(LongTermSettings())
+
+    def _keepers(self, long_term: Any) -> None:
+        """Trends, re-check alerts and skin-check reminders for long recordings."""
+        self._trend = TrendKeeper(long_term.trend_bin_s)
+        self._alerts = AlertKeeper(long_term.alert_after_s)
+        self._skin = SkinReminder(long_term.skin_check_s)
 
     def _now(self) -> datetime:
         return stamp(self._clock())
@@ -477,6 +490,17 @@ class SessionRecorder:
                         at, key, _clean_metrics(ch.metrics), tuple(map(str, ch.reasons))
                     )
                     changed = True
+            t_s = at.timestamp()
+            for b in self._trend.feed(frame, t_s):
+                self._log.trends.append(b)
+                changed = True
+            for alert in self._alerts.feed(frame, t_s):
+                self._log.events.append(Event(at, "alert", alert.text()))
+                changed = True
+            reminder = self._skin.feed(t_s)
+            if reminder is not None:
+                self._log.events.append(Event(at, "skin_check", reminder))
+                changed = True
             health = getattr(frame, "stream_health", None)
             if health is not None:
                 changed |= self._record_health(at, health)
@@ -903,6 +927,7 @@ class SessionRecorder:
                 return
             self._closed = True
             now = self._now()
+            self._log.trends.extend(self._trend.close())  # the bin the recording ended in
             self._log.ended_at = now
             self._log.events.append(Event(now, "closed", ""))
             self._touch()
@@ -1123,10 +1148,12 @@ def optional_recorder(
     technologist: str = "",
     subject_id: str = "",
     config_paths: Iterable[Path | str] = (),
+    long_term: Any = None,
 ) -> contextlib.AbstractContextManager[SessionRecorder | None]:
     """For commands with an optional ``--log PATH``: a SessionRecorder (closed, i.e. saved,
     when the with-block ends) or ``None`` when no path was given. Validation errors
     (initials, ID, an unreadable or foreign log) raise at once."""
     if path is None or str(path) == "":
         return contextlib.nullcontext(None)
-    return SessionRecorder.open(path, technologist=technologist, subject_id=subject_id, config_paths=config_paths)
+    return SessionRecorder.open(path, technologist=technologist, subject_id=subject_id, config_paths=config_paths,
+                                long_term=long_term)

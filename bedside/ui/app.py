@@ -22,10 +22,12 @@ from textual.binding import Binding
 from textual.message import Message
 
 from bedside.checks.ready import Cues, ReadyGate, ReadyState
+from bedside.checks.settings import LongTermSettings
 from bedside.checks.types import QualityFrame
 from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStreams, StreamNotFound
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
+from bedside.record.trends import AlertKeeper, SkinReminder
 from bedside.stream.source import Source
 from bedside.stream.types import StreamIdentity
 from bedside.ui.config import VIEWS, AppConfig, View
@@ -37,6 +39,7 @@ from bedside.ui.screens.help import HelpScreen
 from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
 from bedside.ui.screens.picker import StreamPicker, streams_visible
+from bedside.ui.screens.ward import WardScreen
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import ChannelPreview, Services, StreamLookLike, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
@@ -137,6 +140,7 @@ class BedsideApp(App[int]):
         Binding("ctrl+q", "leave", "Save & quit", priority=True),
         Binding("ctrl+c", "leave", "Save & quit", show=False, priority=True),
         Binding("ctrl+s", "save", "Save", show=False),
+        Binding("w", "ward", "Ward", show=False),
     ]
 
     def __init__(self, config: AppConfig, services: Services, source: Source | None = None) -> None:
@@ -148,6 +152,7 @@ class BedsideApp(App[int]):
         self.plan: PlacementPlan | None = None
         self.taped: TapedMeasurements | None = None
         self.identity: StreamIdentity | None = source.identity if source is not None else None
+        self._ward_screen: WardScreen | None = None  # bedside ward: the list of beds
         self.connection: Connection | None = None
         self.recorder: RecorderGate | None = None
         self._log_error = "" if config.log_path else "no setup log is kept in this session (it was started without one)"
@@ -159,6 +164,10 @@ class BedsideApp(App[int]):
         self.ready_gate = ReadyGate(self.config.ready_hold_s)
         self.ready_state: ReadyState | None = None
         self.cues = Cues()
+        # The checks' long_term settings (services without quality settings: the defaults).
+        long_term = getattr(self.services.load_quality(), "long_term", None) or LongTermSettings()
+        self.alert_keeper = AlertKeeper(long_term.alert_after_s)
+        self.skin_reminder = SkinReminder(long_term.skin_check_s)
         self.bell_on = self.config.bell
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
@@ -195,12 +204,38 @@ class BedsideApp(App[int]):
         gc.freeze()
         if self.config.log_path is not None and self.services.open_recorder is not None:
             self._open_log()
-        if self._given_source is not None:
+        if self.config.ward:
+            self._ward_screen = WardScreen(self.services.make_ward())
+            self.push_screen(self._ward_screen)
+        elif self._given_source is not None:
             self._connect(None, self._given_source)
         elif self.config.discover:
             self.discover(force_picker=False)
 
+    def open_bed(self, identity: StreamIdentity) -> None:
+        """From the ward: watch this bed (the ward keeps watching every bed meanwhile)."""
+        if self._ward_screen is not None and self.screen is self._ward_screen:
+            self.pop_screen()
+        if self.identity != identity or self.connection is None:
+            self.status_note = "connecting…"
+            self._connect(identity, None)
+        self.action_view("watch")
+
+    def action_ward(self) -> None:
+        """Back to the ward's list (``bedside ward`` only)."""
+        if self._ward_screen is None:
+            self.notify("the ward's list is opened with `bedside ward`", timeout=4)
+            return
+        if self.screen is not self._ward_screen:
+            self.push_screen(self._ward_screen)
+
     def on_unmount(self) -> None:
+        ward_screen = getattr(self, "_ward_screen", None)
+        if ward_screen is not None:
+            try:
+                ward_screen.ward.close()
+            except Exception as exc:  # noqa: BLE001 - leaving: say it, go on closing
+                log.warning("the ward did not close cleanly: %s", exc)
         self._end_look()
         # Leaving by any other way than q/Ctrl-C (e.g. an error): still stop and save.
         if self.connection is not None:
@@ -431,6 +466,7 @@ class BedsideApp(App[int]):
     def _forget_frames(self) -> None:
         self.tracker.reset()
         self.ready_gate, self.ready_state, self.cues = ReadyGate(self.config.ready_hold_s), None, Cues()
+        self.alert_keeper = AlertKeeper(self.alert_keeper.after_s)
         self.latest_frame, self.progress = None, None
         self._last_frame_at = None
         self._connected_at = time.monotonic()
@@ -619,6 +655,14 @@ class BedsideApp(App[int]):
             self.recorder.submit("set_ready", (state.hold_s, state.accepted, "app"), self._log_done("ready"))
         if self.cues.update(frame, state) and self.bell_on:
             self.bell()
+        # Long recordings: an electrode that degraded and stayed so, and skin checks.
+        for alert in self.alert_keeper.feed(frame, t):
+            self.notify(alert.text(), severity="warning", timeout=30)
+            if self.bell_on:
+                self.bell()
+        reminder = self.skin_reminder.feed(t)
+        if reminder is not None:
+            self.notify(reminder, timeout=60)
 
     def toggle_bell(self) -> None:
         self.bell_on = not self.bell_on

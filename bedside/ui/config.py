@@ -52,6 +52,9 @@ class AppConfig:
     discover: bool = True
     confirm_channels: bool = False
     ready_hold_s: float = 10.0
+    #: Open on the ward (``bedside ward``): every visible stream, one line per bed; a bed
+    #: opens in Watch, ``w`` comes back. No stream is looked for or pinned by itself.
+    ward: bool = False
     bell: bool = False
     export_dir: Path = field(default_factory=Path.cwd)
     title: str = "bedside"

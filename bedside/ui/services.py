@@ -190,6 +190,12 @@ def _save_channel_choices(source_id: str, choices: Mapping[str, Any]) -> Path | 
     return save_choices(source_id, choices)
 
 
+def _make_ward() -> Any:
+    from bedside.ward import Ward
+
+    return Ward()
+
+
 def _load_quality() -> Any:
     from bedside.checks.settings import load_quality
 
@@ -220,7 +226,8 @@ def _open_recorder(
     from bedside.record.session import SessionRecorder
 
     return SessionRecorder.open(  # type: ignore[no-any-return]
-        path, technologist=technologist, subject_id=subject_id, config_paths=list(config_paths)
+        path, technologist=technologist, subject_id=subject_id, config_paths=list(config_paths),
+        long_term=_load_quality().long_term,
     )
 
 
@@ -246,6 +253,8 @@ class Services:
     #: (settings, source) → (engine, note): the engine for the source's channels, geometry
     #: and amplifier, and where its bridging neighbours came from.
     make_engine: Callable[[Any, Source], tuple[Any, str]] = _make_engine
+    #: The ward (``bedside ward``): every visible EEG stream watched at once (bedside.ward).
+    make_ward: Callable[[], Any] = lambda: _make_ward()
     describe_channels: Callable[[Sequence[ChannelInfo]], str] = _describe_channels
     #: The BIDS channels.tsv types a channel may be given (EEG, EOG, ECG, …).
     channel_types: Callable[[], tuple[str, ...]] = _channel_types

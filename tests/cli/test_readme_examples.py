@@ -56,7 +56,7 @@ UNTIL_STOPPED = ("bedside simulate clean", "bedside replay")
 SETTLE_S = 3.0
 
 #: The app: opened in a real terminal (tmux), then left with q.
-APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside demo")
+APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside demo", "bedside ward")
 
 #: Spans that name a command in running text rather than show a use of it (the fault
 #: table's Ctrl-C row): each must at least be a command that answers --help.
@@ -112,10 +112,17 @@ def _fill(cmd: str, stream: str, workdir: Path) -> str:
 
 
 def _until_stopped(cmd: str, workdir: Path) -> None:
+    import select
+
     args = shlex.split(cmd)
     proc = subprocess.Popen([*BEDSIDE, *args[1:]], cwd=workdir, env=ENV, stdout=subprocess.PIPE,
                             stderr=subprocess.PIPE, text=True)
     try:
+        # Running once it says what it publishes (its first line), however slow this
+        # machine is to start it; a Ctrl-C during start-up is "interrupted" (130) instead.
+        assert proc.stdout is not None
+        ready, _, _ = select.select([proc.stdout], [], [], 90.0)
+        assert ready and proc.stdout.readline().strip(), f"{cmd} never started: {proc.poll()}"
         time.sleep(SETTLE_S)
         assert proc.poll() is None, f"{cmd} stopped by itself: {proc.communicate()[1]}"
         proc.send_signal(signal.SIGINT)
