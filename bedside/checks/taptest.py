@@ -248,7 +248,7 @@ class TapDetector:
             self._pending = None
 
 
-def judge_transient(peaks_uv: Sequence[float], scalp: Sequence[bool] | None = None,
+def judge_transient(peaks_uv: Sequence[float], scalp: Sequence[bool] | np.ndarray | None = None,
                     settings: TapSettings | None = None) -> Spot:
     """Where one transient showed, by the rule in the module docstring (ours)."""
     s = settings or TapSettings()
