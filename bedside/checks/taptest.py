@@ -155,6 +155,10 @@ class TapDetector:
         self._warmup = int(round(s.warmup_s * rate_hz))
         self._block_n = max(1, int(round(BLOCK_S * rate_hz)))
         self._blocks: deque[np.ndarray] = deque(maxlen=max(1, int(round(s.scale_s / BLOCK_S))))
+        # The robust SD after each block, by the block's end sample: a sample is judged
+        # by the SD of the blocks before it, so chunking never changes a result.
+        self._sd_after: deque[tuple[int, np.ndarray]] = deque(
+            maxlen=int(np.ceil((s.pre_s + s.post_s) / BLOCK_S)) + 4)
         self._partial: list[np.ndarray] = []
         self._partial_n = 0
         self._hist = np.zeros((0, n_channels))  # |band-passed|, samples base … n-1
@@ -174,18 +178,27 @@ class TapDetector:
         """Stream seconds fed so far."""
         return self._n / self.rate_hz
 
-    def sd_uv(self) -> np.ndarray:
-        """Each channel's robust SD of its recent band-passed signal (inf before the first block)."""
-        if not self._blocks:
-            return np.full(self.n_channels, np.inf)
-        return np.median(np.stack(self._blocks), axis=0) / MAD_TO_SD
+    def sd_uv(self, at_sample: int | None = None) -> np.ndarray:
+        """Each channel's robust SD of its band-passed signal in the blocks that ended by
+        ``at_sample`` (default: all so far); inf before the first block."""
+        for end, sd in reversed(self._sd_after):
+            if at_sample is None or end <= at_sample:
+                return sd
+        return np.full(self.n_channels, np.inf)
 
     def feed(self, samples_uv: np.ndarray) -> list[Transient]:
         x = np.asarray(samples_uv, dtype=np.float64)
         if x.ndim != 2 or x.shape[1] != self.n_channels:
             raise InputError(f"samples must be (n, {self.n_channels}) µV, got shape {x.shape}")
-        if x.shape[0] == 0:
-            return []
+        found: list[Transient] = []
+        pos = 0
+        while pos < x.shape[0]:  # block by block, so any chunking gives the same result
+            take = min(x.shape[0] - pos, self._block_n - self._n % self._block_n)
+            found += self._feed_piece(x[pos:pos + take])
+            pos += take
+        return found
+
+    def _feed_piece(self, x: np.ndarray) -> list[Transient]:
         bad = ~np.isfinite(x)
         if bad.any():
             self.nonfinite += bad.sum(axis=0)
@@ -196,7 +209,7 @@ class TapDetector:
         self._hist = np.concatenate([self._hist, a]) if self._hist.size else a
         self._n += a.shape[0]
         found = self._scan()
-        keep = self._pre + self._post + self._block_n
+        keep = self._pre + self._post + 2 * self._block_n
         first = self._n - keep if self._pending is None else min(self._pending - self._pre, self._n - keep)
         if first > self._base:
             self._hist = self._hist[first - self._base:]
@@ -205,6 +218,7 @@ class TapDetector:
 
     def _learn(self, a: np.ndarray) -> None:
         pos = 0
+        first = self._n
         while pos < a.shape[0]:
             take = min(self._block_n - self._partial_n, a.shape[0] - pos)
             self._partial.append(a[pos:pos + take])
@@ -213,6 +227,23 @@ class TapDetector:
             if self._partial_n == self._block_n:
                 self._blocks.append(np.median(np.concatenate(self._partial), axis=0))
                 self._partial, self._partial_n = [], 0
+                sd = np.median(np.stack(self._blocks), axis=0) / MAD_TO_SD
+                self._sd_after.append((first + pos, sd))
+
+    def _first_over(self, start: int) -> int | None:
+        """The first sample from ``start`` where a scalp channel passes its threshold,
+        block by block (each block's samples against the SD learnt before it)."""
+        s = self.settings
+        pos = start
+        while pos < self._n:
+            stop = min(self._n, (pos // self._block_n + 1) * self._block_n)
+            thr = np.maximum(s.min_uv, s.min_z * self.sd_uv(pos))[self.scalp]
+            seg = self._hist[pos - self._base:stop - self._base, self.scalp]
+            over = (seg > thr).any(axis=1)
+            if over.any():
+                return pos + int(np.argmax(over))
+            pos = stop
+        return None
 
     def _scan(self) -> list[Transient]:
         s = self.settings
@@ -223,13 +254,11 @@ class TapDetector:
                 if start >= self._n:
                     self._scan_from = max(self._scan_from, self._n)
                     return out
-                thr = np.maximum(s.min_uv, s.min_z * self.sd_uv())
-                seg = self._hist[start - self._base:, self.scalp]
-                over = (seg > thr[self.scalp]).any(axis=1)
-                if not over.any():
+                hit = self._first_over(start)
+                if hit is None:
                     self._scan_from = self._n
                     return out
-                self._pending = start + int(np.argmax(over))
+                self._pending = hit
             end = self._pending + self._post
             if end > self._n:
                 return out
@@ -238,7 +267,8 @@ class TapDetector:
             peaks = win.max(axis=0)
             # The transient's size on each channel: how far its peak rises above that
             # channel's own background (bg_sd robust SDs, a window's usual peak).
-            sizes = np.maximum(0.0, peaks - s.bg_sd * np.nan_to_num(self.sd_uv(), posinf=0.0))
+            sd = self.sd_uv(self._pending)
+            sizes = np.maximum(0.0, peaks - s.bg_sd * np.where(np.isfinite(sd), sd, 0.0))
             scalp_idx = np.flatnonzero(self.scalp)
             best = scalp_idx[int(np.argmax(sizes[self.scalp]))]
             peak_at = lo + int(np.argmax(win[:, best]))

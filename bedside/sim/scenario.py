@@ -180,7 +180,7 @@ class Fault:
             return ()
         end = self.end_s if self.end_s is not None else duration_s
         interval, width = self.param("interval_s"), self.param("width_s")
-        out = []
+        out: list[float] = []
         k = 0
         while True:
             peak = self.start_s + k * interval + 2 * width
