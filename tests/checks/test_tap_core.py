@@ -20,6 +20,7 @@ import dataclasses
 
 import numpy as np
 import pytest
+import real_eeg
 from scipy.signal import butter, find_peaks, sosfilt
 
 from bedside.checks.taptest import (
@@ -33,7 +34,6 @@ from bedside.checks.taptest import (
     summarise,
 )
 from bedside.errors import ConfigError, InputError
-from tests import real_eeg
 
 FWHM_S = 0.04
 SIGMA_S = FWHM_S / (2 * np.sqrt(2 * np.log(2)))
