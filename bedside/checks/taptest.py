@@ -393,9 +393,11 @@ class TapWalk:
     def current(self) -> str | None:
         return None if self.done else self.order[self._index]
 
-    def start(self) -> Prompt:
+    def start(self, at_s: float = 0.0) -> Prompt:
+        """The first prompt, at ``at_s`` stream seconds from the first sample fed: samples
+        before it (a few seconds already held) only let the filter and the SD settle."""
         self._started = True
-        return self._prompt(0.0)
+        return self._prompt(float(at_s))
 
     def _prompt(self, at_s: float) -> Prompt:
         self._prompt_at = at_s
