@@ -4,11 +4,15 @@ landed, names a swapped pair, and hands the results to the setup log.
 The stream is the simulator in-process (``SimulatedSource``) on a scenario written
 here: four scalp electrodes touched in stream order from 6 s (one every 2.5 s), the C3
 and C4 leads swapped — the scenario's ``tap`` and ``swap`` faults are the ground truth.
-The rest of the app is the stand-ins' (tests/ui/standins.py).
+The rest of the app is the stand-ins' (tests/ui/standins.py). The stream is held until
+the screen has said its first prompt, as a technologist touches only when told; it
+then plays at 3× real time (the walk runs on the stream's own clock).
 """
 
 from __future__ import annotations
 
+import threading
+import time
 from pathlib import Path
 from typing import Any
 
@@ -45,6 +49,33 @@ faults:
 """
 
 
+class HeldSource:
+    """``inner`` (a Source), sending nothing until ``go`` is set."""
+
+    def __init__(self, inner: SimulatedSource) -> None:
+        self.inner, self.go = inner, threading.Event()
+
+    @property
+    def identity(self) -> Any:
+        return self.inner.identity
+
+    @property
+    def channels(self) -> Any:
+        return self.inner.channels
+
+    def pull(self, timeout_s: float = 0.0) -> Any:
+        if not self.go.is_set():
+            time.sleep(min(timeout_s, 0.05))
+            return None
+        return self.inner.pull(timeout_s)
+
+    def health(self) -> Any:
+        return self.inner.health()
+
+    def close(self) -> None:
+        self.inner.close()
+
+
 async def _until(pilot: Any, cond: Any, seconds: float) -> bool:
     for _ in range(int(seconds / 0.05)):
         await pilot.pause(0.05)
@@ -57,16 +88,17 @@ async def test_k_walks_the_electrodes_and_names_the_swap(tmp_path: Path) -> None
     path = tmp_path / "tap_view.yaml"
     path.write_text(SCENARIO, encoding="utf-8")
     recorder = si.MemoryRecorder(tmp_path / "log.yaml")
+    source = HeldSource(SimulatedSource(load_scenario(path), speed=3.0))
     app = make_app(AppConfig(discover=False, log_path=tmp_path / "log.yaml", technologist="JM"),
-                   source=SimulatedSource(load_scenario(path), speed=3.0),
-                   services=si.services(recorder=recorder))
+                   source=source, services=si.services(recorder=recorder))
     async with app.run_test(size=(100, 40)) as pilot:
         assert await _until(pilot, lambda: app.connection is not None and app.recorder is not None, 5)
         await pilot.press("k")
         assert await _until(pilot, lambda: isinstance(app.screen, TapTestScreen), 2)
         screen = app.screen
-        assert await _until(pilot, lambda: "touch Fp1 now" in si.screen_text(app), 3)
+        assert await _until(pilot, lambda: "touch Fp1 now" in si.screen_text(app), 5)
         assert "Touch each electrode lightly" in si.screen_text(app)
+        source.go.set()
         assert await _until(pilot, lambda: screen.finished, 20)
         outcomes = [(r.electrode, r.outcome, r.seen_on) for r in screen._results]
         assert outcomes == [("Fp1", "confirmed", ("Fp1",)), ("Fp2", "confirmed", ("Fp2",)),
