@@ -40,6 +40,21 @@ def test_a_tap_test_round_trips_with_the_swap_named(tmp_path: Path, clock: FakeC
                                                   "reason": "no clear transient within 10 s of asking for O1"}
 
 
+def test_the_report_and_the_html_say_it(tmp_path: Path, clock: FakeClock) -> None:
+    from bedside.commands.report import text_summary
+    from bedside.record.html import tap_sentence
+
+    path = tmp_path / "W3-017.yaml"
+    rec = SessionRecorder.open(path, technologist="JMK", subject_id="W3-017", clock=clock)
+    assert tap_sentence(rec.snapshot()).startswith("not done")
+    rec.record_tap_test(RESULTS, summarise(RESULTS), how="app", timeout_s=10.0)
+    rec.close()
+    loaded = load_log(path)
+    assert "1 of 4 electrodes confirmed; C3 and C4 look swapped" in tap_sentence(loaded)
+    text = text_summary(loaded)
+    assert "(app): 1 of 4 electrodes confirmed" in text and "  - C3 and C4 look swapped" in text
+
+
 def test_a_log_written_before_tap_tests_still_loads(tmp_path: Path, clock: FakeClock) -> None:
     path = tmp_path / "W3-017.yaml"
     rec = SessionRecorder.open(path, technologist="JMK", subject_id="W3-017", clock=clock)
