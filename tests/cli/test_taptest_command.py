@@ -26,9 +26,10 @@ ENV = {**os.environ, "LSLAPICFG": str(ROOT / "tests" / "lsl_api.cfg")}
 SCALP = ["Fp1", "Fp2", "F3", "F4", "C3", "C4", "P3", "P4", "O1", "O2"]
 
 
-def _taptest(scenario: str, *args: str, speed: float = 4.0) -> subprocess.CompletedProcess[str]:
+def _taptest(scenario: str, *args: str, speed: float = 4.0, duration_s: float = 40.0
+             ) -> subprocess.CompletedProcess[str]:
     name = f"tap-{uuid.uuid4().hex[:8]}"
-    pub = Publisher(scenario, name=name, source_id=f"sid-{name}", duration_s=40.0, speed=speed)
+    pub = Publisher(scenario, name=name, source_id=f"sid-{name}", duration_s=duration_s, speed=speed)
     with pub.start(wait_for_consumer_s=20.0):
         return subprocess.run([sys.executable, "-m", "bedside", "taptest", "--stream", name, *args],
                               capture_output=True, text=True, timeout=90, env=ENV, cwd=ROOT)
@@ -76,6 +77,19 @@ def test_a_subset_and_a_short_timeout() -> None:
     assert [(r["electrode"], r["outcome"]) for r in results] == [("Fp1", "not_found"), ("O2", "elsewhere")]
     assert results[1]["seen_on"] == ["Fp1"]
     assert "no clear transient within 2 s of asking for Fp1" in results[0]["reason"]
+
+
+def test_a_stream_that_stops_ends_the_walk_and_says_why() -> None:
+    """The outlet closes at 5 s of stream time, after Fp1's touch: the walk stops (the
+    stream lost, or silent for 5 s), every electrode left is not found with that reason,
+    and the exit code is 1 — nothing is reported as confirmed that was not."""
+    done = _taptest("tap_walk", "--format", "json", "--timeout", "4", duration_s=5.0)
+    assert done.returncode == 1, done.stderr
+    report = json.loads(done.stdout)
+    assert report["stopped"] == "the stream was lost" or report["stopped"].startswith("no samples for")
+    outcomes = [r["outcome"] for r in report["results"]]
+    assert outcomes == ["confirmed"] + ["not_found"] * 9
+    assert report["stopped"] in report["results"][1]["reason"]
 
 
 @pytest.mark.parametrize(
