@@ -173,9 +173,10 @@ def as_table(report: dict[str, Any]) -> str:
     if report["stopped"]:
         lines.append(f"the walk stopped early: {report['stopped']}")
     rule = report["rule"]
-    lines.append(f"rule (ours): a touch counts when its size is at least {rule['alone_median']:g}× the median "
-                 f"of the other scalp channels and {rule['alone_second']:g}× the next largest "
-                 f"({rule['band_hz'][0]:g}-{rule['band_hz'][1]:g} Hz, at least {rule['min_uv']:g} µV)")
+    lines.append(f"rule (ours): a touch counts for one channel when its size there is at least "
+                 f"{rule['alone_median']:g}× the median of the other scalp channels' and "
+                 f"{rule['alone_second']:g}× the next largest ({rule['band_hz'][0]:g}-{rule['band_hz'][1]:g} Hz, "
+                 f"starting at {rule['min_uv']:g} µV)")
     ident = report["stream"]
     lines.append(f"stream '{ident['name']}' ({ident['source_id']}, {ident['hostname']}); "
                  f"up to {report['timeout_s']:g} s per electrode")
