@@ -17,3 +17,10 @@ and is not a medical device):
   - Equipment grounded to a common point, as your department requires."""
 
 DISCLAIMER = "bedside supports the technologist; it does not diagnose and is not a medical device."
+
+#: Said before every tap test (the command and the app's screen).
+TAP_CAUTION = (
+    "Touch each electrode lightly (a gloved fingertip or the wooden end of a swab) when it is "
+    "named; never press on fragile skin (neonates), a fontanelle, a wound or a pressure area; "
+    "standard infection-control precautions; follow your local policy."
+)

@@ -24,6 +24,7 @@ CONFIG_FILES: dict[str, bool] = {
     "labels.yaml": True,
     "amplifiers.yaml": True,
     "quality.yaml": False,
+    "taptest.yaml": False,
 }
 
 #: Bibliography entries cited only in words, not yet as tokens (none).

@@ -144,6 +144,11 @@ def text_summary(log: SetupLog) -> str:
         for n in log.notes:
             body = textwrap.indent(n.text, " " * 13).lstrip()
             lines.append(f"  {n.at:%H:%M:%S}  {body}")
+    for tap in log.tap_tests:
+        confirmed = sum(c.outcome == "confirmed" for c in tap.results)
+        lines.append(f"tap test at {tap.at:%H:%M:%S} ({tap.how or 'bedside'}): {confirmed} of {len(tap.results)} "
+                     "electrodes confirmed" + ("" if tap.problems else ", each touch on its own channel"))
+        lines += [f"  - {p}" for p in tap.problems]
     lines.append(
         f"signed off by {log.sign_off.initials} at {log.sign_off.at:%H:%M:%S}" if log.sign_off else "not signed off"
     )

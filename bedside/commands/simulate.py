@@ -30,7 +30,8 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
         "The ward and patients in the scenarios are invented.", width=78),
         epilog="examples:\n  bedside simulate                 # the ward demo\n"
         "  bedside simulate --list\n  bedside simulate clean --name bed2 --speed 2\n"
-        "  bedside simulate my_scenario.yaml --duration 60",
+        "  bedside simulate my_scenario.yaml --duration 60\n"
+        "  bedside simulate tap_walk --wait-for-reader 60   # taps scripted from when the reader connects",
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("scenario", nargs="?", default=None, metavar="SCENARIO",
@@ -41,6 +42,9 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
                    help=f"play X times faster than real time (default 1; at least {MIN_SPEED:g})")
     p.add_argument("--duration", metavar="S", type=positive_float("--duration"), default=None,
                    help="stop after S seconds of stream time (default: until Ctrl-C)")
+    p.add_argument("--wait-for-reader", metavar="S", type=positive_float("--wait-for-reader"), default=None,
+                   help="hold the first sample until a reader connects (at most S seconds), so a scripted "
+                        "scenario (the tap test's taps) starts with the reader")
     p.add_argument("--list", action="store_true", help="list the scenarios and their faults, then exit")
     p.set_defaults(func=run)
 
@@ -88,12 +92,14 @@ def run(args: argparse.Namespace) -> int:
     prepare_lsl()
     pub = Publisher(scenario, name=args.name, speed=args.speed, source_id=args.source_id,
                     duration_s=args.duration)
-    pub.start()
+    pub.start(wait_for_consumer_s=args.wait_for_reader or 0.0)
     until = f"for {args.duration:g} s" if args.duration else "until Ctrl-C"
     print(
         f"publishing '{pub.name}' (source_id {pub.source_id}): scenario {scenario.name}, "
         f"{scenario.n_channels} channels at {scenario.rate_hz:g} Hz in {scenario.units}, "
-        f"{args.speed:g}x real time, {until}. Invented demo data.",
+        f"{args.speed:g}x real time, {until}"
+        + (f", from when a reader connects (at most {args.wait_for_reader:g} s)" if args.wait_for_reader else "")
+        + ". Invented demo data.",
         flush=True,
     )
     for line in describe_faults(scenario):

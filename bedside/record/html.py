@@ -272,6 +272,18 @@ def ready_sentence(log_: SetupLog) -> str:
     return words
 
 
+def tap_sentence(log_: SetupLog) -> str:
+    """The newest tap test (which lead is in which input) as a sentence."""
+    if not log_.tap_tests:
+        return "not done (no tap test was recorded)"
+    t = log_.tap_tests[-1]
+    confirmed = sum(c.outcome == "confirmed" for c in t.results)
+    words = f"at {_t(t.at)} ({t.how or 'bedside'}): {confirmed} of {len(t.results)} electrodes confirmed"
+    if t.passed:
+        return words + ", each touch on its own channel"
+    return words + ("; " + "; ".join(t.problems) if t.problems else "")
+
+
 def _measured_values(log_: SetupLog, names: list[str]) -> list[str]:
     """The final values per electrode, in plain words with units (bedside.metric_labels),
     grouped by what they are about; technical values stay in the setup log file only."""
@@ -412,6 +424,7 @@ def render_report(log_: SetupLog) -> str:
         ("Reference / ground", f"{log_.reference or '—'} / {log_.ground or '—'}"),
         ("Mains", f"{log_.power_line_hz:g} Hz" if log_.power_line_hz else "—"),
         ("Ready to record", ready_sentence(log_)),
+        ("Tap test", tap_sentence(log_)),
         (
             "Signed off",
             (f"{log_.sign_off.initials} at {_t(log_.sign_off.at)}" + "".join(

@@ -164,6 +164,37 @@ class ReadyRecord:
     how: str = ""
 
 
+TapOutcomeKey = Literal["confirmed", "elsewhere", "shared", "everywhere", "not_found"]
+
+
+@dataclass(frozen=True)
+class TapCheck:
+    """One electrode of a tap test (``bedside.checks.taptest``): its outcome, the
+    channel(s) its touch showed on (strongest first) and the words said."""
+
+    electrode: str
+    outcome: TapOutcomeKey
+    seen_on: tuple[str, ...] = ()
+    reason: str = ""
+
+
+@dataclass(frozen=True)
+class TapTestRecord:
+    """A guided tap test: when it ended, who ran it ("bedside taptest", "app"), the wait
+    per electrode, each electrode's result in walk order and the problems in words
+    (swapped pairs named). Passed when every electrode walked was confirmed."""
+
+    at: datetime
+    how: str
+    timeout_s: float
+    results: tuple[TapCheck, ...] = ()
+    problems: tuple[str, ...] = ()
+
+    @property
+    def passed(self) -> bool:
+        return bool(self.results) and all(r.outcome == "confirmed" for r in self.results)
+
+
 @dataclass(frozen=True)
 class TapedMeasurements:
     """The three measurements as taped, in the unit they were taped in ("cm", "mm" or
@@ -244,6 +275,8 @@ class SetupLog:
     notes: list[Note] = field(default_factory=list)
     #: The first time the start gate was reached (None: never; logs before it had none).
     ready: ReadyRecord | None = None
+    #: Guided tap tests, oldest first (logs written before them have none).
+    tap_tests: list[TapTestRecord] = field(default_factory=list)
     sign_off: SignOff | None = None
     #: Streams checked before the current one, oldest first; ``stream``, ``timeline``,
     #: ``findings`` and ``final`` always belong to the current stream alone.
@@ -482,7 +515,7 @@ def shallow_copy(log: SetupLog) -> SetupLog:
     """A copy whose lists and mappings are new but whose (frozen) entries are shared:
     cheap, and safe to read while the original grows."""
     copied = dataclasses.replace(log)
-    for name in (*_APPEND_ONLY, "final", "earlier_streams"):
+    for name in (*_APPEND_ONLY, "final", "earlier_streams", "tap_tests"):
         setattr(copied, name, type(getattr(log, name))(getattr(log, name)))
     return copied
 

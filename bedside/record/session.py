@@ -79,7 +79,9 @@ from bedside.record.log import (
     SignOff,
     StreamRecord,
     StreamSection,
+    TapCheck,
     TapedMeasurements,
+    TapTestRecord,
     base_digest,
     dump_yaml,
     journal_path,
@@ -741,6 +743,33 @@ class SessionRecorder:
             self._touch()
         self._wake.set()
 
+    def record_tap_test(self, results: Iterable[Any], problems: Iterable[Any] = (), how: str = "",
+                        timeout_s: float = 0.0) -> None:
+        """A guided tap test ended: ``results`` are objects with ``electrode``,
+        ``outcome``, ``seen_on`` and ``reason`` (``checks.taptest.TapResult``),
+        ``problems`` objects with ``words`` (``TapProblem``) or plain text. Kept in
+        ``tap_tests`` and said as an event."""
+        checks = tuple(
+            TapCheck(validate_electrode(str(r.electrode)), _tap_outcome(r.outcome),
+                     tuple(str(x) for x in r.seen_on), str(r.reason))
+            for r in results
+        )
+        if not checks:
+            raise InputError("a tap test with no electrode walked has nothing to record")
+        words = tuple(str(getattr(p, "words", p)) for p in problems)
+        with self._lock:
+            self._check_open()
+            at = self._now()
+            record = TapTestRecord(at, how, float(timeout_s), checks, words)
+            self._log.tap_tests.append(record)
+            confirmed = sum(c.outcome == "confirmed" for c in checks)
+            detail = f"tap test: {confirmed} of {len(checks)} electrodes confirmed"
+            if words:
+                detail += "; " + "; ".join(words)
+            self._log.events.append(Event(at, "tap_test", detail))
+            self._touch()
+        self._wake.set()
+
     def sign_off(self, initials: str, exceptions: Iterable[Any] = ()) -> None:
         """The technologist signs the setup off; saved at once (best effort).
         ``exceptions``: the electrodes not good at this moment, each with a typed reason
@@ -960,7 +989,7 @@ class SessionRecorder:
     def _records_nothing(self) -> bool:
         lg = self._log
         return not (lg.plan or lg.stream or lg.timeline or lg.findings or lg.impedances
-                    or lg.notes or lg.sign_off or lg.earlier_streams)
+                    or lg.notes or lg.sign_off or lg.earlier_streams or lg.tap_tests)
 
     @property
     def discarded(self) -> bool:
@@ -1092,6 +1121,13 @@ def _link_or_reserve_and_rename(old: Path, new: Path) -> bool:
     except OSError as exc:  # both names hold the log; the new one is written from now on
         log.warning("setup log: the old name %s could not be removed (%s)", old, exc.strerror)
     return True
+
+
+def _tap_outcome(value: Any) -> Any:
+    if value not in ("confirmed", "elsewhere", "shared", "everywhere", "not_found"):
+        raise InputError(f"tap test outcome {value!r} is not known; accepted: confirmed, elsewhere, "
+                         "shared, everywhere, not_found")
+    return value
 
 
 def _accepted(items: Iterable[Any]) -> tuple[AcceptedElectrode, ...]:

@@ -200,6 +200,11 @@ class SignalGenerator:
             _Slow(np.random.default_rng([scenario.seed, 0xD21F7, i]), 0.02, 0.3)
             for i in range(len(scenario.faults))
         ]
+        # Each tap fault's tap peaks (scenario seconds), made once.
+        self._tap_peaks = {
+            i: np.asarray(f.tap_peaks_s(scenario.duration_s), dtype=float)
+            for i, f in enumerate(scenario.faults) if f.kind == "tap"
+        }
         self._filters = self._make_filters()
         self._cache: OrderedDict[int, np.ndarray] = OrderedDict()
         self._chunk = max(1, int(round(0.25 * self.rate_hz)))
@@ -300,6 +305,7 @@ class SignalGenerator:
         ground = np.zeros(n_samples)
         channel_faults: list[tuple[int, Fault, np.ndarray]] = []
         bridges: list[tuple[int, Fault, np.ndarray]] = []
+        swaps: list[tuple[int, Fault, np.ndarray]] = []
         for i, fault in enumerate(self.scenario.faults):
             end = fault.end_s if fault.end_s is not None else self.scenario.duration_s
             mask = (tf >= fault.start_s) & (tf < end)
@@ -310,6 +316,9 @@ class SignalGenerator:
                 continue
             if fault.kind == "bridge":
                 bridges.append((i, fault, mask))
+                continue
+            if fault.kind == "swap":
+                swaps.append((i, fault, mask))
                 continue
             add = self._fault_signal(i, fault, t, tf, mask, muscle_noise)
             target = fault.electrodes[0]
@@ -330,6 +339,11 @@ class SignalGenerator:
         x = e
         x[:, self._scalp] -= ref[:, None]
         x += np.outer(ground, self._mismatch)
+        # Swapped leads: each electrode's signal (its taps, its impedance's mains) goes
+        # into the other's input; the inputs' own noise and faults stay with the input.
+        for _, fault, mask in swaps:
+            a, b = (self._index[n] for n in fault.electrodes)
+            x[mask, a], x[mask, b] = x[mask, b], x[mask, a].copy()
         x += white * bg.amplifier_noise_uv
         for i, fault, mask in channel_faults:
             col = self._index[fault.electrodes[0]]
@@ -370,6 +384,8 @@ class SignalGenerator:
         elif kind == "muscle":
             col = self._index[fault.electrodes[0]]
             out[mask] = fault.param("amplitude_uv") * muscle_noise[mask, col]
+        elif kind == "tap":
+            out[mask] = self._taps(i, fault, tf[mask])
         elif kind == "reference":
             out[mask] = fault.param("amplitude_uv") * self._mains(t[mask], 3) + fault.param(
                 "drift_uv"
@@ -387,6 +403,20 @@ class SignalGenerator:
             amp = (0.3 if h % 2 else 0.1) / (h - 1)
             s = s + amp * np.sin(2 * np.pi * h * f0 * t + h * self._mains_phase)
         return s
+
+    def _taps(self, i: int, fault: Fault, tf: np.ndarray) -> np.ndarray:
+        """Gaussian pulses of full width at half maximum width_s at the fault's tap peaks."""
+        out = np.zeros_like(tf)
+        peaks = self._tap_peaks.get(i)
+        if tf.size == 0 or peaks is None or peaks.size == 0:
+            return out
+        width = fault.param("width_s")
+        sigma = width / (2.0 * math.sqrt(2.0 * math.log(2.0)))
+        lo, hi = np.searchsorted(peaks, [float(tf.min()) - 3 * width, float(tf.max()) + 3 * width])
+        amp = fault.param("amplitude_uv")
+        for peak in peaks[lo:hi]:
+            out += amp * np.exp(-0.5 * ((tf - peak) / sigma) ** 2)
+        return out
 
     def _pops(self, i: int, fault: Fault, tau: np.ndarray) -> np.ndarray:
         """Steps that decay exponentially, one every interval_s from the fault's start."""

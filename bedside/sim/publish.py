@@ -22,6 +22,7 @@ import logging
 import math
 import socket
 import threading
+import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -254,8 +255,11 @@ class StreamPublisher:
         rate = self.spec.rate_hz
         max_chunk = max(1, int(self.MAX_CHUNK_S * rate))
         try:
-            if self._wait_for_consumer_s > 0:
-                self._outlet.wait_for_consumers(self._wait_for_consumer_s)
+            if self._wait_for_consumer_s > 0:  # in slices, so stop() is heard meanwhile
+                until = time.monotonic() + self._wait_for_consumer_s
+                while not self._stop.is_set() and time.monotonic() < until:
+                    if self._outlet.wait_for_consumers(min(0.25, max(0.0, until - time.monotonic()))):
+                        break
             self._t0 = float(self._clock())
             self._started.set()
             while not self._stop.is_set():

@@ -12,11 +12,19 @@ it as ground truth::
       - {electrode: [C3, CP1], kind: bridge, start_s: 0}      # a bridge names both
       - {electrode: REF, kind: reference, start_s: 120, end_s: 150}
 
-``electrode`` is one channel label, or a list of exactly two labels for ``bridge``.
+``electrode`` is one channel label, or a list of exactly two labels for ``bridge`` and
+``swap``. Two kinds are there for the tap test (``bedside taptest``), not for the
+quality checks: ``tap`` is a technologist's touch on the electrode (a brief deflection,
+one at ``start_s`` and one every ``interval_s`` while the fault is on, each peaking
+``2·width_s`` after it is made), and ``swap`` puts two leads in each other's inputs
+(the two channels' signals are exchanged, taps included)::
+
+      - {electrode: Fp1, kind: tap, start_s: 3, end_s: 4}
+      - {electrode: [Fp1, Fp2], kind: swap, start_s: 0}
 Two pseudo-electrodes stand for the shared electrodes of the montage:
 
 * ``REF`` — the common reference. Faults on it (``reference``, and ``line_noise``,
-  ``drift``, ``pop``) reach every scalp channel with the same sign and phase,
+  ``drift``, ``pop``, ``tap``) reach every scalp channel with the same sign and phase,
   because each channel is recorded as electrode minus reference.
 * ``GND`` — the ground / driven-right-leg. Only ``line_noise`` applies: a poor
   ground lets mains into every scalp channel, scaled by each electrode's impedance
@@ -44,11 +52,13 @@ DEMO_DIR = Path(__file__).resolve().parent.parent.parent / "demo_streams"
 DEFAULT_SCENARIO = "ward_demo"
 
 FaultKind = Literal[
-    "line_noise", "flat", "drift", "bridge", "pop", "clipping", "muscle", "reference"
+    "line_noise", "flat", "drift", "bridge", "pop", "clipping", "muscle", "reference", "tap", "swap"
 ]
 FAULT_KINDS: tuple[str, ...] = (
-    "line_noise", "flat", "drift", "bridge", "pop", "clipping", "muscle", "reference",
+    "line_noise", "flat", "drift", "bridge", "pop", "clipping", "muscle", "reference", "tap", "swap",
 )
+#: Fault kinds that name two electrodes.
+PAIR_KINDS = ("bridge", "swap")
 
 #: Pseudo-electrodes: the common reference and the ground (see the module docstring).
 REFERENCE = "REF"
@@ -65,6 +75,8 @@ _PARAMS: dict[str, tuple[str, ...]] = {
     "clipping": ("rail_uv", "offset_uv"),
     "muscle": ("amplitude_uv",),
     "reference": ("amplitude_uv", "drift_uv"),
+    "tap": ("amplitude_uv", "interval_s", "width_s"),
+    "swap": (),
 }
 
 #: Defaults of the optional fault parameters, per kind. Amplitudes are our own
@@ -88,6 +100,12 @@ FAULT_DEFAULTS: dict[str, dict[str, float]] = {
     "muscle": {"amplitude_uv": 40.0},
     # A loose reference: mains and slow drift in every channel.
     "reference": {"amplitude_uv": 30.0, "drift_uv": 120.0},
+    # A technologist's touch on an electrode (the tap test): a brief deflection of a few
+    # hundred µV for tens of ms (common practice); width_s is the full width at half
+    # maximum. One tap at start_s, then one every interval_s while the fault is on.
+    "tap": {"amplitude_uv": 300.0, "interval_s": 2.0, "width_s": 0.04},
+    # Two leads in each other's inputs: the two channels' signals exchanged (no parameters).
+    "swap": {},
 }
 
 # EDF's limit is 16 characters; spaces inside allow decorated labels ("EEG Fp1-REF").
@@ -98,7 +116,7 @@ _LABEL_RE = re.compile(r"^[A-Za-z](?:[A-Za-z0-9' _-]{0,14}[A-Za-z0-9'])?$")
 class Fault:
     """One scripted fault: ``kind`` on ``electrode`` from ``start_s`` to ``end_s`` (s).
 
-    ``electrode`` is a label, ``REF``/``GND``, or two labels for a bridge. The optional
+    ``electrode`` is a label, ``REF``/``GND``, or two labels for a bridge or a swap. The optional
     parameters (all None = the kind's default in :data:`FAULT_DEFAULTS`) are only
     accepted for the kinds that use them.
     """
@@ -117,17 +135,18 @@ class Fault:
     tau_s: float | None = field(default=None, metadata={"min": 0.001, "max": 60})
     rail_uv: float | None = field(default=None, metadata={"min": 1, "max": 1000000})
     drift_uv: float | None = field(default=None, metadata={"min": 0, "max": 100000})
+    width_s: float | None = field(default=None, metadata={"min": 0.005, "max": 1.0})
 
     def __post_init__(self) -> None:
         names = self.electrodes
-        if self.kind == "bridge":
+        if self.kind in PAIR_KINDS:
             if len(names) != 2 or names[0] == names[1]:
                 raise ValueError(
-                    f"a bridge names two different electrodes, e.g. electrode: [C3, CP1]; got {list(names)}"
+                    f"a {self.kind} names two different electrodes, e.g. electrode: [C3, CP1]; got {list(names)}"
                 )
         elif len(names) != 1:
             raise ValueError(
-                f"a {self.kind} fault names one electrode (only a bridge names two); got {list(names)}"
+                f"a {self.kind} fault names one electrode (only a bridge or a swap names two); got {list(names)}"
             )
         if self.end_s is not None and self.end_s <= self.start_s:
             raise ValueError(f"end_s ({self.end_s}) must be after start_s ({self.start_s})")
@@ -152,6 +171,23 @@ class Fault:
         if value is None:
             return float(FAULT_DEFAULTS[self.kind][name])
         return float(value)
+
+    def tap_peaks_s(self, duration_s: float) -> tuple[float, ...]:
+        """A tap fault's taps: the scenario times (s) of their peaks. Tap k is made at
+        start_s + k·interval_s and peaks 2·width_s later (so it rises from zero inside
+        the fault); only taps whose whole pulse (peak ± 2·width_s) fits before the end."""
+        if self.kind != "tap":
+            return ()
+        end = self.end_s if self.end_s is not None else duration_s
+        interval, width = self.param("interval_s"), self.param("width_s")
+        out: list[float] = []
+        k = 0
+        while True:
+            peak = self.start_s + k * interval + 2 * width
+            if peak + 2 * width > end:
+                return tuple(out)
+            out.append(peak)
+            k += 1
 
     def active(self, t_s: float, duration_s: float) -> bool:
         """True if the fault is on at scenario time ``t_s`` (already folded into one loop)."""
@@ -242,10 +278,10 @@ class Scenario:
         for i, fault in enumerate(self.faults):
             for name in fault.electrodes:
                 if name == REFERENCE:
-                    if fault.kind not in ("reference", "line_noise", "drift", "pop"):
+                    if fault.kind not in ("reference", "line_noise", "drift", "pop", "tap"):
                         raise ValueError(
                             f"faults[{i}]: a {fault.kind} fault cannot be on REF "
-                            "(accepted on REF: reference, line_noise, drift, pop)"
+                            "(accepted on REF: reference, line_noise, drift, pop, tap)"
                         )
                 elif name == GROUND:
                     if fault.kind != "line_noise":

@@ -67,6 +67,8 @@ class DisplayBuffer:
         self._data = np.zeros((self.capacity, n_channels), dtype=np.float64)
         self._filled = 0
         self._head = 0  # next write position
+        #: Samples appended since creation (the tap test reads what is new by it).
+        self.total = 0
         self._lock = threading.Lock()
 
     def append(self, samples_uv: np.ndarray) -> None:
@@ -77,10 +79,12 @@ class DisplayBuffer:
         n_ch = self._data.shape[1]
         if block.shape[1] != n_ch:
             return  # a stream that changed shape: the stream package reports it
+        given = block.shape[0]
         if block.shape[0] >= self.capacity:
             block = block[-self.capacity :]
         n = block.shape[0]
         with self._lock:
+            self.total += given
             end = self._head + n
             if end <= self.capacity:
                 self._data[self._head : end] = block
@@ -94,9 +98,20 @@ class DisplayBuffer:
     def window(self) -> np.ndarray:
         """A copy of what is held, oldest first, shape (n_samples, n_channels) in µV."""
         with self._lock:
-            if self._filled < self.capacity:
-                return self._data[: self._filled].copy()
-            return np.concatenate([self._data[self._head :], self._data[: self._head]])
+            return self._held()
+
+    def _held(self) -> np.ndarray:
+        if self._filled < self.capacity:
+            return self._data[: self._filled].copy()
+        return np.concatenate([self._data[self._head :], self._data[: self._head]])
+
+    def since(self, total: int) -> tuple[np.ndarray, int]:
+        """The samples appended after the first ``total`` (at most what is held), oldest
+        first, and the count to ask from next time."""
+        with self._lock:
+            new = max(0, min(self.total - int(total), self._filled))
+            held = self._held()
+            return held[held.shape[0] - new:], self.total
 
 
 class TeeSource(PassThrough):

@@ -212,6 +212,20 @@ def _make_engine(settings: Any, source: Source) -> tuple[Any, str]:
     return Engine(settings, source.channels, source.identity.nominal_rate_hz, **kwargs), note
 
 
+def _make_tap_walk(names: Sequence[str], scalp: Sequence[bool], rate_hz: float) -> Any:
+    from bedside.checks.taptest import TapWalk, load_tap_settings
+
+    settings = load_tap_settings()
+    order = [n for n, ok in zip(names, scalp, strict=True) if ok]
+    return TapWalk(names, order, rate_hz, scalp, settings.timeout_s, settings)
+
+
+def _summarise_taps(results: Sequence[Any]) -> tuple[Any, ...]:
+    from bedside.checks.taptest import summarise
+
+    return summarise(results)
+
+
 def _make_monitor(
     source: Source, engine: Any, on_frame: Callable[[Any], None], update_hz: float
 ) -> MonitorLike:
@@ -262,6 +276,11 @@ class Services:
         _preview_channels)
     save_channel_choices: Callable[[str, Mapping[str, Any]], Path | None] = _save_channel_choices
     make_monitor: Callable[[Source, Any, Callable[[Any], None], float], MonitorLike] = _make_monitor
+    #: (channel names, scalp mask, rate) → the tap test's walk over every scalp channel
+    #: in stream order (``checks.taptest.TapWalk``, settings from configs/taptest.yaml).
+    make_tap_walk: Callable[[Sequence[str], Sequence[bool], float], Any] = _make_tap_walk
+    #: A walk's results → its problems (swapped pairs named; ``checks.taptest.summarise``).
+    summarise_taps: Callable[[Sequence[Any]], tuple[Any, ...]] = _summarise_taps
     open_recorder: Callable[[Path, str, str, Sequence[Path]], RecorderLike] | None = _open_recorder
     extra: dict[str, Any] = field(default_factory=dict)
 

@@ -52,7 +52,7 @@ def readme_examples() -> list[str]:
 MAKE_TARGETS = {"make demo": "bedside demo", "make test": "pytest"}
 
 #: Until stopped by the person (Ctrl-C). Each must be running after SETTLE_S and then exit 0.
-UNTIL_STOPPED = ("bedside simulate clean", "bedside replay")
+UNTIL_STOPPED = ("bedside simulate clean", "bedside simulate tap_swap", "bedside replay")
 SETTLE_S = 3.0
 
 #: The app: opened in a real terminal (tmux), then left with q.
@@ -84,6 +84,16 @@ def stream() -> object:
     name = f"readme-{uuid.uuid4().hex[:8]}"
     pub = Publisher("ward_demo", name=name, source_id=f"sid-{name}", duration_s=600.0, speed=1.0)
     with pub.start():
+        yield name
+
+
+@pytest.fixture
+def tap_stream() -> object:
+    """The tap test's NAME: the scripted tap_walk scenario, held until the command reads it
+    (as `bedside simulate tap_walk --wait-for-reader 60` does), at 4× real time."""
+    name = f"readme-tap-{uuid.uuid4().hex[:8]}"
+    pub = Publisher("tap_walk", name=name, source_id=f"sid-{name}", duration_s=40.0, speed=4.0)
+    with pub.start(wait_for_consumer_s=60.0):
         yield name
 
 
@@ -182,7 +192,20 @@ def _kind(cmd: str) -> str:
     return "once"
 
 
-@pytest.mark.parametrize("example", readme_examples())
+@pytest.mark.parametrize("example", [e for e in readme_examples() if e.startswith("bedside taptest")])
+def test_readme_tap_test_runs(example: str, tap_stream: str, tmp_path: Path) -> None:
+    """The tap test against the scripted walk: every electrode confirmed, exit 0."""
+    import json
+
+    done = _run(_fill(example, tap_stream, tmp_path), tmp_path)
+    assert done.returncode == 0, done.stderr
+    assert "Traceback" not in done.stderr
+    if "--format json" in example:
+        report = json.loads(done.stdout)
+        assert report["passed"] and all(r["outcome"] == "confirmed" for r in report["results"])
+
+
+@pytest.mark.parametrize("example", [e for e in readme_examples() if not e.startswith("bedside taptest")])
 def test_readme_example_runs(example: str, stream: str, tmp_path: Path) -> None:
     kind = _kind(example)
     if kind == "make":

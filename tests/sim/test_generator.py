@@ -384,3 +384,72 @@ def test_decorated_labels_keep_their_topography() -> None:
 
     assert label_position("EEG Fp1-REF") == label_position("Fp1")
     assert label_position("T5") == label_position("P7")  # classic T5 = modern P7 (ACNS Guideline 2, 2016)
+
+
+# ----- the tap test's kinds: tap and swap ---------------------------------------------
+
+
+def test_taps_are_brief_pulses_where_and_when_scripted() -> None:
+    """Each scripted tap is one pulse on its own electrode: height and width measured by
+    SciPy's ``find_peaks`` / ``peak_widths`` (the outside reference), at the scheduled
+    time, and nothing like it on the other channels. The defaults are a few hundred µV
+    for tens of ms (common practice)."""
+    from scipy.signal import peak_widths
+
+    scn = load_scenario("tap_walk")
+    gen = SignalGenerator(scn)
+    x = gen.generate(0, int(30 * gen.rate_hz))
+    # Background removed: the same scenario without its faults (same seed, same samples).
+    import dataclasses
+
+    bare = SignalGenerator(dataclasses.replace(scn, faults=())).generate(0, x.shape[0])
+    diff = x - bare
+    for fault in scn.faults:
+        col = scn.channels.index(fault.electrodes[0])
+        peaks, props = find_peaks(diff[:, col], height=50.0)
+        assert len(peaks) == 1, (fault.electrode, peaks)
+        # Scheduled: made at start_s, peaking 2·width_s later (the scenario's docstring).
+        assert peaks[0] / gen.rate_hz == pytest.approx(fault.start_s + 2 * 0.04, abs=1.0 / gen.rate_hz)
+        assert props["peak_heights"][0] == pytest.approx(300.0, rel=0.01)
+        fwhm_s = peak_widths(diff[:, col], peaks, rel_height=0.5)[0][0] / gen.rate_hz
+        assert fwhm_s == pytest.approx(0.04, abs=1.5 / gen.rate_hz)
+        lo, hi = int(fault.start_s * gen.rate_hz), int(fault.end_s * gen.rate_hz)  # type: ignore[operator]
+        others = np.delete(diff[lo:hi], col, axis=1)
+        assert np.abs(others).max() < 1e-6  # no other channel changed while it was touched
+
+
+def test_swap_exchanges_two_channels_and_nothing_else() -> None:
+    """A swap: channel C3 carries exactly what C4 would have carried without it (and the
+    other way round), up to the inputs' own amplifier noise; every other channel is
+    unchanged, sample for sample."""
+    import dataclasses
+
+    swapped = load_scenario("tap_swap")
+    plain = dataclasses.replace(swapped, faults=tuple(f for f in swapped.faults if f.kind != "swap"))
+    n = int(20 * swapped.rate_hz)
+    xs = SignalGenerator(swapped).generate(0, n)
+    xp = SignalGenerator(plain).generate(0, n)
+    c3, c4 = swapped.channels.index("C3"), swapped.channels.index("C4")
+    noise = 6 * swapped.background.amplifier_noise_uv  # both inputs' own noise, well inside 6 SD
+    assert np.abs(xs[:, c3] - xp[:, c4]).max() < noise
+    assert np.abs(xs[:, c4] - xp[:, c3]).max() < noise
+    assert np.abs(xs[:, c3] - xp[:, c3]).max() > 100  # C3's touch at 13 s went to C4
+    rest = [i for i in range(swapped.n_channels) if i not in (c3, c4)]
+    assert np.array_equal(xs[:, rest], xp[:, rest])
+
+
+def test_tap_on_the_reference_shows_on_every_scalp_channel() -> None:
+    """Each channel is electrode minus reference: a touch on REF reaches every scalp
+    channel alike, with the opposite sign (scenario docstring), and not the ECG."""
+    import dataclasses
+
+    from bedside.sim.scenario import Fault
+
+    scn = load_scenario("tap_walk")
+    ref = dataclasses.replace(scn, faults=(Fault(electrode="REF", kind="tap", start_s=3, end_s=4),))
+    bare = dataclasses.replace(scn, faults=())
+    n = int(5 * scn.rate_hz)
+    diff = SignalGenerator(ref).generate(0, n) - SignalGenerator(bare).generate(0, n)
+    scalp = [i for i, t in enumerate(scn.channel_types) if t == "EEG"]
+    assert np.allclose(diff[:, scalp].min(axis=0), -300.0, rtol=0.01)
+    assert np.abs(diff[:, scn.channels.index("ECG")]).max() < 1e-9

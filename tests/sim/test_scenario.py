@@ -137,3 +137,23 @@ def test_non_looping_scenario_ends() -> None:
 
     s = dataclasses.replace(load_scenario("ward_demo"), loop=False)
     assert s.active_faults(20.0) and not s.active_faults(20.0 + s.duration_s)
+
+
+def test_tap_and_swap_faults(tmp_path: Path) -> None:
+    """The tap test's kinds: a swap names two channels; a tap one electrode or REF; a
+    tap's schedule is one tap at start_s, then one per interval_s while it fits."""
+    s = load_scenario(_write(tmp_path, MINIMAL + "faults:\n"
+                             "  - {electrode: [Fp1, Fp2], kind: swap}\n"
+                             "  - {electrode: C3, kind: tap, start_s: 2, end_s: 7, interval_s: 2, width_s: 0.05}\n"
+                             "  - {electrode: REF, kind: tap, start_s: 10, end_s: 11}\n"))
+    assert s.faults[0].electrodes == ("Fp1", "Fp2")
+    # Peaks 2·width after each tap; the tap at 6 s would end at 6.2 s, inside 7 s.
+    assert s.faults[1].tap_peaks_s(s.duration_s) == pytest.approx((2.1, 4.1, 6.1))
+    assert s.faults[2].tap_peaks_s(s.duration_s) == pytest.approx((10.08,))
+    assert {"Fp1", "Fp2", "C3"} <= s.affected_channels(3.0)
+    with pytest.raises(ConfigError, match="a swap names two different electrodes"):
+        load_scenario(_write(tmp_path, MINIMAL + "faults:\n  - {electrode: Fp1, kind: swap}\n"))
+    with pytest.raises(ConfigError, match="cannot be on REF"):
+        load_scenario(_write(tmp_path, MINIMAL + "faults:\n  - {electrode: [REF, Fp1], kind: swap}\n"))
+    with pytest.raises(ConfigError, match="'width_s' does not apply to a pop"):
+        load_scenario(_write(tmp_path, MINIMAL + "faults:\n  - {electrode: C3, kind: pop, width_s: 0.1}\n"))

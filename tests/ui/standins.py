@@ -204,6 +204,7 @@ class MemoryRecorder:
     stream: Any = None
     exceptions: tuple[Any, ...] = ()
     ready: list[tuple[float, tuple[Any, ...], str]] = field(default_factory=list)
+    tap_tests: list[tuple[tuple[Any, ...], tuple[Any, ...], str, float]] = field(default_factory=list)
 
     def set_plan(self, plan: Any, taped: Any = None) -> None:
         self.plan = plan
@@ -235,6 +236,9 @@ class MemoryRecorder:
 
     def set_ready(self, held_s: float, accepted: Any = (), how: str = "") -> None:
         self.ready.append((held_s, tuple(accepted), how))
+
+    def record_tap_test(self, results: Any, problems: Any = (), how: str = "", timeout_s: float = 0.0) -> None:
+        self.tap_tests.append((tuple(results), tuple(problems), how, timeout_s))
 
     def save_now(self) -> None:
         self.saves += 1

@@ -33,6 +33,11 @@ KEYS = (
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
+        ("k", "tap test: touch each electrode when it is named; shows where each touch landed"),
+    )),
+    ("Tap test", (
+        ("touch, when named", "lightly, each electrode in turn; the result shows as it comes"),
+        ("r / Esc", "walk again / back to Watch (a walk not finished is not logged)"),
     )),
     ("Channels", (
         ("↑ ↓, Tab", "choose a channel, then its name and type fields"),

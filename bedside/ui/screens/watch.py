@@ -58,6 +58,7 @@ class WatchScreen(Screen[None]):
         Binding("p", "pick_stream", "Streams"),
         Binding("r", "rescan", "Look again", show=False),
         Binding("b", "toggle_bell", "Bell", show=False),
+        Binding("k", "tap_test", "Tap test", show=False),
     ]
 
     def __init__(self) -> None:
@@ -232,6 +233,11 @@ class WatchScreen(Screen[None]):
 
     def action_toggle_bell(self) -> None:
         self.bedside.toggle_bell()
+
+    def action_tap_test(self) -> None:
+        from bedside.ui.screens.tap_test import TapTestScreen
+
+        self.app.push_screen(TapTestScreen())
 
     def action_rescan(self) -> None:
         self.bedside.discover(force_picker=False)
