@@ -10,6 +10,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Static
 
 from bedside.cautions import CAUTIONS, DISCLAIMER
+from bedside.checks.types import NO_DATA_COLOUR, NO_DATA_SYMBOL, NO_DATA_WORD, Level
 
 KEYS = (
     ("Everywhere", (
@@ -45,11 +46,12 @@ KEYS = (
     )),
 )
 
+#: What each level asks of the technologist (the words and looks: bedside.checks.types).
 LEGEND = (
-    ("●", "green", "good — ready to record"),
-    ("▲", "yellow", "check — look at the reason"),
-    ("✖", "red", "fix — re-seat, re-prepare or replace"),
-    ("?", "grey50", "no live data — nothing is known now"),
+    (Level.GOOD.symbol, Level.GOOD.colour, f"{Level.GOOD.word} — ready to record"),
+    (Level.CHECK.symbol, Level.CHECK.colour, f"{Level.CHECK.word} — look at the reason"),
+    (Level.BAD.symbol, Level.BAD.colour, f"{Level.BAD.word} — re-seat, re-prepare or replace"),
+    (NO_DATA_SYMBOL, NO_DATA_COLOUR, f"{NO_DATA_WORD} — no live data, nothing is known now"),
 )
 
 

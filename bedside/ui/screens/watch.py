@@ -53,7 +53,7 @@ class WatchScreen(Screen[None]):
     BINDINGS = [
         Binding("t", "toggle_trace", "Trace"),
         Binding("v", "cycle_derivation", "Derivation"),
-        Binding("n", "next_not_good", "To fix"),
+        Binding("n", "next_not_good", "Next not good"),
         Binding("c", "channels", "Channels"),
         Binding("p", "pick_stream", "Streams"),
         Binding("r", "rescan", "Look again", show=False),

@@ -17,11 +17,11 @@ from dataclasses import dataclass
 from rich.text import Text
 from textual.widget import Widget
 
-from bedside.checks.types import NO_DATA_SYMBOL, Level
+from bedside.checks.types import NO_DATA_COLOUR, NO_DATA_SYMBOL, Level
 
 #: How marks look in the Measure view (no level: a plain placement dot).
 MARK_SYMBOL = "•"
-NO_DATA_STYLE = "grey50"
+NO_DATA_STYLE = NO_DATA_COLOUR
 
 
 @dataclass(frozen=True)
