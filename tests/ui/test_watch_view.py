@@ -51,7 +51,7 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         assert _state(app, "Cz").plain == "● good"
         # Names sit beside their symbol: left half "●Cz", right half "O2▲" (mirrored).
         assert "O2▲" in text and "●Cz" in text
-        assert "F3═C3" in text  # the bridge finding names both electrodes
+        assert "bridge a F3 + C3" in text  # the bridge finding names both electrodes and their tag
         assert "2 of 19 not good yet: T7 O2" in text  # ECG is not a scalp electrode
         assert "250 Hz set / 249.6 Hz seen" in text and "gaps 1" in text
         assert "standin-bed" in text and "standin-bed-sid" in text  # pinned identity

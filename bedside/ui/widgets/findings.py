@@ -8,6 +8,7 @@ from textual.widgets import Static
 from bedside.checks.types import NO_DATA_COLOUR, ChannelQuality, Finding, Level
 from bedside.ui.progress import Progress
 from bedside.ui.widgets.channel_table import format_seconds
+from bedside.ui.widgets.head_map import bridge_tag
 
 
 def selected_text(selected: ChannelQuality | None, live: bool) -> Text:
@@ -33,13 +34,19 @@ def findings_text(
     if not findings:
         out.append("no setup-wide findings", style="grey62")
         return out
+    bridges = 0
     for i, f in enumerate(findings):
         if i:
             out.append("\n")
-        who = "═".join(f.electrodes) if f.kind == "bridge" else ", ".join(f.electrodes)
         out.append(f"{f.level.symbol} {f.level.word} {f.kind}", style=f"bold {f.level.colour}")
-        if who:
-            out.append(f" {who}", style="bold")
+        if f.kind == "bridge" and len(f.electrodes) >= 2:
+            # The same tag the head map puts on both electrodes (widgets/head_map.py).
+            out.append(" ")
+            out.append(bridge_tag(bridges), style=f"bold reverse {f.level.colour}")
+            bridges += 1
+            out.append(f" {' + '.join(f.electrodes)}", style="bold")
+        elif f.electrodes:
+            out.append(f" {', '.join(f.electrodes)}", style="bold")
         out.append(f": {f.reason}")
     return out
 
