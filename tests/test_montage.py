@@ -27,13 +27,11 @@ from bedside.montage import (
 )
 
 #: Longitudinal bipolar, 18 derivations (from memory of the guideline's LB-18 list).
-LB_18 = ("Fp1-F7 F7-T7 T7-P7 P7-O1 Fp1-F3 F3-C3 C3-P3 P3-O1 Fz-Cz Cz-Pz "
-         "Fp2-F4 F4-C4 C4-P4 P4-O2 Fp2-F8 F8-T8 T8-P8 P8-O2").split()
+LB_18 = ["Fp1-F7", "F7-T7", "T7-P7", "P7-O1", "Fp1-F3", "F3-C3", "C3-P3", "P3-O1", "Fz-Cz", "Cz-Pz", "Fp2-F4", "F4-C4", "C4-P4", "P4-O2", "Fp2-F8", "F8-T8", "T8-P8", "P8-O2"]
 #: Transverse bipolar, 18 derivations (from memory of the guideline's TB-18 list).
-TB_18 = ("F7-Fp1 Fp1-Fp2 Fp2-F8 F7-F3 F3-Fz Fz-F4 F4-F8 T7-C3 C3-Cz Cz-C4 C4-T8 "
-         "P7-P3 P3-Pz Pz-P4 P4-P8 P7-O1 O1-O2 O2-P8").split()
+TB_18 = ["F7-Fp1", "Fp1-Fp2", "Fp2-F8", "F7-F3", "F3-Fz", "Fz-F4", "F4-F8", "T7-C3", "C3-Cz", "Cz-C4", "C4-T8", "P7-P3", "P3-Pz", "Pz-P4", "P4-P8", "P7-O1", "O1-O2", "O2-P8"]
 #: The 21 sites of the 10-20 system less the ear references (Jasper 1958; common practice).
-SITES_1020 = "Fp1 Fp2 F7 F3 Fz F4 F8 T7 C3 Cz C4 T8 P7 P3 Pz P4 P8 O1 O2".split()
+SITES_1020 = ["Fp1", "Fp2", "F7", "F3", "Fz", "F4", "F8", "T7", "C3", "Cz", "C4", "T8", "P7", "P3", "Pz", "P4", "P8", "O1", "O2"]
 
 
 def _xyz() -> dict[str, tuple[float, float, float]]:
