@@ -91,12 +91,17 @@ class DisplayBuffer:
             self._head = end % self.capacity
             self._filled = min(self.capacity, self._filled + n)
 
-    def window(self) -> np.ndarray:
-        """A copy of what is held, oldest first, shape (n_samples, n_channels) in µV."""
+    def window(self, last_n: int | None = None) -> np.ndarray:
+        """A copy of what is held (the newest ``last_n`` samples when given), oldest first,
+        shape (n_samples, n_channels) in µV."""
         with self._lock:
             if self._filled < self.capacity:
-                return self._data[: self._filled].copy()
-            return np.concatenate([self._data[self._head :], self._data[: self._head]])
+                held = self._data[: self._filled]
+                return (held if last_n is None else held[-last_n:] if last_n > 0 else held[:0]).copy()
+            whole = np.concatenate([self._data[self._head :], self._data[: self._head]])
+        if last_n is None:
+            return whole
+        return whole[-last_n:] if last_n > 0 else whole[:0]
 
 
 class TeeSource(PassThrough):

@@ -30,7 +30,7 @@ KEYS = (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),
         ("n", "jump to the next electrode that is not good yet"),
         ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
-        ("v", "trace as recorded → average reference → bipolar"),
+        ("v", "trace as recorded → average reference → longitudinal bipolar (its chain partner)"),
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
