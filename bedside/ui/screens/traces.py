@@ -117,6 +117,10 @@ class TracesScreen(Screen[str | None]):
     def on_mount(self) -> None:
         self.uv_per_row = self.bedside.config.page_uv_per_row
         self._replan()
+        if self.plan is not None and not self.plan.derivations:
+            # No 10-20 names for the chains (e.g. a numbered cap): start as recorded.
+            self.montage = "recorded"
+            self._replan()
         self._select_electrode(self.selected)
         self.set_interval(0.5, self.request_page)
         self.request_page()
@@ -187,9 +191,9 @@ class TracesScreen(Screen[str | None]):
         page_samples = max(2, int(round(req.page_s * buffer.rate_hz)))
         window = buffer.window(page_samples)
         part = dataclasses.replace(plan, derivations=plan.derivations[req.first:req.first + req.count])
-        rows = self.bedside.services.derive_montage(window, part, scalp) if part.derivations else None
         lanes: list[list[str]] = []
         clipped: list[bool] = []
+        rows = self.bedside.services.derive_montage(window, part, scalp) if part.derivations else ()
         for j in range(len(part.derivations)):
             lines, clip = lane_lines(rows[:, j], page_samples, req.width, req.lane_rows, req.uv_per_row)
             lanes.append(lines)
@@ -340,7 +344,9 @@ class TracesScreen(Screen[str | None]):
         self._render_page()
 
     def action_move_page(self, step: int) -> None:
+        """Turn a page: the rows shown and the selection move by a page's rows."""
         _rows, shown, _w = self._layout()
+        self.first = max(0, min(self.first + step * shown, max(0, self._n() - shown)))
         self.action_move(step * shown)
 
     def on_resize(self) -> None:
