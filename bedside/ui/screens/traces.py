@@ -193,7 +193,7 @@ class TracesScreen(Screen[str | None]):
         part = dataclasses.replace(plan, derivations=plan.derivations[req.first:req.first + req.count])
         lanes: list[list[str]] = []
         clipped: list[bool] = []
-        rows = self.bedside.services.derive_montage(window, part, scalp) if part.derivations else ()
+        rows: Any = self.bedside.services.derive_montage(window, part, scalp) if part.derivations else None
         for j in range(len(part.derivations)):
             lines, clip = lane_lines(rows[:, j], page_samples, req.width, req.lane_rows, req.uv_per_row)
             lanes.append(lines)
