@@ -81,8 +81,9 @@ class WatchScreen(Screen[None]):
         yield Header(show_clock=False)
         yield StreamStatus(id="stream-status")
         with Horizontal(id="watch-body"):
-            yield HeadMap(id="head-map")
+            # The list first (where the eye starts), the map beside it on the right.
             yield ChannelTable(id="channel-table")
+            yield HeadMap(id="head-map")
         yield TraceView(id="trace-view")
         yield Findings(id="findings")
         yield ProgressLine(id="progress")

@@ -106,6 +106,7 @@ class HeadMap(Widget):
         self._spread = 1.0
         self._unplaced: tuple[str, ...] = ()
         self._ring = 1.0
+        self._landmarks: tuple[tuple[int, int, str], ...] = ()
         #: Where each electrode's symbol went in the last render (column, row).
         self.drawn: dict[str, tuple[int, int]] = {}
 
@@ -206,11 +207,14 @@ class HeadMap(Widget):
         for i in range(steps):
             t = 2 * math.pi * i / steps
             cv.put(int(round(cx + ring_x * math.cos(t))), int(round(cy - ring_y * math.sin(t))), "·", "grey50")
-        landmark = "bold grey62"
-        cv.put(mid_col, top - 1, "N", landmark)
-        cv.put(mid_col, bottom + 1, "I", landmark)
-        cv.put(left - 1, mid_row, "L", landmark)
-        cv.put(right + 1, mid_row, "R", landmark)
+        self._landmarks = ((mid_col, top - 1, "N"), (mid_col, bottom + 1, "I"),
+                           (left - 2, mid_row, "L"), (right + 2, mid_row, "R"))
+
+    def _put_landmarks(self, cv: _Canvas) -> None:
+        """N, I, L, R after the electrodes, only where they touch no symbol or name."""
+        for col, row, letter in self._landmarks:
+            if cv.free(col, row) and all(not cv.inside(c, row) or cv.free(c, row) for c in (col - 1, col + 1)):
+                cv.put(col, row, letter, "bold grey62", own=True)
 
     def _style_for(self, name: str) -> tuple[str, str]:
         if self.marks_mode:
@@ -249,10 +253,12 @@ class HeadMap(Widget):
                     tags[name] = (bridge_tag(i), f"bold reverse {br.level.colour}")
         for name, (tag, style) in tags.items():
             col, row = placed[name]
-            for c in (col + 1, col - 1):
-                if cv.free(c, row):
-                    cv.put(c, row, tag, style, own=True)
-                    break
+            # Beside its symbol, on a side where the next cell is clear too, so the tag
+            # reads as this electrode's and not its neighbour's.
+            sides = [c for c in (col + 1, col - 1) if cv.free(c, row)]
+            clear = [c for c in sides if not cv.inside(2 * c - col, row) or cv.free(2 * c - col, row)]
+            if clear or sides:
+                cv.put((clear or sides)[0], row, tag, style, own=True)
         for name, (col, row) in placed.items():
             label = name
             _, style = self._style_for(name)
@@ -269,6 +275,7 @@ class HeadMap(Widget):
                     for i, ch in enumerate(label):
                         cv.put(start + i, row, ch, style, own=True)
                     break
+        self._put_landmarks(cv)
         self.drawn = placed
         out = cv.text()
         if note is not None:
@@ -289,11 +296,22 @@ class HeadMap(Widget):
 
     @staticmethod
     def _nearest_free(cv: _Canvas, col: int, row: int) -> tuple[int, int] | None:
+        """The free cell nearest the site, preferring one with a blank cell either side
+        (two symbols side by side would leave a name between them ambiguous); any free
+        cell when the map is that crowded. None only when the canvas is full."""
+        fallback: tuple[int, int] | None = None
         for radius in range(0, max(cv.w, cv.h)):
+            if fallback is not None and radius > 2:
+                return fallback
             for dr in range(-radius, radius + 1):
                 for dc in range(-radius, radius + 1):
                     if max(abs(dr), abs(dc)) != radius:
                         continue
-                    if cv.inside(col + dc, row + dr) and cv.free(col + dc, row + dr):
-                        return col + dc, row + dr
-        return None
+                    c, r = col + dc, row + dr
+                    if not (cv.inside(c, r) and cv.free(c, r)):
+                        continue
+                    if all(not cv.inside(x, r) or cv.free(x, r) for x in (c - 1, c + 1)):
+                        return c, r
+                    if fallback is None:
+                        fallback = (c, r)
+        return fallback
