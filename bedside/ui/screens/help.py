@@ -30,10 +30,17 @@ KEYS = (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),
         ("n", "jump to the next electrode that is not good yet"),
         ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
+        ("e", "the page of traces: every scalp channel, fixed µV per row, 10 s"),
         ("v", "trace as recorded → average reference → longitudinal bipolar (its chain partner)"),
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
+    )),
+    ("Page of traces", (
+        ("m", "montage: longitudinal bipolar → transverse → as recorded → average"),
+        ("+ / -", "bigger / smaller: fewer / more µV per row (never auto-scaled)"),
+        ("↑ ↓ PgUp PgDn", "choose a channel; the page scrolls or turns with it"),
+        ("Esc", "back to Watch, the channel chosen here selected"),
     )),
     ("Channels", (
         ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
@@ -55,6 +62,15 @@ LEGEND = (
 )
 
 
+#: How to read the head map (bedside/ui/widgets/head_map.py).
+MAP_WORDS = (
+    "drawn on the three taped lines: the ring is the circumference, ┆ nasion (N) to",
+    "inion (I), ┄ ear to ear (L, R); the sites sit where the Measure view marks them",
+    "a small letter beside two electrodes (a, b …): a bridge between them, the same",
+    "letter as in the findings line",
+)
+
+
 def help_text() -> Text:
     out = Text()
     out.append("bedside — help", style="bold")
@@ -69,6 +85,10 @@ def help_text() -> Text:
     for sym, colour, words in LEGEND:
         out.append(f"  {sym} ", style=f"bold {colour}")
         out.append(words + "\n")
+    out.append("\n")
+    out.append("The head map\n", style="bold underline")
+    for words in MAP_WORDS:
+        out.append(f"  {words}\n")
     out.append("\n")
     out.append(CAUTIONS + "\n\n")
     out.append(DISCLAIMER, style="italic")

@@ -203,7 +203,7 @@ class HeadMap(Widget):
             cv.put(mid_col, row, "┆", tape)
         for col in range(left + 1, right):
             cv.put(col, mid_row, "┄", tape)
-        steps = max(32, 2 * (w + h))
+        steps = max(64, 6 * (w + h))
         for i in range(steps):
             t = 2 * math.pi * i / steps
             cv.put(int(round(cx + ring_x * math.cos(t))), int(round(cy - ring_y * math.sin(t))), "·", "grey50")
