@@ -30,22 +30,22 @@ KEYS = (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),
         ("n", "jump to the next electrode that is not good yet"),
         ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
-        ("e", "the page of traces: every scalp channel, fixed µV per row, 10 s"),
-        ("v", "trace as recorded → average reference → longitudinal bipolar (its chain partner)"),
+        ("e", "page of traces: every scalp channel at a fixed µV per row"),
+        ("v", "trace as recorded → average reference → its bipolar chain pair"),
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
+    )),
+    ("Channels", (
+        ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
+        ("Enter", "set the field (the whole set is checked at once)"),
+        ("a / Esc", "apply and save for this amplifier / leave everything as it was"),
     )),
     ("Page of traces", (
         ("m", "montage: longitudinal bipolar → transverse → as recorded → average"),
         ("+ / -", "bigger / smaller: fewer / more µV per row (never auto-scaled)"),
         ("↑ ↓ PgUp PgDn", "choose a channel; the page scrolls or turns with it"),
         ("Esc", "back to Watch, the channel chosen here selected"),
-    )),
-    ("Channels", (
-        ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
-        ("Enter", "set the field (the whole set is checked at once)"),
-        ("a / Esc", "apply and save for this amplifier / leave everything as it was"),
     )),
     ("Log", (
         ("Enter", "in 'note': add the note; in 'kΩ': record the impedance"),
@@ -81,7 +81,7 @@ def help_text() -> Text:
             out.append(f"  {key:<20}", style="bold cyan")
             out.append(what + "\n")
         out.append("\n")
-    out.append("Levels (symbol and colour together)\n", style="bold underline")
+    out.append("Levels (the symbol first, the colour second)\n", style="bold underline")
     for sym, colour, words in LEGEND:
         out.append(f"  {sym} ", style=f"bold {colour}")
         out.append(words + "\n")
