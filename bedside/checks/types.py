@@ -10,16 +10,26 @@ from bedside.stream.types import StreamHealth
 
 
 class Level(enum.Enum):
-    """Three levels. Each has a machine key, a colour and a symbol: never colour alone."""
+    """Three levels. Each has a machine key, the word a person reads, a symbol and two
+    colours (screen, print): the symbol carries the meaning first, never colour alone.
 
-    GOOD = ("good", "green", "●")
-    CHECK = ("check", "yellow", "▲")
-    BAD = ("bad", "red", "✖")
+    The words are the one vocabulary of every display (the app, ``check``'s table, the
+    HTML report, the BIDS status descriptions); machine values (JSON, the log, BIDS
+    ``status``) keep the keys. The colours are our own palette, chosen to stay apart
+    under simulated deuteranopia and protanopia (``tests/ui/test_palette.py``):
+    ``colour`` on the app's dark background, ``print_colour`` on the white page.
+    """
 
-    def __init__(self, key: str, colour: str, symbol: str) -> None:
+    GOOD = ("good", "good", "●", "#4fc3f7", "#0060b0")
+    CHECK = ("check", "check", "▲", "#fde047", "#8a6d00")
+    BAD = ("bad", "bad", "✖", "#ff6b6b", "#b4005a")
+
+    def __init__(self, key: str, word: str, symbol: str, colour: str, print_colour: str) -> None:
         self.key = key
-        self.colour = colour
+        self.word = word
         self.symbol = symbol
+        self.colour = colour
+        self.print_colour = print_colour
 
     @property
     def rank(self) -> int:
@@ -40,6 +50,22 @@ class Level(enum.Enum):
 #: Shown instead of a level when there is no live data: never the last colour as if live.
 NO_DATA_SYMBOL = "?"
 NO_DATA_KEY = "no_data"
+NO_DATA_WORD = "no data"
+#: Grey for "no data" (screen, print): away from the three levels' colours.
+NO_DATA_COLOUR = "#9e9e9e"
+NO_DATA_PRINT_COLOUR = "#555555"
+
+#: Display word per machine key (the levels and "no_data"): the one place they live.
+LEVEL_WORDS: dict[str, str] = {**{lv.key: lv.word for lv in Level}, NO_DATA_KEY: NO_DATA_WORD}
+#: Symbol per machine key, likewise.
+LEVEL_SYMBOLS: dict[str, str] = {**{lv.key: lv.symbol for lv in Level}, NO_DATA_KEY: NO_DATA_SYMBOL}
+
+
+def level_words(key: str) -> str:
+    """"● good", "✖ bad", "? no data" for a machine key; the key itself when unknown."""
+    if key not in LEVEL_WORDS:
+        return key
+    return f"{LEVEL_SYMBOLS[key]} {LEVEL_WORDS[key]}"
 
 
 class MetricRow(Mapping[str, float]):

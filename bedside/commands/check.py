@@ -268,17 +268,17 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
 
 
 def as_table(report: dict[str, Any]) -> str:
-    from bedside.checks.types import NO_DATA_SYMBOL, Level
+    from bedside.checks.types import LEVEL_SYMBOLS, LEVEL_WORDS
 
-    symbol = {lv.key: lv.symbol for lv in Level}
-    symbol["no_data"] = NO_DATA_SYMBOL
+    symbol = LEVEL_SYMBOLS
+    word = LEVEL_WORDS
     head = ["channel", "type", "verdict", "during the run", *(h for _k, h in TABLE_METRICS), "reason"]
     rows = []
     for c in report["channels"]:
         m = c["metrics"]
         level = c["level"]
-        shown = f"{symbol[level]} {level}" if level in symbol else "- not judged"
-        cells = [c["name"], c.get("type", ""), shown, _run_words(c, symbol)]
+        shown = f"{symbol[level]} {word[level]}" if level in symbol else "- not judged"
+        cells = [c["name"], c.get("type", ""), shown, _run_words(c)]
         for key, _h in TABLE_METRICS:
             v = m.get(key)
             cells.append("-" if v is None else f"{v:.1f}")
@@ -296,14 +296,14 @@ def as_table(report: dict[str, Any]) -> str:
         lines.append("")
         lines.append("findings:")
         for f in findings:
-            lines.append(f"  {symbol[f['level']]} {f['level']:<5} {f['kind']:<9} {f['reason']}")
+            lines.append(f"  {symbol[f['level']]} {word[f['level']]:<5} {f['kind']:<9} {f['reason']}")
     now = {(f["kind"], tuple(f["electrodes"])) for f in findings}
     earlier = [f for f in report.get("run_findings", []) if (f["kind"], tuple(f["electrodes"])) not in now]
     if earlier:
         lines.append("")
         lines.append("findings earlier in the run (gone at the end):")
         for f in earlier:
-            lines.append(f"  {symbol[f['level']]} {f['level']:<5} {f['kind']:<9} {f['reason']} "
+            lines.append(f"  {symbol[f['level']]} {word[f['level']]:<5} {f['kind']:<9} {f['reason']} "
                          f"(seen {f['first_s']:.1f}–{f['last_s']:.1f} s)")
     changes = [c for c in report["channels"] if c.get("worst_level") in ("check", "bad")]
     if changes:
@@ -311,7 +311,7 @@ def as_table(report: dict[str, Any]) -> str:
         lines.append("changes during the run (seconds from the start of the look):")
         for c in changes:
             said = ", ".join(
-                f"{e['level']} at {e['t_s']:.1f} s" + (f" ({e['reason']})" if e["reason"] else "")
+                f"{word.get(e['level'], e['level'])} at {e['t_s']:.1f} s" + (f" ({e['reason']})" if e["reason"] else "")
                 for e in c["events"]
             )
             lines.append(f"  {c['name']}: {said}")
@@ -332,16 +332,19 @@ def as_table(report: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
-def _run_words(c: dict[str, Any], symbol: dict[str, str]) -> str:
+def _run_words(c: dict[str, Any]) -> str:
     """The run in words: "● good throughout", "✖ bad, 3.2 s not good"."""
+    from bedside.checks.types import LEVEL_SYMBOLS as symbol
+    from bedside.checks.types import LEVEL_WORDS as word
+
     worst = c.get("worst_level")
     if worst is None or worst == NOT_JUDGED_KEY:
         return "-"
     if worst == "no_data":
         return f"{symbol['no_data']} never judged"
     if worst == "good":
-        return f"{symbol['good']} good throughout"
-    return f"{symbol[worst]} {worst}, {c['not_good_s']:.1f} s not good"
+        return f"{symbol['good']} {word['good']} throughout"
+    return f"{symbol[worst]} {word[worst]}, {c['not_good_s']:.1f} s not good"
 
 
 def _ready_words(report: dict[str, Any]) -> str:

@@ -21,8 +21,9 @@ Written into ``OUT/sub-<label>/[ses-<label>/]eeg/``:
 * ``OUT/dataset_description.json`` if the folder has none yet.
 
 These describe the recording made after the setup; the EEG data file itself comes from
-the acquisition system. Status mapping: good → good, bad → bad; check (amber) and no
-data → ``n/a`` by default (quality not settled at setup), with the level and reasons in
+the acquisition system. Status mapping: good → good, bad → bad; check and no
+data → ``n/a`` by default (quality not settled at setup), with the level's word
+(``checks.types.LEVEL_WORDS``) and reasons in
 ``status_description``. Existing files are never replaced unless ``overwrite=True``.
 Every file is written atomically, owner-only (0600).
 """
@@ -38,6 +39,7 @@ from pathlib import Path
 from typing import Any, Literal
 
 from bedside import __version__
+from bedside.checks.types import LEVEL_WORDS
 from bedside.errors import InputError, RecordError
 from bedside.record.atomic import atomic_write_text
 from bedside.record.log import SetupLog
@@ -117,8 +119,8 @@ def channels_rows(
             status, description = "n/a", "no live verdict during the setup check"
         else:
             status = {"good": "good", "bad": "bad", "check": check_status}.get(final.level, "n/a")
-            word = {"good": "good", "check": "check (amber)", "bad": "bad", "no_data": "no data"}[final.level]
-            description = f"setup check {word} at {final.at.strftime('%H:%M:%S')}"
+            word = LEVEL_WORDS[final.level]
+            description = f"setup check verdict {word} at {final.at.strftime('%H:%M:%S')}"
             if final.reasons:
                 description += ": " + "; ".join(final.reasons)
         reference = (ch.reference or log_.reference) if kind in _VOLTAGE_KINDS - {"REF"} else ""

@@ -21,6 +21,13 @@ from datetime import datetime
 from html import escape
 
 from bedside.cautions import CAUTIONS, DISCLAIMER
+from bedside.checks.types import (
+    NO_DATA_KEY,
+    NO_DATA_PRINT_COLOUR,
+    NO_DATA_SYMBOL,
+    NO_DATA_WORD,
+    Level,
+)
 from bedside.errors import BedsideError
 from bedside.metric_labels import METRIC_LABELS, metric_label, report_metrics
 from bedside.record.log import SetupLog, TapedMeasurements
@@ -28,31 +35,32 @@ from bedside.record.trends import TrendBin
 
 log = logging.getLogger("bedside")
 
-#: Colour and plain word per level key; the shape is drawn by _marker().
+#: Print colour, word and symbol per level key, all from bedside.checks.types (the one
+#: vocabulary and palette); the shape is drawn by _marker().
 LEVEL_STYLE: dict[str, tuple[str, str, str]] = {
-    # key: (fill colour, word, symbol as in bedside.checks.types.Level)
-    "good": ("#1a9641", "good", "●"),
-    "check": ("#f0a30a", "check", "▲"),
-    "bad": ("#d7191c", "bad", "✖"),
-    "no_data": ("#9e9e9e", "no data", "?"),
+    **{lv.key: (lv.print_colour, lv.word, lv.symbol) for lv in Level},
+    NO_DATA_KEY: (NO_DATA_PRINT_COLOUR, NO_DATA_WORD, NO_DATA_SYMBOL),
 }
 #: Average adult head for the map when the log has no measurements (cm). Common practice.
 _AVERAGE_HEAD_CM = (35.0, 35.0, 55.0)
 
-_CSS = """
+_CSS = (
+    """
 body { font-family: system-ui, sans-serif; margin: 1.5em; color: #111; }
 h1 { font-size: 1.4em; margin-bottom: 0.2em; } h2 { font-size: 1.1em; margin-top: 1.4em; }
 table { border-collapse: collapse; margin: 0.4em 0; font-size: 0.9em; }
 th, td { border: 1px solid #999; padding: 2px 6px; text-align: left; vertical-align: top; }
 th { background: #eee; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; }
-.lv-good { color: #0b6b2a; } .lv-check { color: #8a5a00; } .lv-bad { color: #b00000; }
-.lv-no_data { color: #555; }
+"""
+    + "".join(f".lv-{k} {{ color: {c}; }} " for k, (c, _w, _s) in LEVEL_STYLE.items())
+    + """
 .small { font-size: 0.85em; color: #444; }
 svg { max-width: 520px; width: 100%; height: auto; }
 pre.cautions { white-space: pre-wrap; font-size: 0.8em; }
 @media print { body { margin: 0.5cm; } h2 { page-break-after: avoid; } table { page-break-inside: auto; } }
 """
+)
 
 
 def _t(when: datetime | None) -> str:

@@ -731,26 +731,13 @@ class BedsideApp(App[int]):
         return ()  # not detected (yet, or none there): the spectrum marks nothing
 
     def bipolar_partner(self, name: str) -> str | None:
-        """The electrode behind ``name`` for a bipolar view: its nearest neighbour further back.
-
-        Neighbours from the placement graph when known; the map positions decide which
-        is nearest and which lies behind (front-to-back chains are the usual bipolar
-        reading — common practice).
-        """
-        pts = self.points
-        if name not in pts:
-            return None
+        """The electrode ``name`` is read against in the trace's bipolar view: its partner
+        in the standard longitudinal chains (bedside.montage.chain_partner: Fp1 → F7,
+        O1 → P7), None when the stream has none."""
         conn = self.connection
-        pairs = conn.neighbours if conn is not None else ()
-        cands = {b if a == name else a for a, b in pairs if name in (a, b)} & set(pts)
-        if not cands:
-            cands = set(pts) - {name}
-        if not cands:
+        if conn is None:
             return None
-        x0, y0 = pts[name]
-        behind = [c for c in cands if pts[c][1] < y0 - 1e-6]
-        pool = behind or list(cands)
-        return min(pool, key=lambda c: (pts[c][0] - x0) ** 2 + (pts[c][1] - y0) ** 2)
+        return self.services.chain_partner(name, [ch.name for ch in conn.channels])
 
     # --- plan ----------------------------------------------------------------------
     def plan_changed(self, plan: PlacementPlan, taped: TapedMeasurements | None = None) -> None:

@@ -27,6 +27,8 @@ class AppConfig:
     every scalp electrode good for this many consecutive seconds is "ready to record"
     (Watch counts down; ``--until-good``). bell: ring the terminal bell when ready is
     reached and when a new fault appears (``--bell``; ``b`` on Watch toggles it).
+    page_s: the page of traces' timebase (seconds across the screen); page_uv_per_row:
+    its starting sensitivity (µV per text row; ``+``/``-`` change it on the page).
     """
 
     system: str = "10-20"
@@ -48,6 +50,10 @@ class AppConfig:
     start_view: View = "watch"
     update_hz: float = 4.0
     trace_s: float = 2.0
+    #: Ours: a 10-s page, as a screen of EEG is usually read (common practice), and
+    #: 50 µV per row, so adult background activity (10–100 µV, from memory) mostly fits.
+    page_s: float = 10.0
+    page_uv_per_row: float = 50.0
     stale_after_s: float = 2.5
     discover: bool = True
     confirm_channels: bool = False

@@ -95,10 +95,14 @@ class DisplayBuffer:
             self._head = end % self.capacity
             self._filled = min(self.capacity, self._filled + n)
 
-    def window(self) -> np.ndarray:
-        """A copy of what is held, oldest first, shape (n_samples, n_channels) in µV."""
+    def window(self, last_n: int | None = None) -> np.ndarray:
+        """A copy of what is held (the newest ``last_n`` samples when given), oldest first,
+        shape (n_samples, n_channels) in µV."""
         with self._lock:
-            return self._held()
+            whole = self._held()
+        if last_n is None:
+            return whole
+        return whole[-last_n:] if last_n > 0 else whole[:0]
 
     def _held(self) -> np.ndarray:
         if self._filled < self.capacity:

@@ -13,7 +13,8 @@ import numpy as np
 
 Derivation = Literal["referential", "average", "bipolar"]
 DERIVATIONS: tuple[Derivation, ...] = ("referential", "average", "bipolar")
-DERIVATION_LABEL = {"referential": "as recorded", "average": "average reference", "bipolar": "bipolar"}
+DERIVATION_LABEL = {"referential": "as recorded", "average": "average reference",
+                    "bipolar": "longitudinal bipolar"}
 
 _BLOCKS = " ▁▂▃▄▅▆▇█"
 
@@ -28,7 +29,8 @@ def derive(
     """One channel of ``window_uv`` (n_samples, n_channels, µV) in the chosen derivation.
 
     referential: the channel as recorded; average: minus the mean of the scalp
-    channels; bipolar: minus ``partner`` (the neighbouring electrode), or as recorded
+    channels; bipolar: minus ``partner`` (its partner in the standard longitudinal chains,
+    bedside.montage.chain_partner), or as recorded
     when there is no partner.
     """
     x = window_uv[:, index]
@@ -142,3 +144,50 @@ def spectrum_lines(
         hz: min(int(hz / max_hz * width), width - 1) for hz in marks_hz if 0 < hz <= max_hz
     }
     return SpectrumPicture(rows, max_hz, mark_cols, hi)
+
+
+# Braille cells hold 2 × 4 dots: the bit of each (dot row, dot column), Unicode's order.
+_BRAILLE_BITS = ((0x01, 0x08), (0x02, 0x10), (0x04, 0x20), (0x40, 0x80))
+
+
+def lane_lines(
+    x_uv: np.ndarray, page_samples: int, width: int, rows: int, uv_per_row: float
+) -> tuple[list[str], bool]:
+    """One trace of the page at a fixed sensitivity, in braille dots.
+
+    x_uv: the newest samples (n,) µV, drawn right-aligned on a page of ``page_samples``
+    (older than the buffer: blank). The lane is ``rows`` text rows of ``width`` columns
+    (2 × 4 dots a cell); ``uv_per_row`` µV move the trace one text row; the page's
+    median sits mid-lane. Returns (rows, clipped): clipped when the trace left the lane.
+    """
+    width, rows = max(1, width), max(1, rows)
+    if uv_per_row <= 0:
+        raise ValueError(f"uv_per_row must be > 0, got {uv_per_row}")
+    cells = np.zeros((rows, width), dtype=np.int32)
+    x = np.asarray(x_uv, dtype=np.float64)[-page_samples:] if page_samples > 0 else np.zeros(0)
+    finite = np.isfinite(x)
+    if x.size < 2 or not finite.any():
+        return [chr(0x2800) * width for _ in range(rows)], False
+    x = np.where(finite, x, np.nan) - float(np.median(x[finite]))
+    dots_w, dots_h = 2 * width, 4 * rows
+    start = page_samples - x.size  # page index of x[0]
+    edges = np.linspace(0, page_samples, dots_w + 1).round().astype(int) - start
+    clipped = False
+    for j in range(dots_w):
+        lo_i, hi_i = max(edges[j], 0), max(edges[j + 1], edges[j] + 1)
+        if hi_i <= 0 or lo_i >= x.size:
+            continue
+        seg = x[lo_i:min(hi_i, x.size)]
+        seg = seg[np.isfinite(seg)]
+        if seg.size == 0:
+            continue
+        # Dot row of a value: mid-lane at 0 µV, 4 dot rows per uv_per_row, up positive.
+        top = dots_h / 2.0 - float(seg.max()) / uv_per_row * 4.0
+        bottom = dots_h / 2.0 - float(seg.min()) / uv_per_row * 4.0
+        r0, r1 = int(np.floor(top)), int(np.floor(bottom))
+        if r0 < 0 or r1 > dots_h - 1:
+            clipped = True
+        for r in range(max(0, min(r0, dots_h - 1)), min(dots_h - 1, max(r1, 0)) + 1):
+            cells[r // 4, j // 2] |= _BRAILLE_BITS[r % 4][j % 2]
+    return ["".join(chr(0x2800 + int(v)) for v in line) for line in cells], clipped
+

@@ -245,6 +245,24 @@ def _open_recorder(
     )
 
 
+def _chain_partner(name: str, names: Sequence[str]) -> str | None:
+    from bedside.montage import chain_partner
+
+    return chain_partner(name, names)
+
+
+def _plan_montage(names: Sequence[str], is_scalp: Sequence[bool], montage: str) -> Any:
+    from bedside.montage import plan_montage
+
+    return plan_montage(names, is_scalp, montage)  # type: ignore[arg-type]
+
+
+def _derive_montage(window_uv: Any, plan: Any, is_scalp: Sequence[bool]) -> Any:
+    from bedside.montage import derive
+
+    return derive(window_uv, plan, is_scalp)
+
+
 @dataclass(frozen=True)
 class Services:
     """The core functions the UI calls (always from a worker thread, never the UI thread)."""
@@ -282,6 +300,12 @@ class Services:
     #: A walk's results → its problems (swapped pairs named; ``checks.taptest.summarise``).
     summarise_taps: Callable[[Sequence[Any]], tuple[Any, ...]] = _summarise_taps
     open_recorder: Callable[[Path, str, str, Sequence[Path]], RecorderLike] | None = _open_recorder
+    #: The standard montages (bedside.montage; pure and cheap, so chain_partner may run
+    #: on the UI thread): the longitudinal chain partner of an electrode, a montage's
+    #: derivations for the channels, and the derived rows of a window.
+    chain_partner: Callable[[str, Sequence[str]], str | None] = _chain_partner
+    plan_montage: Callable[[Sequence[str], Sequence[bool], str], Any] = _plan_montage
+    derive_montage: Callable[[Any, Any, Sequence[bool]], Any] = _derive_montage
     extra: dict[str, Any] = field(default_factory=dict)
 
 

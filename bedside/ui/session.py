@@ -62,7 +62,7 @@ def connect(
     generation: int = 0,
 ) -> Connection:
     """Wrap ``source`` for display, build the engine and start the monitor thread."""
-    tee = TeeSource(source, seconds=max(config.trace_s, 4.0))
+    tee = TeeSource(source, seconds=max(config.trace_s, config.page_s, 4.0))
     try:
         settings = services.load_quality()
         ident = source.identity

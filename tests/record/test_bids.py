@@ -63,7 +63,7 @@ def test_channels_tsv_columns_order_and_values(tmp_path: Path, clock: FakeClock)
     by_name = {r["name"]: r for r in rows}
     assert by_name["Fp1"]["status"] == "bad" and "line noise" in by_name["Fp1"]["status_description"]
     assert by_name["Cz"]["status"] == "good"
-    assert by_name["O2"]["status"] == "n/a" and "check (amber)" in by_name["O2"]["status_description"]
+    assert by_name["O2"]["status"] == "n/a" and "setup check verdict check at" in by_name["O2"]["status_description"]
     assert by_name["P4"]["status"] == "n/a" and "no live verdict" in by_name["P4"]["status_description"]
     assert by_name["ECG"]["type"] == "ECG"
     assert all(v for r in rows for v in r.values()), "empty cells are written n/a"

@@ -142,3 +142,29 @@ def test_all_good_sentence_when_never_reached(tmp_path: Path) -> None:
 def test_all_good_sentence_from_the_first_verdict(tmp_path: Path) -> None:
     text = _report(tmp_path, [(0.0, _levels())])
     assert _summary(_read(text), "All scalp electrodes good at once").startswith("Reached at once")
+
+
+def test_report_and_bids_say_the_level_words_of_the_app(tmp_path: Path) -> None:
+    """One vocabulary (bedside.checks.types.LEVEL_WORDS): the report's level cells and
+    the BIDS status descriptions use the same words as the app and ``check``'s table
+    (tests/ui/test_display_words.py); the BIDS ``status`` column keeps BIDS's own values."""
+    import re
+
+    from bedside.checks.types import LEVEL_SYMBOLS, LEVEL_WORDS
+    from bedside.record.bids import channels_rows
+
+    clock = FakeClock()
+    rec = SessionRecorder.open(tmp_path / "v.yaml", subject_id="W3-017", clock=clock)
+    rec.set_stream(make_identity(), make_channels())
+    rec.on_frame(_frame(clock.now, _levels(Fp1=Level.BAD, O2=Level.CHECK)))
+    rec.close()
+    text = render_report(rec.snapshot())
+    symbols = "".join(LEVEL_SYMBOLS.values()).replace("?", r"\?")
+    said = {m.group(2) for m in re.finditer(f"([{symbols}]) ([a-z]+)", " ".join(_read(text).text))}
+    allowed = {w.split()[0] for w in LEVEL_WORDS.values()}
+    assert {"good", "check", "bad"} <= said and said <= allowed, said - allowed
+    # channels.tsv rows: (name, type, units, reference, status, status_description).
+    rows = {r[0]: r for r in channels_rows(rec.snapshot())}
+    assert rows["Fp1"][4] == "bad" and f"verdict {Level.BAD.word} at" in rows["Fp1"][5]
+    assert f"verdict {Level.CHECK.word} at" in rows["O2"][5]
+    assert f"verdict {Level.GOOD.word} at" in rows["Cz"][5]

@@ -132,29 +132,21 @@ def test_metric_headers_carry_units() -> None:
     assert metric_header("pops") == "pops"
 
 
-def test_bipolar_partner_follows_the_engines_neighbour_graph() -> None:
-    """With the real engine: the partner of T7 is a neighbour of T7 in the engine's graph
-    (the placement's graph), and lies behind it on the map (front-to-back chains)."""
-    from bedside.checks.engine import Engine
-    from bedside.checks.settings import load_quality
-    from bedside.placement import positions_for, project_2d
-    from bedside.ui.session import engine_neighbours
-
-    chans = si.channels()
-    engine = Engine(load_quality(), chans, 250.0)
-    pairs = engine_neighbours(engine)
-    assert pairs and all(a != b for a, b in pairs)
-    t7 = {b if a == "T7" else a for a, b in pairs if "T7" in (a, b)}
-    assert t7 and t7 <= set(si.NAMES_1020)
-    pts = {n: project_2d(p) for n, p in positions_for(list(si.NAMES_1020)).items()}
+def test_bipolar_partner_is_the_longitudinal_chain_partner() -> None:
+    """The trace's bipolar view reads an electrode against its partner in the standard
+    longitudinal chains (ACNS Guideline 3, Acharya et al. 2016: Fp1-F7-T7-P7-O1 …), not
+    its nearest neighbour (tests/test_montage.py checks the chains themselves)."""
     from bedside.ui.app import BedsideApp
+    from bedside.ui.services import Services
 
     class _Conn:
-        neighbours = pairs
+        channels = si.channels()
 
-    fake = type("A", (), {"points": pts, "connection": _Conn()})()
-    partner = BedsideApp.bipolar_partner(fake, "T7")  # type: ignore[arg-type]
-    assert partner in t7 and pts[partner][1] < pts["T7"][1] + 1e-9
+    fake = type("A", (), {"connection": _Conn(), "services": Services()})()
+    assert BedsideApp.bipolar_partner(fake, "T7") == "P7"  # type: ignore[arg-type]
+    assert BedsideApp.bipolar_partner(fake, "F8") == "T8"  # type: ignore[arg-type]
+    assert BedsideApp.bipolar_partner(fake, "O2") == "P4"  # type: ignore[arg-type]
+    assert BedsideApp.bipolar_partner(fake, "ECG") is None  # type: ignore[arg-type]
 
 
 def test_time_to_good_is_the_logs_definition_and_latest_moves() -> None:

@@ -50,15 +50,49 @@ async def _settle(pilot: Any) -> None:
     await pilot.pause(0.2)
 
 
-@pytest.mark.parametrize("size", [(100, 40), (80, 24)])
+#: Every view at the smallest terminal bedside supports and at a large one.
+SIZES = [(80, 24), (200, 60)]
+
+
+@pytest.mark.parametrize("size", SIZES)
 def test_watch_screen(snap_compare: Any, size: tuple[int, int]) -> None:
     assert snap_compare(_watch_app(), terminal_size=size, run_before=_settle)
+
+
+def test_watch_screen_with_the_trace_at_80x24(snap_compare: Any) -> None:
+    """The trace shown at 80×24 (t): the map still draws every electrode, apart."""
+    async def with_trace(pilot: Any) -> None:
+        await _settle(pilot)
+        await pilot.press("t")
+        for _ in range(100):
+            await pilot.pause(0.05)
+            if "as recorded" in si.screen_text(pilot.app):
+                break
+        await pilot.pause(0.2)
+
+    assert snap_compare(_watch_app(), terminal_size=(80, 24), run_before=with_trace)
 
 
 def test_watch_screen_without_live_data(snap_compare: Any) -> None:
     app = make_app(AppConfig(discover=False), source=OneBlockSource(),
                    services=si.services(frames=[si.frame(state="lost")]))
-    assert snap_compare(app, terminal_size=(100, 40), run_before=_settle)
+    assert snap_compare(app, terminal_size=(80, 24), run_before=_settle)
+
+
+async def _page(pilot: Any) -> None:
+    """Watch, then the page of traces (e) once it has drawn."""
+    await _settle(pilot)
+    await pilot.press("e")
+    for _ in range(100):
+        await pilot.pause(0.05)
+        if "s page" in si.screen_text(pilot.app) and "now" in si.screen_text(pilot.app):
+            break
+    await pilot.pause(0.3)
+
+
+@pytest.mark.parametrize("size", SIZES)
+def test_traces_page(snap_compare: Any, size: tuple[int, int]) -> None:
+    assert snap_compare(_watch_app(), terminal_size=size, run_before=_page)
 
 
 async def _measure(pilot: Any) -> None:
@@ -72,12 +106,14 @@ async def _measure(pilot: Any) -> None:
     await pilot.pause(0.2)
 
 
-def test_measure_screen(snap_compare: Any) -> None:
+@pytest.mark.parametrize("size", SIZES)
+def test_measure_screen(snap_compare: Any, size: tuple[int, int]) -> None:
     app = make_app(AppConfig(discover=False, start_view="measure"), services=si.services())
-    assert snap_compare(app, terminal_size=(100, 40), run_before=_measure)
+    assert snap_compare(app, terminal_size=size, run_before=_measure)
 
 
-def test_log_screen(snap_compare: Any, tmp_path: Any) -> None:
+@pytest.mark.parametrize("size", SIZES)
+def test_log_screen(snap_compare: Any, tmp_path: Any, size: tuple[int, int]) -> None:
     # A fixed relative path (the memory log writes nothing): the screen names the log's file.
     where = Path("bedside-logs") / "W3-017-20261204-090000.yaml"
     rec = si.MemoryRecorder(where)
@@ -92,9 +128,10 @@ def test_log_screen(snap_compare: Any, tmp_path: Any) -> None:
             await pilot.press(ch)
         await pilot.pause(0.2)
 
-    assert snap_compare(app, terminal_size=(80, 24), run_before=note)
+    assert snap_compare(app, terminal_size=size, run_before=note)
 
 
-def test_help_screen(snap_compare: Any) -> None:
+@pytest.mark.parametrize("size", SIZES)
+def test_help_screen(snap_compare: Any, size: tuple[int, int]) -> None:
     app = make_app(AppConfig(discover=False, start_view="measure"), services=si.services())
-    assert snap_compare(app, terminal_size=(100, 40), press=["f1"])
+    assert snap_compare(app, terminal_size=size, press=["f1"])

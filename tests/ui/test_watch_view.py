@@ -45,13 +45,13 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         assert await _until(pilot, lambda: app.latest_frame is not None and "✖T7" in si.screen_text(app))
         text = si.screen_text(app)
         t7 = _state(app, "T7")
-        assert t7.plain == "✖ fix" and "red" in str(t7.style)
+        assert t7.plain == "✖ bad" and Level.BAD.colour in str(t7.style)
         o2 = _state(app, "O2")
-        assert o2.plain == "▲ check" and "yellow" in str(o2.style)
+        assert o2.plain == "▲ check" and Level.CHECK.colour in str(o2.style)
         assert _state(app, "Cz").plain == "● good"
         # Names sit beside their symbol: left half "●Cz", right half "O2▲" (mirrored).
         assert "O2▲" in text and "●Cz" in text
-        assert "F3═C3" in text  # the bridge finding names both electrodes
+        assert "bridge a F3 + C3" in text  # the bridge finding names both electrodes and their tag
         assert "2 of 19 not good yet: T7 O2" in text  # ECG is not a scalp electrode
         assert "250 Hz set / 249.6 Hz seen" in text and "gaps 1" in text
         assert "standin-bed" in text and "standin-bed-sid" in text  # pinned identity
@@ -61,7 +61,7 @@ async def test_levels_are_symbol_and_colour_and_bridge_is_drawn() -> None:
         await pilot.resize_terminal(80, 24)
         assert await _until(pilot, lambda: app.size == (80, 24) and "✖T7" in si.screen_text(app))
         small = si.screen_text(app)
-        assert "✖T7" in small and "✖ fix" in small and "live" in small
+        assert "✖T7" in small and "✖ bad" in small and "live" in small
 
 
 async def test_lost_stream_shows_no_data_not_old_colours() -> None:
@@ -205,7 +205,7 @@ async def test_selected_electrode_reason_in_full() -> None:
     async with app.run_test(size=(80, 24)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)
         app.views["watch"].query_one(ChannelTable).select_name("T7")
-        assert await _until(pilot, lambda: "▶ T7 ✖ fix: mains 24.0 µV at 50 Hz; 21 dB over its EEG band — re-seat" in si.screen_text(app))
+        assert await _until(pilot, lambda: "▶ T7 ✖ bad: mains 24.0 µV at 50 Hz; 21 dB over its EEG band — re-seat" in si.screen_text(app))
 
 
 async def test_trace_toggles_and_is_hidden_at_first_on_short_terminals() -> None:

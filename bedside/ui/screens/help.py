@@ -10,6 +10,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Static
 
 from bedside.cautions import CAUTIONS, DISCLAIMER
+from bedside.checks.types import NO_DATA_COLOUR, NO_DATA_SYMBOL, NO_DATA_WORD, Level
 
 KEYS = (
     ("Everywhere", (
@@ -29,11 +30,13 @@ KEYS = (
         ("↑ ↓ PgUp PgDn", "choose a channel (the map and trace follow)"),
         ("n", "jump to the next electrode that is not good yet"),
         ("t", "show or hide the trace and spectrum (hidden at first on short terminals)"),
-        ("v", "trace as recorded → average reference → bipolar"),
+        ("e", "page of traces: every scalp channel at a fixed µV per row"),
+        ("v", "trace as recorded → average reference → its bipolar chain pair"),
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
         ("k", "tap test: touch each electrode when it is named; shows where each touch landed"),
+        ("w", "back to the ward's list of beds (when started as bedside ward)"),
     )),
     ("Tap test", (
         ("touch, when named", "lightly, each electrode in turn; the result shows as it comes"),
@@ -44,17 +47,33 @@ KEYS = (
         ("Enter", "set the field (the whole set is checked at once)"),
         ("a / Esc", "apply and save for this amplifier / leave everything as it was"),
     )),
+    ("Page of traces", (
+        ("m", "montage: longitudinal bipolar → transverse → as recorded → average"),
+        ("+ / -", "bigger / smaller: fewer / more µV per row (never auto-scaled)"),
+        ("↑ ↓ PgUp PgDn", "choose a channel; the page scrolls or turns with it"),
+        ("Esc", "back to Watch, the channel chosen here selected"),
+    )),
     ("Log", (
         ("Enter", "in 'note': add the note; in 'kΩ': record the impedance"),
         ("ctrl+o", "sign off (needs initials; a reason for each electrode not good)"),
     )),
 )
 
+#: What each level asks of the technologist (the words and looks: bedside.checks.types).
 LEGEND = (
-    ("●", "green", "good — ready to record"),
-    ("▲", "yellow", "check — look at the reason"),
-    ("✖", "red", "fix — re-seat, re-prepare or replace"),
-    ("?", "grey50", "no live data — nothing is known now"),
+    (Level.GOOD.symbol, Level.GOOD.colour, f"{Level.GOOD.word} — ready to record"),
+    (Level.CHECK.symbol, Level.CHECK.colour, f"{Level.CHECK.word} — look at the reason"),
+    (Level.BAD.symbol, Level.BAD.colour, f"{Level.BAD.word} — re-seat, re-prepare or replace"),
+    (NO_DATA_SYMBOL, NO_DATA_COLOUR, f"{NO_DATA_WORD} — no live data, nothing is known now"),
+)
+
+
+#: How to read the head map (bedside/ui/widgets/head_map.py).
+MAP_WORDS = (
+    "drawn on the three taped lines: the ring is the circumference, ┆ nasion (N) to",
+    "inion (I), ┄ ear to ear (L, R); the sites sit where the Measure view marks them",
+    "a small letter beside two electrodes (a, b …): a bridge between them, the same",
+    "letter as in the findings line",
 )
 
 
@@ -68,10 +87,14 @@ def help_text() -> Text:
             out.append(f"  {key:<20}", style="bold cyan")
             out.append(what + "\n")
         out.append("\n")
-    out.append("Levels (symbol and colour together)\n", style="bold underline")
+    out.append("Levels (the symbol first, the colour second)\n", style="bold underline")
     for sym, colour, words in LEGEND:
         out.append(f"  {sym} ", style=f"bold {colour}")
         out.append(words + "\n")
+    out.append("\n")
+    out.append("The head map\n", style="bold underline")
+    for words in MAP_WORDS:
+        out.append(f"  {words}\n")
     out.append("\n")
     out.append(CAUTIONS + "\n\n")
     out.append(DISCLAIMER, style="italic")

@@ -130,7 +130,7 @@ class LogScreen(Screen[None]):
             yield Static(status_words(None) if cfg.log_path is None else Text("◌ opening the log…", style="yellow"),
                          id="save-status")
         yield Static(file_words(cfg.log_path), id="log-file")
-        yield Footer()
+        yield Footer(compact=True)  # compact: every key, the views' too, fits 80 columns
 
     def on_mount(self) -> None:
         imp = self.query_one("#impedance-table", DataTable)

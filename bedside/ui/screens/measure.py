@@ -130,8 +130,8 @@ class MeasureInvalid(Message):
 class MeasureScreen(Screen[None]):
     BINDINGS = [
         Binding("f5", "export", "Save sheet"),
-        Binding("f6", "copy_sheet", "Copy sheet"),
-        Binding("f7", "toggle_map", "Diagram/table"),
+        Binding("f6", "copy_sheet", "Copy"),
+        Binding("f7", "toggle_map", "Map"),
         Binding("escape", "leave_form", "Leave form", show=False),
     ]
 
@@ -178,7 +178,7 @@ class MeasureScreen(Screen[None]):
                 yield DataTable(id="marks-table", cursor_type="row", zebra_stripes=True)
         # Full width and as tall as it needs, so a long message is never cut.
         yield Static(Text("enter the three measurements", style="grey62"), id="measure-message")
-        yield Footer()
+        yield Footer(compact=True)  # compact: every key, the views' too, fits 80 columns
 
     def on_mount(self) -> None:
         self._build_table()

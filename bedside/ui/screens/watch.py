@@ -21,6 +21,7 @@ from textual.widgets import DataTable, Footer, Header
 from bedside.checks.types import Level, QualityFrame
 from bedside.ui.plots import DERIVATIONS, Derivation
 from bedside.ui.progress import Progress
+from bedside.ui.screens.traces import TracesScreen
 from bedside.ui.widgets.channel_table import ChannelTable
 from bedside.ui.widgets.findings import Findings, ProgressLine
 from bedside.ui.widgets.head_map import Bridge, HeadMap
@@ -52,10 +53,13 @@ def while_mounted(method: F) -> F:
 class WatchScreen(Screen[None]):
     BINDINGS = [
         Binding("t", "toggle_trace", "Trace"),
-        Binding("v", "cycle_derivation", "Derivation"),
-        Binding("n", "next_not_good", "To fix"),
-        Binding("c", "channels", "Channels"),
-        Binding("p", "pick_stream", "Streams"),
+        # Shown in the footer: what fits 80 columns beside the views' keys; the rest is
+        # in the help (F1).
+        Binding("v", "cycle_derivation", "Derivation", show=False),
+        Binding("n", "next_not_good", "Next"),
+        Binding("e", "page", "Page"),
+        Binding("c", "channels", "Channels", show=False),
+        Binding("p", "pick_stream", "Streams", show=False),
         Binding("r", "rescan", "Look again", show=False),
         Binding("b", "toggle_bell", "Bell", show=False),
         Binding("k", "tap_test", "Tap test", show=False),
@@ -78,13 +82,14 @@ class WatchScreen(Screen[None]):
         yield Header(show_clock=False)
         yield StreamStatus(id="stream-status")
         with Horizontal(id="watch-body"):
-            yield HeadMap(id="head-map")
+            # The list first (where the eye starts), the map beside it on the right.
             yield ChannelTable(id="channel-table")
+            yield HeadMap(id="head-map")
         yield TraceView(id="trace-view")
         yield Findings(id="findings")
         yield ProgressLine(id="progress")
         yield ReadyLine(id="ready-line")
-        yield Footer()
+        yield Footer(compact=True)
 
     def on_mount(self) -> None:
         self.query_one(HeadMap).set_points(self.bedside.points, self.bedside.unplaced)
@@ -224,6 +229,14 @@ class WatchScreen(Screen[None]):
         if self.selected in names:
             nxt = names[(names.index(self.selected) + 1) % len(names)]
         self.query_one(ChannelTable).select_name(nxt)
+
+    def action_page(self) -> None:
+        """The page of traces (screens/traces.py), starting at the selected electrode."""
+        self.app.push_screen(TracesScreen(self.selected), callback=self._page_closed)
+
+    def _page_closed(self, selected: str | None) -> None:
+        if selected is not None and self._ready:
+            self.query_one(ChannelTable).select_name(selected)
 
     def action_channels(self) -> None:
         self.bedside.open_channels()

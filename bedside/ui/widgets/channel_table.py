@@ -21,15 +21,19 @@ from textual.coordinate import Coordinate
 from textual.widgets import DataTable
 from textual.widgets.data_table import ColumnKey, RowKey
 
-from bedside.checks.types import NO_DATA_SYMBOL, ChannelQuality, Level, QualityFrame
+from bedside.checks.types import (
+    NO_DATA_COLOUR,
+    NO_DATA_SYMBOL,
+    NO_DATA_WORD,
+    ChannelQuality,
+    Level,
+    QualityFrame,
+)
 from bedside.metric_labels import METRIC_LABELS
 
 _NEWLINE = Text("\n")
 _UNSET = object()  # no cell written yet (any key differs from it)
 
-#: The level words shown on screen (machine keys stay good/check/bad).
-LEVEL_WORD = {"good": "good", "check": "check", "bad": "fix"}
-NO_DATA_WORD = "no data"
 
 _UNIT_SUFFIX = (
     ("_uv_per_s", "µV/s"),
@@ -53,8 +57,8 @@ def metric_header(key: str) -> str:
 def level_cell(level: Level | None, live: bool) -> Text:
     """Symbol and word together, coloured; grey '?' when there is no live data."""
     if level is None or not live:
-        return Text(f"{NO_DATA_SYMBOL} {NO_DATA_WORD}", style="grey50")
-    return Text(f"{level.symbol} {LEVEL_WORD[level.key]}", style=f"bold {level.colour}")
+        return Text(f"{NO_DATA_SYMBOL} {NO_DATA_WORD}", style=NO_DATA_COLOUR)
+    return Text(f"{level.symbol} {level.word}", style=f"bold {level.colour}")
 
 
 def format_value(value: float | None) -> str:

@@ -5,9 +5,10 @@ from __future__ import annotations
 from rich.text import Text
 from textual.widgets import Static
 
-from bedside.checks.types import ChannelQuality, Finding, Level
+from bedside.checks.types import NO_DATA_COLOUR, ChannelQuality, Finding, Level
 from bedside.ui.progress import Progress
-from bedside.ui.widgets.channel_table import LEVEL_WORD, format_seconds
+from bedside.ui.widgets.channel_table import format_seconds
+from bedside.ui.widgets.head_map import bridge_tag
 
 
 def selected_text(selected: ChannelQuality | None, live: bool) -> Text:
@@ -16,7 +17,7 @@ def selected_text(selected: ChannelQuality | None, live: bool) -> Text:
     if selected is None or not live or selected.level is None or selected.level is Level.GOOD:
         return out
     lv = selected.level
-    out.append(f"▶ {selected.name} {lv.symbol} {LEVEL_WORD[lv.key]}: ", style=f"bold {lv.colour}")
+    out.append(f"▶ {selected.name} {lv.symbol} {lv.word}: ", style=f"bold {lv.colour}")
     out.append("; ".join(selected.reasons) or "no reason given")
     return out
 
@@ -28,18 +29,24 @@ def findings_text(
     if out.plain:
         out.append("\n")
     if not live:
-        out.append("? no live data — findings hidden", style="grey50")
+        out.append("? no live data — findings hidden", style=NO_DATA_COLOUR)
         return out
     if not findings:
         out.append("no setup-wide findings", style="grey62")
         return out
+    bridges = 0
     for i, f in enumerate(findings):
         if i:
             out.append("\n")
-        who = "═".join(f.electrodes) if f.kind == "bridge" else ", ".join(f.electrodes)
-        out.append(f"{f.level.symbol} {f.kind}", style=f"bold {f.level.colour}")
-        if who:
-            out.append(f" {who}", style="bold")
+        out.append(f"{f.level.symbol} {f.level.word} {f.kind}", style=f"bold {f.level.colour}")
+        if f.kind == "bridge" and len(f.electrodes) >= 2:
+            # The same tag the head map puts on both electrodes (widgets/head_map.py).
+            out.append(" ")
+            out.append(bridge_tag(bridges), style=f"bold reverse {f.level.colour}")
+            bridges += 1
+            out.append(f" {' + '.join(f.electrodes)}", style="bold")
+        elif f.electrodes:
+            out.append(f" {', '.join(f.electrodes)}", style="bold")
         out.append(f": {f.reason}")
     return out
 
@@ -50,11 +57,11 @@ def progress_text(progress: Progress | None, *, show_names: int = 8) -> Text:
         out.append("waiting for the first update…", style="grey62")
         return out
     if not progress.live:
-        out.append(f"? {progress.total} electrodes — no live data", style="grey50")
+        out.append(f"? {progress.total} electrodes — no live data", style=NO_DATA_COLOUR)
         return out
     left = len(progress.not_good)
     if left == 0:
-        out.append(f"● all {progress.total} electrodes good", style="bold green")
+        out.append(f"● all {progress.total} electrodes good", style=f"bold {Level.GOOD.colour}")
     else:
         out.append(f"{left} of {progress.total} not good yet", style="bold")
         names = list(progress.not_good[:show_names])

@@ -1,8 +1,15 @@
-"""The head seen from above (nose at the top): every electrode at its place.
+"""The head seen from above (front at the top): every electrode at its place, on the
+three lines the technologist has just taped.
 
-Each electrode is drawn as its level's symbol *and* colour (never colour alone),
-with its name beside it when there is room; "?" in grey when there is no live data.
-Bridges are drawn as a dotted line between the two electrodes. Positions come in
+The picture is the measuring itself: the circumference (the ring of dots), the
+nasion–inion line (``┆``, N at the front, I at the back) and the ear-to-ear line
+(``┄``, L and R at the preauricular ends) cross at the vertex, and the sites sit on
+them as the Measure view marks them — Measure and Watch draw this one picture.
+Each electrode is drawn as its level's symbol *and* colour (the symbol first, never
+colour alone), with its name beside it when there is room, a blank cell between two
+names; "?" in grey when there is no live data. A bridge gives both electrodes the same
+small letter tag (``a``, ``b`` … in the bridge's level colour, reversed), the same
+letter the findings line names — no line is drawn between them. Positions come in
 as (x, y) in [-1, 1] with the nose up (``bedside.placement.project_2d`` for named
 sites, ``project_geometry`` for a cap's own positions). Electrodes the caller could
 not place (no position, no 10-20/10-10 name) are listed on the map's bottom line,
@@ -17,11 +24,11 @@ from dataclasses import dataclass
 from rich.text import Text
 from textual.widget import Widget
 
-from bedside.checks.types import NO_DATA_SYMBOL, Level
+from bedside.checks.types import NO_DATA_COLOUR, NO_DATA_SYMBOL, Level
 
 #: How marks look in the Measure view (no level: a plain placement dot).
 MARK_SYMBOL = "•"
-NO_DATA_STYLE = "grey50"
+NO_DATA_STYLE = NO_DATA_COLOUR
 
 
 @dataclass(frozen=True)
@@ -29,6 +36,20 @@ class Bridge:
     a: str
     b: str
     level: Level
+
+
+#: Tags for bridges, in the order the frame lists them (the findings line uses the same).
+BRIDGE_TAGS = "abcdefghijkmnpqrstuvwxyz"
+
+
+def bridge_tag(i: int) -> str:
+    """The letter of the i-th bridge ("a", "b", …; past the alphabet, "+")."""
+    return BRIDGE_TAGS[i] if 0 <= i < len(BRIDGE_TAGS) else "+"
+
+
+#: Sites on the measured circumference line (10-20, both names): the ring is drawn through them.
+CIRCUMFERENCE_SITES = frozenset({"Fpz", "Fp1", "Fp2", "F7", "F8", "T7", "T8", "T3", "T4",
+                                 "P7", "P8", "T5", "T6", "O1", "O2", "Oz"})
 
 
 class _Canvas:
@@ -84,6 +105,8 @@ class HeadMap(Widget):
         self._selected: str | None = None
         self._spread = 1.0
         self._unplaced: tuple[str, ...] = ()
+        self._ring = 1.0
+        self._landmarks: tuple[tuple[int, int, str], ...] = ()
         #: Where each electrode's symbol went in the last render (column, row).
         self.drawn: dict[str, tuple[int, int]] = {}
 
@@ -96,6 +119,10 @@ class HeadMap(Widget):
         radii = [math.hypot(x, y) for x, y in self._points.values()]
         top = max(radii, default=0.0)
         self._spread = 1.0 / top if 0.0 < top < 1.0 else 1.0
+        # The ring where the circumference sites are (an inferior row may lie outside it).
+        on_ring = [math.hypot(x, y) * self._spread for n, (x, y) in self._points.items()
+                   if n in CIRCUMFERENCE_SITES]
+        self._ring = min(1.0, sum(on_ring) / len(on_ring)) if on_ring else 1.0
         self.refresh()
 
     def show(
@@ -161,22 +188,33 @@ class HeadMap(Widget):
             x, y = x / r, y / r
         return int(round(cx + 0.9 * x * rx)), int(round(cy - 0.9 * y * ry))
 
-    def _outline(self, cv: _Canvas) -> None:
+    def _skeleton(self, cv: _Canvas) -> None:
+        """The three taped lines: the circumference ring, nasion–inion and ear to ear,
+        with their four landmarks (N, I, L, R) just beyond the ring."""
         w, h = cv.w, cv.h
         cx, cy = (w - 1) / 2.0, (h - 1) / 2.0 + 0.5
         rx, ry = max(1.0, (w - 1) / 2.0 - 1.0), max(1.0, (h - 1) / 2.0 - 1.0)
-        steps = max(32, 2 * (w + h))
+        ring_x, ring_y = 0.9 * self._ring * rx, 0.9 * self._ring * ry
+        tape = "grey35"
+        top, bottom = int(round(cy - ring_y)), int(round(cy + ring_y))
+        left, right = int(round(cx - ring_x)), int(round(cx + ring_x))
+        mid_col, mid_row = int(round(cx)), int(round(cy))
+        for row in range(top + 1, bottom):
+            cv.put(mid_col, row, "┆", tape)
+        for col in range(left + 1, right):
+            cv.put(col, mid_row, "┄", tape)
+        steps = max(64, 6 * (w + h))
         for i in range(steps):
             t = 2 * math.pi * i / steps
-            cv.put(int(round(cx + rx * math.cos(t))), int(round(cy - ry * math.sin(t))), "·", "grey42")
-        nose_row = max(0, int(round(cy - ry)) - 1)
-        mid = int(round(cx))
-        cv.put(mid - 1, nose_row, "╱", "grey62")
-        cv.put(mid, nose_row, " ")
-        cv.put(mid + 1, nose_row, "╲", "grey62")
-        ear_row = int(round(cy))
-        cv.put(int(round(cx - rx)) - 1, ear_row, "(", "grey62")
-        cv.put(int(round(cx + rx)) + 1, ear_row, ")", "grey62")
+            cv.put(int(round(cx + ring_x * math.cos(t))), int(round(cy - ring_y * math.sin(t))), "·", "grey50")
+        self._landmarks = ((mid_col, top - 1, "N"), (mid_col, bottom + 1, "I"),
+                           (left - 2, mid_row, "L"), (right + 2, mid_row, "R"))
+
+    def _put_landmarks(self, cv: _Canvas) -> None:
+        """N, I, L, R after the electrodes, only where they touch no symbol or name."""
+        for col, row, letter in self._landmarks:
+            if cv.free(col, row) and all(not cv.inside(c, row) or cv.free(c, row) for c in (col - 1, col + 1)):
+                cv.put(col, row, letter, "bold grey62", own=True)
 
     def _style_for(self, name: str) -> tuple[str, str]:
         if self.marks_mode:
@@ -194,13 +232,10 @@ class HeadMap(Widget):
         if note is not None:
             h -= 2  # the bottom lines list the electrodes with no place
         cv = _Canvas(w, h)
-        self._outline(cv)
+        self._skeleton(cv)
         k = self._spread
         cells = {n: self.cell_of(k * x, k * y, w, h) for n, (x, y) in self._points.items()}
-        for br in self._bridges if not self.marks_mode else ():
-            if br.a in cells and br.b in cells:
-                self._line(cv, cells[br.a], cells[br.b], f"bold {br.level.colour}")
-        # Symbols first (every electrode gets one), then names where they fit.
+        # Symbols first (every electrode gets one), then bridge tags, then names where they fit.
         placed: dict[str, tuple[int, int]] = {}
         for name, (col, row) in cells.items():
             spot = self._nearest_free(cv, col, row)
@@ -211,6 +246,19 @@ class HeadMap(Widget):
                 style = f"{style} reverse"
             cv.put(spot[0], spot[1], sym, style, own=True)
             placed[name] = spot
+        tags: dict[str, tuple[str, str]] = {}
+        for i, br in enumerate(self._bridges if not self.marks_mode else ()):
+            for name in (br.a, br.b):
+                if name in placed and name not in tags:
+                    tags[name] = (bridge_tag(i), f"bold reverse {br.level.colour}")
+        for name, (tag, style) in tags.items():
+            col, row = placed[name]
+            # Beside its symbol, on a side where the next cell is clear too, so the tag
+            # reads as this electrode's and not its neighbour's.
+            sides = [c for c in (col + 1, col - 1) if cv.free(c, row)]
+            clear = [c for c in sides if not cv.inside(2 * c - col, row) or cv.free(2 * c - col, row)]
+            if clear or sides:
+                cv.put((clear or sides)[0], row, tag, style, own=True)
         for name, (col, row) in placed.items():
             label = name
             _, style = self._style_for(name)
@@ -218,13 +266,16 @@ class HeadMap(Widget):
                 style = f"{style} reverse"
             right_half = col > cv.w // 2
             # Right-half names sit left of their symbol (a mirror of the left half), so they
-            # stay inside the outline; the other side is the fallback.
-            spots = (col - len(label), col + 1) if right_half else (col + 1, col - len(label))
+            # stay inside the ring; the other side is the fallback. A tag keeps its cell.
+            near_r = col + 2 if cv.owned[row][min(col + 1, cv.w - 1)] and col + 1 < cv.w else col + 1
+            near_l = col - 1 - len(label) if col >= 1 and cv.owned[row][col - 1] else col - len(label)
+            spots = (near_l, near_r) if right_half else (near_r, near_l)
             for start in spots:
-                if start >= 0 and start + len(label) <= cv.w and cv.free(start, row, len(label)):
+                if self._label_fits(cv, start, row, len(label)):
                     for i, ch in enumerate(label):
                         cv.put(start + i, row, ch, style, own=True)
                     break
+        self._put_landmarks(cv)
         self.drawn = placed
         out = cv.text()
         if note is not None:
@@ -233,21 +284,34 @@ class HeadMap(Widget):
         return out
 
     @staticmethod
+    def _label_fits(cv: _Canvas, start: int, row: int, n: int) -> bool:
+        """Room for a name, with a blank cell between it and any other name or symbol
+        it does not touch (so "●FC1 ●Fz" never runs into "●FC1●Fz")."""
+        if start < 0 or start + n > cv.w or not cv.free(start, row, n):
+            return False
+        before, after = start - 1, start + n
+        # One neighbour is the name's own symbol (or tag); the other side must be clear.
+        ends = [c for c in (before, after) if 0 <= c < cv.w and cv.owned[row][c]]
+        return len(ends) <= 1
+
+    @staticmethod
     def _nearest_free(cv: _Canvas, col: int, row: int) -> tuple[int, int] | None:
-        for radius in range(0, 3):
+        """The free cell nearest the site, preferring one with a blank cell either side
+        (two symbols side by side would leave a name between them ambiguous); any free
+        cell when the map is that crowded. None only when the canvas is full."""
+        fallback: tuple[int, int] | None = None
+        for radius in range(0, max(cv.w, cv.h)):
+            if fallback is not None and radius > 2:
+                return fallback
             for dr in range(-radius, radius + 1):
                 for dc in range(-radius, radius + 1):
                     if max(abs(dr), abs(dc)) != radius:
                         continue
-                    if cv.inside(col + dc, row + dr) and cv.free(col + dc, row + dr):
-                        return col + dc, row + dr
-        return None
-
-    @staticmethod
-    def _line(cv: _Canvas, a: tuple[int, int], b: tuple[int, int], style: str) -> None:
-        (c0, r0), (c1, r1) = a, b
-        n = max(abs(c1 - c0), abs(r1 - r0), 1)
-        for i in range(1, n):
-            c = int(round(c0 + (c1 - c0) * i / n))
-            r = int(round(r0 + (r1 - r0) * i / n))
-            cv.put(c, r, "═" if r0 == r1 else "┊" if c0 == c1 else "∙", style)
+                    c, r = col + dc, row + dr
+                    if not (cv.inside(c, r) and cv.free(c, r)):
+                        continue
+                    if all(not cv.inside(x, r) or cv.free(x, r) for x in (c - 1, c + 1)):
+                        return c, r
+                    if fallback is None:
+                        fallback = (c, r)
+        return fallback

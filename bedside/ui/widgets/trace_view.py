@@ -101,7 +101,9 @@ class TraceView(Horizontal):
     @work(thread=True, exclusive=True, group="trace", exit_on_error=False)
     def request(self, buffer: DisplayBuffer, req: TraceRequest) -> None:
         """Draw in a worker thread and post the result back."""
-        self.post_message(draw(buffer.window(), buffer.rate_hz, req))
+        # The trace's seconds and at least 4 s for the spectrum, not the page's 10 s.
+        n = int(round(max(req.trace_s, 4.0) * buffer.rate_hz))
+        self.post_message(draw(buffer.window(n), buffer.rate_hz, req))
 
     def on_trace_ready(self, message: TraceReady) -> None:
         panes = self._panes()
@@ -112,12 +114,12 @@ class TraceView(Horizontal):
         title = Text()
         if req.mode == "bipolar" and req.partner_name:
             title.append(f"{req.name}−{req.partner_name} ", style="bold")
-            mode = "bipolar"
+            mode = "longitudinal bipolar"
         else:
             title.append(f"{req.name} ", style="bold")
             mode = DERIVATION_LABEL[req.mode]
             if req.mode == "bipolar":
-                mode = "bipolar: no neighbour, as recorded"
+                mode = "bipolar: not on a chain, as recorded"
         title.append(f"{mode}, last {req.trace_s:g} s, ±{message.half_uv:.0f} µV", style="grey62")
         body = Text(no_wrap=True, overflow="crop")
         body.append_text(title)
