@@ -27,6 +27,7 @@ from typing import Any
 import pytest
 
 from bedside.checks.settings import QualitySettings, load_quality
+from bedside.checks.taptest import TapSettings, load_tap_settings
 from bedside.cli import main
 from bedside.config import CONFIG_DIR, read_yaml
 from bedside.errors import ConfigError
@@ -46,6 +47,7 @@ _CONFIGS: dict[str, tuple[type, str | None, Loader]] = {
     "labels.yaml": (LabelRules, "labels", load_labels),
     "amplifiers.yaml": (AmplifierCatalogue, "amplifiers", load_amplifiers),
     "bibliography.yaml": (Bibliography, "bibliography", load_bibliography),
+    "taptest.yaml": (TapSettings, "taptest", load_tap_settings),
 }
 
 

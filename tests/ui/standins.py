@@ -315,6 +315,16 @@ def services(
     return Services(**values)
 
 
+async def until(pilot: Any, cond: Callable[[], bool], tries: int = 100) -> bool:
+    """In a Pilot test: let the app run 0.05 s at a time until ``cond()`` (at most
+    ``tries`` times); whether it came true."""
+    for _ in range(tries):
+        await pilot.pause(0.05)
+        if cond():
+            return True
+    return bool(cond())
+
+
 def wait_until(cond: Callable[[], bool], timeout_s: float = 5.0) -> bool:
     end = time.monotonic() + timeout_s
     while time.monotonic() < end:

@@ -29,11 +29,7 @@ pytestmark = [pytest.mark.asyncio, pytest.mark.lsl]
 
 
 async def _until(pilot: Any, cond: Any, tries: int = 200) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+    return await si.until(pilot, cond, tries)
 
 
 def _app(name: str) -> Any:

@@ -126,11 +126,7 @@ def _app(sid: str, opened: Opened, start_view: Any = "watch") -> Any:
 
 
 async def _until(pilot: Any, cond: Any, tries: int = 150) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+    return await si.until(pilot, cond, tries)
 
 
 def _e5(app: Any) -> Any:

@@ -13,7 +13,6 @@ location, as an LSL outlet sends it) and the map's places from the real
 from __future__ import annotations
 
 import threading
-from typing import Any
 
 import numpy as np
 import pytest
@@ -72,12 +71,7 @@ class CapSource:
         self._stop.set()
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 async def test_a_cap_without_10_20_names_is_drawn_at_its_own_positions() -> None:

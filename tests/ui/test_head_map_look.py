@@ -5,7 +5,6 @@ one tag on both electrodes (bedside/ui/widgets/head_map.py)."""
 from __future__ import annotations
 
 import re
-from typing import Any
 
 import numpy as np
 import standins as si
@@ -52,12 +51,7 @@ def _real_places() -> Services:
     return Services(**{**real, "positions_for": Services().positions_for, "project_2d": Services().project_2d})
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 def _tokens(text: str) -> list[str]:

@@ -20,12 +20,7 @@ from bedside.ui.config import AppConfig
 pytestmark = pytest.mark.asyncio
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 async def _type(pilot: Any, text: str) -> None:

@@ -13,7 +13,6 @@ from __future__ import annotations
 import sys
 import time
 from pathlib import Path
-from typing import Any
 
 import pytest
 import standins as si
@@ -28,12 +27,7 @@ from outlets import Feeder, make_info, unique_name  # noqa: E402
 pytestmark = pytest.mark.asyncio
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 async def test_two_beds_heard_open_the_picker_at_that_poll_and_it_fills() -> None:

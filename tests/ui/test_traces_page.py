@@ -85,12 +85,7 @@ class _Alpha(si.FixedSource):
         return Chunk(x, t)
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 def _page(app: Any) -> TracesScreen:

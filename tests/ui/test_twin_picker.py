@@ -17,12 +17,7 @@ from bedside.ui.screens.picker import StreamPicker
 pytestmark = pytest.mark.asyncio
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 async def test_the_picker_opens_the_chosen_one_of_two_equal_outlets() -> None:

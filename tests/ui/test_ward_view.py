@@ -43,12 +43,7 @@ class ScriptedWard:
         self.closed = True
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 async def test_the_ward_lists_beds_as_they_come_and_opens_one_in_watch() -> None:

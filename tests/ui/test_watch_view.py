@@ -26,12 +26,7 @@ from bedside.ui.widgets.head_map import HeadMap
 pytestmark = pytest.mark.asyncio
 
 
-async def _until(pilot: Any, cond: Any, tries: int = 100) -> bool:
-    for _ in range(tries):
-        await pilot.pause(0.05)
-        if cond():
-            return True
-    return bool(cond())
+_until = si.until
 
 
 def _state(app: Any, name: str) -> Any:
