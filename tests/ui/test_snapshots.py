@@ -122,10 +122,12 @@ def test_log_screen(snap_compare: Any, tmp_path: Any, size: tuple[int, int]) -> 
                    services=si.services(recorder=rec))
 
     async def note(pilot: Any) -> None:
-        await pilot.pause(0.2)
+        # The log opens in a worker: wait for it (on a loaded machine 0.2 s is not enough).
+        assert await si.until(pilot, lambda: app.recorder is not None and "log file" in si.screen_text(app))
         await pilot.press("tab", "tab")
         for ch in "gel":
             await pilot.press(ch)
+        assert await si.until(pilot, lambda: "gel" in si.screen_text(app))
         await pilot.pause(0.2)
 
     assert snap_compare(app, terminal_size=size, run_before=note)

@@ -100,7 +100,7 @@ def test_demo_as_a_person_uses_it(tmp_path: Path) -> None:
         tmux.wait_for(lambda s: "T7 re-seated" in s and "note added" in s, 10)
         # Help, then leave with Ctrl-C: the log is saved, the exit is clean.
         tmux.keys("F1")
-        tmux.wait_for(lambda s: "bedside — help" in s and "Channels" in s, 5)
+        tmux.wait_for(lambda s: "bedside — help" in s and "Everywhere" in s, 5)
         tmux.keys("End")  # the cautions follow the keys
         tmux.wait_for(lambda s: "Cautions" in s, 5)
         tmux.keys("Escape", "C-c")
