@@ -24,6 +24,12 @@ CONFIG_FILES: dict[str, bool] = {
     "labels.yaml": True,
     "amplifiers.yaml": True,
     "quality.yaml": False,
+    # The department profiles (bedside/checks/profiles.py): one source per value.
+    "profiles/adult.yaml": False,
+    "profiles/paediatric.yaml": False,
+    "profiles/neonatal.yaml": False,
+    "profiles/icu-long-term.yaml": False,
+    "profiles/research-high-density.yaml": False,
 }
 
 #: Bibliography entries cited only in words, not yet as tokens (none).
