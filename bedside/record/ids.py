@@ -10,7 +10,6 @@ for studies whose codes are letters only).
 
 from __future__ import annotations
 
-import math
 import re
 import unicodedata
 
