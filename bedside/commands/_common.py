@@ -58,7 +58,7 @@ def check_format(value: str, accepted: tuple[str, ...]) -> str:
     return value
 
 
-def add_profile_option(parser: argparse.ArgumentParser) -> None:
+def add_profile_option(parser: argparse.ArgumentParser | argparse._ArgumentGroup) -> None:
     """``--profile NAME``: the department profile (configs/profiles/<NAME>.yaml)."""
     from bedside.checks.profiles import DEFAULT_PROFILE, profile_names
 

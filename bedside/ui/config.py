@@ -27,6 +27,8 @@ class AppConfig:
     every scalp electrode good for this many consecutive seconds is "ready to record"
     (Watch counts down; ``--until-good``). bell: ring the terminal bell when ready is
     reached and when a new fault appears (``--bell``; ``b`` on Watch toggles it).
+    profile: the department profile (configs/profiles/<name>.yaml: thresholds,
+    impedance limit, montage, re-check interval; ``--profile``; ``d`` on Watch picks).
     """
 
     system: str = "10-20"
@@ -53,5 +55,6 @@ class AppConfig:
     confirm_channels: bool = False
     ready_hold_s: float = 10.0
     bell: bool = False
+    profile: str = "adult"
     export_dir: Path = field(default_factory=Path.cwd)
     title: str = "bedside"

@@ -33,6 +33,7 @@ KEYS = (
         ("p / r", "pick another stream / look for streams again"),
         ("c", "channels: confirm or change each channel's type and name"),
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
+        ("d", "department profile: impedance limit, amplitude limits, montage, re-check interval"),
     )),
     ("Channels", (
         ("↑ ↓, Tab", "choose a channel, then its name and type fields"),
