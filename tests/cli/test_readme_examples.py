@@ -56,7 +56,7 @@ UNTIL_STOPPED = ("bedside simulate clean", "bedside replay")
 SETTLE_S = 3.0
 
 #: The app: opened in a real terminal (tmux), then left with q.
-APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside demo")
+APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside watch --profile neonatal", "bedside demo")
 
 #: Spans that name a command in running text rather than show a use of it (the fault
 #: table's Ctrl-C row): each must at least be a command that answers --help.
