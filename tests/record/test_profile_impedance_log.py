@@ -11,6 +11,7 @@ from record_factories import FakeClock
 
 from bedside.checks.profiles import load_profile
 from bedside.errors import InputError
+from bedside.record.html import render_report
 from bedside.record.log import load_log
 from bedside.record.session import SessionRecorder
 
@@ -35,6 +36,7 @@ def test_profile_and_impedance_sources_round_trip(tmp_path: Path, clock: FakeClo
     assert [(e.electrode, e.kohm, e.source) for e in loaded.impedances] == [
         ("Cz", 12.0, "amplifier"), ("Cz", 4.0, "typed"), ("O1", 3.0, "amplifier")]
     assert loaded.latest_impedances_kohm() == {"Cz": 4.0, "O1": 3.0}
+    assert f"neonatal (sha256 {neo.sha256[:16]}…)" in render_report(loaded)
 
 
 @pytest.mark.parametrize(("kohm", "words"), [(0.0, "zero or less"), (-1.0, "zero or less"),
