@@ -100,6 +100,20 @@ def _merge(base: dict[str, Any], over: dict[str, Any]) -> dict[str, Any]:
     return out
 
 
+#: Loaded profiles by (file, quality file, both files' size and change time): the app
+#: reads the profile for every connection, and YAML parsing in pure Python is slow
+#: enough to hold up the screen's thread; a changed file is read again.
+_LOADED: dict[tuple[object, ...], Profile] = {}
+
+
+def _stamp(path: Path) -> tuple[int, int]:
+    try:
+        st = path.stat()
+    except OSError:
+        return (-1, -1)  # read_yaml says what is wrong
+    return (st.st_size, st.st_mtime_ns)
+
+
 def load_profile(name: str | None = None, quality_path: Path | str | None = None,
                  folder: Path | None = None) -> Profile:
     """The profile ``name`` (default :data:`DEFAULT_PROFILE`), its overrides laid over
@@ -114,6 +128,15 @@ def load_profile(name: str | None = None, quality_path: Path | str | None = None
         raise InputError(f"--profile {name!r} is not a department profile; accepted: "
                          f"{', '.join(names) or 'none (configs/profiles/ is empty)'}")
     path = folder / f"{name}.yaml"
+    qpath = Path(quality_path) if quality_path is not None else DEFAULT_PATH
+    key = (str(path.resolve()), str(qpath.resolve()), _stamp(path), _stamp(qpath))
+    cached = _LOADED.get(key)
+    if cached is None:
+        cached = _LOADED[key] = _read_profile(name, path, qpath)
+    return cached
+
+
+def _read_profile(name: str, path: Path, qpath: Path) -> Profile:
     data = read_yaml(path)
     if not isinstance(data, dict) or "profile" not in data:
         raise ConfigError(f"{path}: missing top-level section 'profile'")
@@ -126,7 +149,6 @@ def load_profile(name: str | None = None, quality_path: Path | str | None = None
     if not isinstance(overrides, dict):
         raise ConfigError(f"{path}: 'profile.quality' must be a mapping of quality.yaml's keys")
     reader.read(overrides, QualitySettings, "profile.quality")  # names this file and line
-    qpath = Path(quality_path) if quality_path is not None else DEFAULT_PATH
     base = read_yaml(qpath)
     if not isinstance(base, dict) or "quality" not in base:
         raise ConfigError(f"{qpath}: missing top-level section 'quality'")

@@ -547,7 +547,7 @@ def run(args: argparse.Namespace) -> int:
     consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
     with optional_recorder(
         args.log, technologist=args.technologist, subject_id=args.subject,
-        config_paths=[args.config or DEFAULT_PATH, profile.path],
+        config_paths=[args.config or DEFAULT_PATH],  # the profile has its own record (name, hash)
     ) as recorder, LslSource(identity, options=options) as lsl_source:
         remember_choices(args, identity.source_id, options)
         kwargs, geometry_note = engine_options(lsl_source)
