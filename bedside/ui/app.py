@@ -477,7 +477,7 @@ class BedsideApp(App[int]):
     def _start(self, source: Source, generation: int) -> Connection:
         """Engine and monitor on ``source`` (worker thread); frames carry ``generation``."""
         feed = FrameFeed(self.post_message, self._frame_recorder, generation)
-        # The profile is read again for each connection (a few ms): its thresholds go
+        # The profile is read for each connection (cached until its file changes): its thresholds go
         # into the engine; an unknown or broken profile is said and nothing starts.
         profile = self.services.load_profile(self.profile_name)
         return connect(self.services, source, self.config, feed, generation, profile=profile)
