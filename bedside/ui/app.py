@@ -214,7 +214,9 @@ class BedsideApp(App[int]):
         # keep it out of the collector's full sweeps, which otherwise stall a frame now
         # and then by 100 ms or more at 256 channels (Python docs, gc.freeze).
         gc.freeze()
-        self._load_profile(self.profile_name)
+        # A connection reads the profile in its own worker; without one, read it once the
+        # screen has settled (a worker at start-up holds up the first keys).
+        self.set_timer(1.0, self._profile_if_none)
         if self.config.log_path is not None and self.services.open_recorder is not None:
             self._open_log()
         if self._given_source is not None:
@@ -826,6 +828,10 @@ class BedsideApp(App[int]):
             self.notify("log saved", timeout=2)
 
     # --- department profile and impedances --------------------------------------------
+    def _profile_if_none(self) -> None:
+        if self.profile is None:
+            self._load_profile(self.profile_name)
+
     @work(thread=True, exclusive=True, group="profile", exit_on_error=False)
     def _load_profile(self, name: str) -> None:
         try:

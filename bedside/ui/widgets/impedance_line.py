@@ -84,5 +84,6 @@ class ImpedanceLine(Static):
         text = impedance_text(view, selected)
         if text.plain == self._shown:
             return
+        first = self._shown is None
         self._shown = text.plain
-        self.update(text)
+        self.update(text, layout=first)  # one line, fixed height: no new layout after the first
