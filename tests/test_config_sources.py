@@ -25,6 +25,12 @@ CONFIG_FILES: dict[str, bool] = {
     "amplifiers.yaml": True,
     "quality.yaml": False,
     "taptest.yaml": False,
+    # The department profiles (bedside/checks/profiles.py): one source per value.
+    "profiles/adult.yaml": False,
+    "profiles/paediatric.yaml": False,
+    "profiles/neonatal.yaml": False,
+    "profiles/icu-long-term.yaml": False,
+    "profiles/research-high-density.yaml": False,
 }
 
 #: Bibliography entries cited only in words, not by a config's token: where, and which.

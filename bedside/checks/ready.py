@@ -223,7 +223,9 @@ class ReadyState:
 
     ready_at_s: when the gate was first reached (None: not yet; it stays once reached).
     waiting: electrodes not good now (and not accepted); remaining_s: seconds still to
-    hold while all are good (None while one is waiting or there is no data yet)."""
+    hold while all are good (None while one is waiting or there is no data yet);
+    blocked: those of ``waiting`` held by an impedance over the limit (whatever their
+    signal)."""
 
     t_s: float
     hold_s: float
@@ -232,6 +234,7 @@ class ReadyState:
     remaining_s: float | None
     accepted: tuple[Accepted, ...]
     judged: bool
+    blocked: tuple[str, ...] = ()
 
     @property
     def ready(self) -> bool:
@@ -258,7 +261,8 @@ class ReadyState:
         if not self.judged:
             return f"ready count ({self.hold_s:g} s) starts with the first verdicts"
         if self.waiting:
-            shown = ", ".join(self.waiting[:6]) + (f" +{len(self.waiting) - 6}" if len(self.waiting) > 6 else "")
+            shown = ", ".join(f"{n} (impedance)" if n in self.blocked else n for n in self.waiting[:6]) + (
+                f" +{len(self.waiting) - 6}" if len(self.waiting) > 6 else "")
             if self.ready_at_s is not None:
                 return f"was ready; not good now: {shown} (the count starts again once good)"
             return f"not ready: waiting for {shown} (each good for {self.hold_s:g} s)"
@@ -271,10 +275,16 @@ class ReadyGate:
 
     An electrode counts as good at an update when its channel's level is ``good`` and no
     non-good finding names it; any other state (check, bad, no data) starts its count
-    again. Electrodes are the frame's scalp channels (``is_scalp``) unless given."""
+    again. Electrodes are the frame's scalp channels (``is_scalp``) unless given.
+
+    blocked (:meth:`set_blocked`): electrodes whose impedance is over the department's
+    limit (:func:`bedside.checks.impedance.over_limit`), electrode → reason. They keep
+    the gate shut unless accepted, whatever their signal; their signal's count runs on
+    (a value typed again under the limit opens the gate once the signal has held)."""
 
     def __init__(self, hold_s: float, accepted: Sequence[Accepted] = (),
-                 electrodes: Sequence[str] | None = None) -> None:
+                 electrodes: Sequence[str] | None = None,
+                 blocked: Mapping[str, str] | None = None) -> None:
         if not hold_s > 0:
             raise InputError(f"the ready hold must be more than 0 s, got {hold_s:g}")
         self.hold_s = float(hold_s)
@@ -284,6 +294,11 @@ class ReadyGate:
         self._good_since: dict[str, float | None] = {}
         self.ready_at_s: float | None = None
         self.state: ReadyState | None = None
+        self.blocked: dict[str, str] = dict(blocked or {})
+
+    def set_blocked(self, blocked: Mapping[str, str]) -> None:
+        """Electrodes held by their impedance (electrode → reason); replaces the last set."""
+        self.blocked = dict(blocked)
 
     def electrodes(self, frame: QualityFrame) -> tuple[str, ...]:
         if self._electrodes is not None:
@@ -296,6 +311,7 @@ class ReadyGate:
         judged = frame.live and any(v in _RANK for v in levels.values())
         waiting = []
         starts = []
+        held = []
         for name in self.electrodes(frame):
             good = frame.live and levels.get(name) == "good" and name not in named_bad
             since = self._good_since.get(name)
@@ -306,7 +322,10 @@ class ReadyGate:
             self._good_since[name] = since
             if name in self._accepted_names:
                 continue
-            if since is None:
+            if name in self.blocked:
+                held.append(name)
+                waiting.append(name)
+            elif since is None:
                 waiting.append(name)
             else:
                 starts.append(since)
@@ -318,14 +337,16 @@ class ReadyGate:
             if remaining <= 1e-9 and self.ready_at_s is None:
                 self.ready_at_s = t_s
         self.state = ReadyState(t_s, self.hold_s, self.ready_at_s, tuple(waiting), remaining,
-                                self.accepted, judged)
+                                self.accepted, judged, tuple(held))
         return self.state
 
 
-def not_good_electrodes(frame: QualityFrame) -> tuple[str, ...]:
-    """Scalp electrodes that are not good in ``frame`` (check, bad, no data, or named by a
-    non-good finding): those a sign-off must give a reason for."""
+def not_good_electrodes(frame: QualityFrame, blocked: Iterable[str] = ()) -> tuple[str, ...]:
+    """Scalp electrodes that are not good in ``frame`` (check, bad, no data, named by a
+    non-good finding, or in ``blocked``: an impedance over the limit): those a sign-off
+    must give a reason for."""
     named_bad = {e for f in frame.findings if f.level.key != "good" for e in f.electrodes}
+    named_bad |= set(blocked)
     return tuple(
         c.name for c in frame.channels
         if c.is_scalp and channel_key(c, frame.live) != NOT_JUDGED_KEY

@@ -58,6 +58,18 @@ def check_format(value: str, accepted: tuple[str, ...]) -> str:
     return value
 
 
+def add_profile_option(parser: argparse.ArgumentParser | argparse._ArgumentGroup) -> None:
+    """``--profile NAME``: the department profile (configs/profiles/<NAME>.yaml)."""
+    from bedside.checks.profiles import DEFAULT_PROFILE, profile_names
+
+    names = ", ".join(profile_names()) or "none shipped"
+    parser.add_argument(
+        "--profile", metavar="NAME", default=None,
+        help=f"department profile: impedance limit, amplitude limits, montage, re-check interval "
+        f"(configs/profiles/; {names}; default {DEFAULT_PROFILE})",
+    )
+
+
 def add_channel_options(parser: argparse.ArgumentParser) -> None:
     """How the channels are read: types and names, reference, scale, amplifier, layout."""
     g = parser.add_argument_group("channels (what bedside infers from the stream can be overridden)")

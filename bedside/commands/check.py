@@ -36,6 +36,16 @@ the level changes (the first is the first verdict after the warm-up); ``run_find
 every finding seen during the run; times (``t_s``, ``at_s`` …) are seconds from the
 start of the look.
 
+With a department profile (``--profile NAME``, default adult; configs/profiles/), the
+report also has ``"profile": {"name", "title", "sha256", "impedance_limit_kohm",
+"balance_ratio", "balance_min_kohm", "recheck_h", "montage", "montage_missing"}`` and
+``"impedance": {"limit_kohm", "rule", "judged", "over_limit", "unbalanced",
+"implausible"}``, and each channel ``"impedance": {"kohm", "source", "level", "reason"}``
+(null when no value): the amplifier's (the stream's ``desc/channels/channel/impedance``,
+kΩ) or one typed into the resumed ``--log`` (a typed value wins). An impedance over the
+limit, unbalanced or implausible gives exit 1; with ``--until-good`` an electrode over
+the limit keeps the gate shut unless accepted (``--accept``).
+
 ``name`` is bedside's normalised name (``FC5`` from ``Fc5.``), ``label`` the stream's own,
 ``type`` the BIDS channels.tsv type. ``level`` is ``good``, ``check``, ``bad``,
 ``no_data`` or ``not_judged`` (a channel that is not an electrode: trigger, sensor); metrics carry their unit in
@@ -58,6 +68,7 @@ from bedside.cautions import DISCLAIMER
 from bedside.checks.ready import NOT_JUDGED_KEY
 from bedside.commands._common import (
     add_channel_options,
+    add_profile_option,
     add_stream_selection,
     channel_options,
     positive_float,
@@ -134,6 +145,7 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p.add_argument("--bell", action="store_true",
                    help="ring the terminal bell (on stderr) when ready is reached and when a new fault appears")
     p.add_argument("--config", metavar="PATH", help="a quality.yaml to use instead of the shipped one")
+    add_profile_option(p)
     log = p.add_argument_group("setup log (the same log the app keeps; an existing one is resumed)")
     log.add_argument("--log", metavar="PATH", help="record this check into the setup log at PATH (YAML)")
     log.add_argument("--subject", metavar="ID", default="", help="pseudonymous subject/study ID, e.g. W3-017")
@@ -214,14 +226,39 @@ def _ring() -> None:
     sys.stderr.flush()
 
 
+class ImpedanceReport:
+    """The impedances judged for a check: the amplifier's (stream metadata) and those
+    typed into a resumed log, against the profile's limits."""
+
+    def __init__(self, profile: dict[str, Any], limits: Any, verdicts: dict[str, Any],
+                 missing: tuple[str, ...] = ()) -> None:
+        self.profile = dict(profile, montage_missing=list(missing))
+        self.limits = limits
+        self.verdicts = verdicts
+
+    def summary(self) -> dict[str, Any]:
+        by = {lv: [n for n, v in self.verdicts.items() if v.level == lv] for lv in ("bad", "check", "implausible")}
+        lim = self.limits
+        return {
+            "limit_kohm": lim.limit_kohm,
+            "rule": (f"over {lim.limit_kohm:g} kΩ: bad (holds the start gate unless accepted); over "
+                     f"{lim.balance_ratio:g}× the others' median and {lim.balance_min_kohm:g} kΩ above it: "
+                     "check (unbalanced; ours)"),
+            "judged": len(self.verdicts),
+            "over_limit": by["bad"], "unbalanced": by["check"], "implausible": by["implausible"],
+        }
+
+
 def _num(v: object) -> object:
     return None if isinstance(v, float) and not math.isfinite(v) else v
 
 
 def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool,
             channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None,
-            look: Look | None = None, final_only: bool = False) -> dict[str, Any]:
+            look: Look | None = None, final_only: bool = False,
+            impedance: ImpedanceReport | None = None) -> dict[str, Any]:
     runs = {r.name: r for r in look.history.channels(look.last_t)} if look is not None else {}
+    verdicts = impedance.verdicts if impedance is not None else {}
     chans = []
     for i, c in enumerate(frame.channels):
         info = channels[i] if i < len(channels) else None
@@ -239,6 +276,9 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
             d["worst_reason"] = run.worst_reason
             d["not_good_s"] = run.not_good_s
             d["events"] = [e.as_dict() for e in run.events]
+        if impedance is not None:
+            v = verdicts.get(c.name)
+            d["impedance"] = v.as_dict() if v is not None else None
         chans.append(d)
     health = frame.stream_health
     report: dict[str, Any] = {
@@ -259,6 +299,9 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
         "judged_on": "final" if final_only or look is None else "run",
         "stream_lost": lost,
     }
+    if impedance is not None:
+        report["profile"] = impedance.profile
+        report["impedance"] = impedance.summary()
     if look is not None and look.gate is not None:
         state = look.gate.state
         report["ready"] = state.as_dict() if state is not None else None
@@ -315,6 +358,10 @@ def as_table(report: dict[str, Any]) -> str:
                 for e in c["events"]
             )
             lines.append(f"  {c['name']}: {said}")
+    words = _impedance_words(report)
+    if words:
+        lines.append("")
+        lines.extend(words)
     if "ready" in report:
         lines.append("")
         lines.append(_ready_words(report))
@@ -347,6 +394,34 @@ def _run_words(c: dict[str, Any]) -> str:
     return f"{symbol[worst]} {word[worst]}, {c['not_good_s']:.1f} s not good"
 
 
+def _impedance_words(report: dict[str, Any]) -> list[str]:
+    """The impedances and the profile in words (nothing when neither has news)."""
+    prof = report.get("profile") or {}
+    imp = report.get("impedance") or {}
+    out = []
+    if imp.get("judged"):
+        values = {c["name"]: c["impedance"] for c in report["channels"] if c.get("impedance")}
+
+        def named(names: list[str]) -> str:
+            return ", ".join(f"{n} {values[n]['kohm']:g} kΩ" if n in values else n for n in names)
+
+        said = [f"impedances ({imp['judged']} judged, profile {prof.get('name', '?')}, limit "
+                f"{imp['limit_kohm']:g} kΩ)"]
+        if imp["over_limit"]:
+            said.append(f"over the limit: {named(imp['over_limit'])}")
+        if imp["unbalanced"]:
+            said.append(f"unbalanced: {named(imp['unbalanced'])}")
+        if imp["implausible"]:
+            said.append(f"implausible, not judged: {named(imp['implausible'])}")
+        if len(said) == 1:
+            said.append("all within the limit and balanced")
+        out.append("; ".join(said))
+    if prof.get("montage_missing"):
+        out.append(f"profile {prof['name']} expects electrodes the stream does not carry: "
+                   + ", ".join(prof["montage_missing"]))
+    return out
+
+
 def _ready_words(report: dict[str, Any]) -> str:
     ready = report["ready"]
     if ready is None:
@@ -360,11 +435,31 @@ def _ready_words(report: dict[str, Any]) -> str:
     return words
 
 
+def judge_impedances(profile: Any, channels: tuple[ChannelInfo, ...], recorder: Any = None) -> ImpedanceReport:
+    """The stream's published impedances and those typed into a resumed log (typed win),
+    judged against the profile; only the stream's scalp electrodes are judged (the
+    balance rule compares like with like)."""
+    from bedside.checks.impedance import judge, merge
+
+    names = {c.name for c in channels if c.is_scalp}
+    published = {c.name: c.impedance_kohm for c in channels if c.impedance_kohm is not None and c.is_scalp}
+    typed: dict[str, float] = {}
+    if recorder is not None:
+        snap = recorder.snapshot()
+        typed = {e.electrode: e.kohm for e in snap.impedances if e.source == "typed" and e.electrode in names}
+    verdicts = judge(merge(typed, published), profile.impedance)
+    missing = profile.missing_from([c.name for c in channels if c.is_scalp])
+    return ImpedanceReport(profile.as_dict(), profile.impedance, verdicts, missing)
+
+
 def exit_code(report: dict[str, Any]) -> int:
     """0 all good, 1 attention (see the module docstring)."""
     if "ready" in report:
         return EXIT_OK if report["ready"] is not None else EXIT_ATTENTION
     if report["stream_lost"]:
+        return EXIT_ATTENTION
+    imp = report.get("impedance") or {}
+    if imp.get("over_limit") or imp.get("unbalanced") or imp.get("implausible"):
         return EXIT_ATTENTION
     judged = [c for c in report["channels"] if c["level"] != NOT_JUDGED_KEY]
     levels = [c["level"] for c in judged] + [f["level"] for f in report["findings"]]
@@ -402,14 +497,15 @@ def _write_clip(
 
 
 def run(args: argparse.Namespace) -> int:
-    from bedside.checks.settings import load_quality
+    from bedside.checks.profiles import load_profile
     from bedside.stream.channels import kind_counts
     from bedside.stream.discovery import resolve_one
     from bedside.stream.lsl import prepare_lsl
     from bedside.stream.reader import LslSource
     from bedside.stream.tee import KeepRecent
 
-    settings = load_quality(args.config)
+    profile = load_profile(args.profile, args.config)  # unknown name: the accepted ones, exit 2
+    settings = profile.quality
     if args.seconds < settings.min_data_s:
         raise InputError(
             f"--seconds must be at least {settings.min_data_s:g} (the checks need that much data; "
@@ -422,6 +518,7 @@ def run(args: argparse.Namespace) -> int:
         )
     if args.clip_seconds is None:
         args.clip_seconds = args.seconds
+    from bedside.checks.impedance import implausible, over_limit
     from bedside.checks.ready import ReadyGate, match_accepted, parse_accept
 
     accepted = parse_accept(args.accept)
@@ -453,7 +550,7 @@ def run(args: argparse.Namespace) -> int:
     consumers: list[FrameConsumer] = []  # frame consumers (e.g. a setup log) go here
     with optional_recorder(
         args.log, technologist=args.technologist, subject_id=args.subject,
-        config_paths=[args.config or DEFAULT_PATH], long_term=settings.long_term,
+        config_paths=[args.config or DEFAULT_PATH], long_term=settings.long_term,  # the profile has its own record (name, hash)
     ) as recorder, LslSource(identity, options=options) as lsl_source:
         remember_choices(args, identity.source_id, options)
         kwargs, geometry_note = engine_options(lsl_source)
@@ -467,13 +564,19 @@ def run(args: argparse.Namespace) -> int:
         keep = KeepRecent(lsl_source, args.clip_seconds) if args.clip else None
         if keep is not None:
             source = keep
+        impedance = judge_impedances(profile, source.channels, recorder)
         gate = None
         if args.until_good is not None:
             scalp = [c.name for c in source.channels if c.is_scalp]
-            gate = ReadyGate(args.until_good, match_accepted(accepted, scalp), scalp)
+            gate = ReadyGate(args.until_good, match_accepted(accepted, scalp), scalp,
+                             blocked=over_limit(impedance.verdicts))
         look = Look(gate, bell=args.bell)
         if recorder is not None:
+            recorder.set_profile(profile.name, profile.sha256)
             recorder.set_stream(source.identity, source.channels)
+            for ch in source.channels:  # what the amplifier published, kept beside the typed
+                if ch.impedance_kohm is not None and not implausible(ch.impedance_kohm):
+                    recorder.set_impedance(ch.name, ch.impedance_kohm, "amplifier")
             consumers.append(recorder.on_frame)
             if gate is not None:
                 rec = recorder
@@ -491,7 +594,7 @@ def run(args: argparse.Namespace) -> int:
         raise error
     if frame is None:
         raise InputError("no frame was produced; the stream sent nothing")
-    report = as_json(frame, identity, args.seconds, lost, channels, setup, look, args.final_only)
+    report = as_json(frame, identity, args.seconds, lost, channels, setup, look, args.final_only, impedance)
     if args.format == "json":
         print(json.dumps(report, indent=2, ensure_ascii=False))
     else:

@@ -35,13 +35,15 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
 
 
 def run(args: argparse.Namespace) -> int:
+    from bedside.checks.profiles import load_profile
     from bedside.commands.watch import lsl_log_file
     from bedside.sim.publish import run_in_background
     from bedside.sim.scenario import load_scenario
     from bedside.stream.lsl import prepare_lsl
 
-    # The scenario first: a bad one is refused before anything is created on disk.
+    # The scenario and the profile first: a bad one is refused before anything is created on disk.
     scenario = load_scenario(args.scenario) if args.scenario else load_scenario()
+    load_profile(args.profile)
     log_file = lsl_log_file()
     log_file.parent.mkdir(parents=True, exist_ok=True)
     prepare_lsl(log_to=log_file)

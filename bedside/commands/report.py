@@ -98,6 +98,8 @@ def text_summary(log: SetupLog) -> str:
             f"{len(sec.final)} judged, {len(bad)} not good{' (' + ', '.join(bad) + ')' if bad else ''}"
             " — kept apart; everything below is the current stream's"
         )
+    if log.profile is not None:
+        lines.append(f"  profile {log.profile.name} (sha256 {log.profile.sha256[:12]}…)")
     if log.plan is not None:
         m = log.plan.measurements
         lines.append(

@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import cast
 
 from bedside.cautions import CAUTIONS
-from bedside.commands._common import add_stream_selection, positive_float
+from bedside.commands._common import add_profile_option, add_stream_selection, positive_float
 
 NAME = "watch"
 ORDER = 30
@@ -56,6 +56,7 @@ def add_app_options(p: argparse.ArgumentParser) -> None:
     view.add_argument("--bell", action="store_true",
                       help="ring the terminal bell when ready is reached and when a new fault "
                       "appears (off by default; b on Watch toggles it)")
+    add_profile_option(view)
 
 
 def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
@@ -81,6 +82,7 @@ def default_log_path(subject: str) -> Path:
 
 def app_config(args: argparse.Namespace, *, stream_name: str | None = None, start_view: str = "watch"):  # type: ignore[no-untyped-def]
     """The AppConfig for these command-line options."""
+    from bedside.checks.profiles import DEFAULT_PROFILE
     from bedside.config import CONFIG_DIR
     from bedside.ui.config import AppConfig, View
 
@@ -106,6 +108,7 @@ def app_config(args: argparse.Namespace, *, stream_name: str | None = None, star
         confirm_channels=True,
         ready_hold_s=args.until_good,
         bell=args.bell,
+        profile=args.profile or DEFAULT_PROFILE,
     )
 
 
@@ -115,13 +118,15 @@ def lsl_log_file() -> Path:
 
 def run_app(config) -> int:  # type: ignore[no-untyped-def]
     """Run the app in this terminal; liblsl is silenced first (it writes to fd 2)."""
+    from bedside.checks.profiles import load_profile
     from bedside.record.ids import validate_initials, validate_subject_id
     from bedside.stream.lsl import prepare_lsl
     from bedside.ui.app import make_app
 
-    # Bad initials or ID: say so before the screen opens (exit 2), not inside it.
+    # Bad initials, ID or profile: say so before the screen opens (exit 2), not inside it.
     validate_initials(config.technologist)
     validate_subject_id(config.subject_id)
+    load_profile(config.profile)
     log_file = lsl_log_file()
     log_file.parent.mkdir(parents=True, exist_ok=True)
     prepare_lsl(log_to=log_file)

@@ -439,6 +439,8 @@ def render_report(log_: SetupLog) -> str:
                 f"; {a.electrode} not good, accepted: {a.reason}" for a in log_.sign_off.exceptions))
             if log_.sign_off else "not signed off",
         ),
+        ("Department profile", (f"{log_.profile.name} (sha256 {log_.profile.sha256[:16]}…)"
+                                if log_.profile is not None else "not recorded")),
         ("Software", f"bedside {log_.software_version}"),
         (
             "Config",

@@ -10,18 +10,19 @@ for studies whose codes are letters only).
 
 from __future__ import annotations
 
-import math
 import re
 import unicodedata
 
+from bedside.checks.impedance import PLAUSIBLE_MAX_KOHM, accepted_words, implausible
 from bedside.errors import InputError
 
 SUBJECT_ID_MAX = 32
 INITIALS_MAX = 5
 ELECTRODE_MAX = 32
 NOTE_MAX = 2000
-#: Impedances above this are not a measurement but an open circuit (kΩ). Common practice.
-IMPEDANCE_MAX_KOHM = 10_000.0
+#: Impedances above this are not a measurement but an open lead or a slip (kΩ); the
+#: one value, from bedside.checks.impedance (common practice).
+IMPEDANCE_MAX_KOHM = PLAUSIBLE_MAX_KOHM
 
 _SUBJECT_RE = re.compile(r"[A-Za-z0-9][A-Za-z0-9_-]*")
 _INITIALS_RE = re.compile(r"[A-Za-z]+")
@@ -81,18 +82,18 @@ def validate_electrode(name: str) -> str:
     return name
 
 
-def validate_impedance(electrode: str, kohm: float) -> float:
-    """An impedance in kΩ: a finite number from 0 to IMPEDANCE_MAX_KOHM."""
+def validate_impedance(electrode: str, kohm: float | str) -> float:
+    """An impedance in kΩ: a finite number above 0 and at most IMPEDANCE_MAX_KOHM
+    (0 or less, or above, is no contact on skin: refused with the reason)."""
     try:
         value = float(kohm)
     except (TypeError, ValueError):
         raise InputError(
-            f"impedance for {electrode} must be a number in kΩ, got {kohm!r}"
+            f"impedance for {electrode} must be a number in kΩ, got {kohm!r}; {accepted_words()}"
         ) from None
-    if isinstance(kohm, bool) or not math.isfinite(value) or not 0 <= value <= IMPEDANCE_MAX_KOHM:
-        raise InputError(
-            f"impedance for {electrode} is {kohm!r}; accepted: 0 to {IMPEDANCE_MAX_KOHM:g} kΩ"
-        )
+    why = "not a number of kΩ" if isinstance(kohm, bool) else implausible(value)
+    if why:
+        raise InputError(f"impedance for {electrode} is {kohm!r}: {why}; {accepted_words()}")
     return value
 
 

@@ -121,11 +121,24 @@ class ChannelFinal:
 
 @dataclass(frozen=True)
 class ImpedanceEntry:
-    """An impedance the technologist entered, in kΩ."""
+    """An impedance in kΩ: typed by the technologist (source "typed"), or published by
+    the amplifier in the stream's metadata ("amplifier"). Logs before the source was
+    kept hold typed values only."""
 
     at: datetime
     electrode: str
     kohm: float
+    source: str = "typed"
+
+
+@dataclass(frozen=True)
+class ProfileRecord:
+    """The department profile the session judged with (configs/profiles/<name>.yaml):
+    its name and the SHA-256 of its file, and when it was chosen."""
+
+    name: str
+    sha256: str
+    at: datetime
 
 
 @dataclass(frozen=True)
@@ -262,6 +275,8 @@ class SetupLog:
     software_version: str = __version__
     config_hash: str = ""
     config_files: tuple[str, ...] = ()
+    #: The department profile (None: logs written before profiles, or none chosen).
+    profile: ProfileRecord | None = None
     reference: str = ""
     ground: str = ""
     power_line_hz: float | None = None
@@ -343,10 +358,16 @@ class SetupLog:
         return {rename.get(k, k): v for k, v in self.plan.positions_mm.items()}
 
     def latest_impedances_kohm(self) -> dict[str, float]:
-        """The last impedance entered per electrode (kΩ)."""
+        """The last impedance per electrode (kΩ): the last typed one where there is one
+        (the technologist measured at the bedside), else the amplifier's last."""
         latest: dict[str, float] = {}
+        typed: set[str] = set()
         for entry in self.impedances:
-            latest[entry.electrode] = entry.kohm
+            if entry.source == "typed":
+                typed.add(entry.electrode)
+                latest[entry.electrode] = entry.kohm
+            elif entry.electrode not in typed:
+                latest[entry.electrode] = entry.kohm
         return latest
 
     def electrode_names(self) -> list[str]:

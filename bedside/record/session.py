@@ -74,6 +74,7 @@ from bedside.record.log import (
     LevelChange,
     Note,
     PlanRecord,
+    ProfileRecord,
     ReadyRecord,
     SetupLog,
     SignOff,
@@ -591,13 +592,31 @@ class SessionRecorder:
         self._findings = current
         return changed
 
-    def set_impedance(self, electrode: str, kohm: float) -> None:
-        """Record an impedance the technologist measured, in kΩ (0 to 10 000)."""
+    def set_impedance(self, electrode: str, kohm: float, source: str = "typed") -> None:
+        """Record an impedance in kΩ (more than 0, at most 1 000: anything else is refused
+        with the reason), typed by the technologist or published by the amplifier."""
         name = validate_electrode(electrode)
         value = validate_impedance(name, kohm)
+        if source not in ("typed", "amplifier"):
+            raise InputError(f"impedance source {source!r}; accepted: typed, amplifier")
         with self._lock:
             self._check_open()
-            self._log.impedances.append(ImpedanceEntry(self._now(), name, value))
+            self._log.impedances.append(ImpedanceEntry(self._now(), name, value, source))
+            self._touch()
+
+    def set_profile(self, name: str, sha256: str) -> None:
+        """The department profile judged with (its name and the SHA-256 of its file); a
+        change of profile is an event."""
+        with self._lock:
+            self._check_open()
+            before = self._log.profile
+            if before is not None and (before.name, before.sha256) == (name, sha256):
+                return
+            if before is not None:
+                detail = (f"{before.name} → {name}" if before.name != name
+                          else f"{name} changed (hash {before.sha256[:12]} → {sha256[:12]})")
+                self._log.events.append(Event(self._now(), "profile", detail))
+            self._log.profile = ProfileRecord(name, sha256, self._now())
             self._touch()
 
     def add_note(self, text: str) -> None:

@@ -57,11 +57,13 @@ def import_pylsl() -> Any:
 
 @dataclass(frozen=True)
 class ChannelSpec:
-    """One channel as published: label, unit (XDF spelling, e.g. "microvolts"), type."""
+    """One channel as published: label, unit (XDF spelling, e.g. "microvolts"), type,
+    and the electrode's impedance in kΩ (``desc/channels/channel/impedance``; None: not sent)."""
 
     label: str
     unit: str
     type: str
+    impedance_kohm: float | None = None
 
 
 @dataclass(frozen=True)
@@ -117,6 +119,8 @@ def build_stream_info(spec: OutletSpec) -> Any:
         node.append_child_value("label", ch.label)
         node.append_child_value("unit", ch.unit)
         node.append_child_value("type", ch.type)
+        if ch.impedance_kohm is not None:
+            node.append_child_value("impedance", f"{ch.impedance_kohm:g}")
     if spec.reference:
         ref = desc.append_child("reference")
         ref.append_child_value("label", spec.reference)

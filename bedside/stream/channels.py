@@ -45,18 +45,30 @@ class ChannelMetadata:
     """Per-channel metadata as the stream sent it (lists in stream order, may be short).
 
     uv_per_count: µV per count where the outlet gives a scale for a channel (empty
-    string: none); locations_mm: (x, y, z) per channel where the outlet gives one."""
+    string: none); locations_mm: (x, y, z) per channel where the outlet gives one;
+    impedances_kohm: the ``impedance`` text per channel (kΩ; empty: none)."""
 
     labels: Sequence[str | None] | None = None
     types: Sequence[str | None] | None = None
     units: Sequence[str | None] | None = None
     uv_per_count: Sequence[str | None] | None = None
     locations_mm: Sequence[tuple[float, float, float] | None] | None = None
+    #: ``impedance`` per channel as text, kΩ (empty: none given).
+    impedances_kohm: Sequence[str | None] | None = None
 
 
 def _pad(values: Sequence[str | None] | None, n: int) -> list[str]:
     out = [("" if v is None else str(v)) for v in (values or [])][:n]
     return out + [""] * (n - len(out))
+
+
+def _number(text: str) -> float | None:
+    """A finite number from metadata text, else None (plausibility is judged elsewhere)."""
+    try:
+        value = float(text.strip().lower().removesuffix("kohm").removesuffix("kω").strip())
+    except ValueError:
+        return None
+    return value if math.isfinite(value) else None
 
 
 def _count_scale(text: str) -> float | None:
@@ -400,6 +412,10 @@ def setup_channels(
             pos = layout.get(ch.name.casefold()) or layout.get(clean_text(ch.label)[0].casefold())
         placed.append(replace(ch, position_mm=pos) if pos is not None else ch)
     channels = tuple(placed)
+    imps = _pad(cm.impedances_kohm, n_channels)
+    if any(imps):
+        channels = tuple(replace(ch, impedance_kohm=_number(text)) if _number(text) is not None else ch
+                         for ch, text in zip(channels, imps, strict=True))
     if layout:
         missing = [c.name for c in channels if c.is_scalp and c.position_mm is None]
         if missing:

@@ -146,18 +146,21 @@ def read_stream_metadata(info: Any) -> StreamMetadata:
     """The channel, reference and acquisition description of a full info (XDF EEG
     meta-data convention: ``desc/channels/channel/{label, unit, type, location/{X,Y,Z}}``
     with locations in mm, ``desc/reference/{label, subtracted, common_average}``,
-    ``desc/acquisition/*``). A per-channel ``scaling_factor`` is read as µV per count."""
+    ``desc/acquisition/*``). A per-channel ``scaling_factor`` is read as µV per count, a
+    per-channel ``impedance`` as kΩ (the convention's unit)."""
     labels, types, units = read_channel_metadata(info)
     scales: list[str] = []
     locations: list[tuple[float, float, float] | None] = []
+    impedances: list[str] = []
     channels = info.desc().child("channels")
     ch = channels.child("channel") if not channels.empty() else channels
     while not ch.empty():
         scales.append(ch.child_value("scaling_factor"))
         locations.append(_location(ch))
+        impedances.append(ch.child_value("impedance"))
         ch = ch.next_sibling("channel")
     return StreamMetadata(
-        ChannelMetadata(labels, types, units, scales, locations),
+        ChannelMetadata(labels, types, units, scales, locations, impedances),
         _children(info.desc().child("reference")),
         _children(info.desc().child("acquisition")),
     )

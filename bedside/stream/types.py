@@ -50,7 +50,10 @@ class ChannelInfo:
     the kind ("type", "unit", "label", "EDF+ type", "site", "assumed", "reference",
     "technologist"); reference: the reference its label names ("A1" in "T3-A1"), ""
     when none; position_mm: (x, y, z) from the stream's metadata or a layout file, in
-    mm (x right, y front, z up), None when not known.
+    mm (x right, y front, z up), None when not known; impedance_kohm: the electrode's
+    impedance as the stream's metadata gives it (``desc/channels/channel/impedance``, kΩ,
+    the XDF EEG meta-data convention), None when not given or not a number — judged in
+    :mod:`bedside.checks.impedance`, never here.
     """
 
     label: str
@@ -63,6 +66,7 @@ class ChannelInfo:
     evidence: str = ""
     reference: str = ""
     position_mm: tuple[float, float, float] | None = None
+    impedance_kohm: float | None = None
 
 
 @dataclass(frozen=True)

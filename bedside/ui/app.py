@@ -21,6 +21,7 @@ from textual.app import App, ScreenStackError
 from textual.binding import Binding
 from textual.message import Message
 
+from bedside.checks.impedance import ImpedanceLimits, Verdict, check_entry, judge, merge, over_limit
 from bedside.checks.ready import Cues, ReadyGate, ReadyState
 from bedside.checks.settings import LongTermSettings
 from bedside.checks.types import QualityFrame
@@ -39,10 +40,12 @@ from bedside.ui.screens.help import HelpScreen
 from bedside.ui.screens.log import LogScreen
 from bedside.ui.screens.measure import MeasureScreen
 from bedside.ui.screens.picker import StreamPicker, streams_visible
+from bedside.ui.screens.profiles import ProfilePicker
 from bedside.ui.screens.ward import WardScreen
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import ChannelPreview, Services, StreamLookLike, default_services
 from bedside.ui.session import Connection, RecorderGate, connect
+from bedside.ui.widgets.impedance_line import ImpedanceView
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
 log = logging.getLogger("bedside")
@@ -118,6 +121,15 @@ class LogOpened(Message):
         self.gate, self.error = gate, error
 
 
+class ProfileReady(Message):
+    """A department profile loaded (worker thread) for ``name``, or why it could not be."""
+
+    def __init__(self, name: str, profile: Any = None, error: str = "",
+                 choices: list[tuple[str, str, float, float | None]] | None = None) -> None:
+        super().__init__()
+        self.name, self.profile, self.error, self.choices = name, profile, error, choices
+
+
 class ShutdownDone(Message):
     def __init__(self, problems: list[str]) -> None:
         super().__init__()
@@ -169,6 +181,15 @@ class BedsideApp(App[int]):
         self.alert_keeper = AlertKeeper(long_term.alert_after_s)
         self.skin_reminder = SkinReminder(long_term.skin_check_s)
         self.bell_on = self.config.bell
+        #: The department profile (bedside.checks.profiles.Profile) once loaded, by name.
+        self.profile_name = config.profile
+        self.profile: Any = None
+        #: Impedances typed in the Log view (kΩ, by the stream's electrode name), their
+        #: verdicts with the amplifier's (bedside.checks.impedance), and when the last
+        #: value came (epoch seconds; the re-check interval counts from it).
+        self.typed_impedances: dict[str, float] = {}
+        self.impedance_verdicts: dict[str, Verdict] = {}
+        self.impedance_at: float | None = None
         self.status_note = ""
         self.points: dict[str, tuple[float, float]] = {}
         #: Scalp channels with neither a position nor a 10-20/10-10 name (not on the map).
@@ -202,6 +223,9 @@ class BedsideApp(App[int]):
         # keep it out of the collector's full sweeps, which otherwise stall a frame now
         # and then by 100 ms or more at 256 channels (Python docs, gc.freeze).
         gc.freeze()
+        # A connection reads the profile in its own worker; without one, read it once the
+        # screen has settled (a worker at start-up holds up the first keys).
+        self.set_timer(1.0, self._profile_if_none)
         if self.config.log_path is not None and self.services.open_recorder is not None:
             self._open_log()
         if self.config.ward:
@@ -467,6 +491,7 @@ class BedsideApp(App[int]):
         self.tracker.reset()
         self.ready_gate, self.ready_state, self.cues = ReadyGate(self.config.ready_hold_s), None, Cues()
         self.alert_keeper = AlertKeeper(self.alert_keeper.after_s)
+        self.ready_gate.set_blocked(over_limit(self.impedance_verdicts))
         self.latest_frame, self.progress = None, None
         self._last_frame_at = None
         self._connected_at = time.monotonic()
@@ -490,7 +515,10 @@ class BedsideApp(App[int]):
     def _start(self, source: Source, generation: int) -> Connection:
         """Engine and monitor on ``source`` (worker thread); frames carry ``generation``."""
         feed = FrameFeed(self.post_message, self._frame_recorder, generation)
-        return connect(self.services, source, self.config, feed, generation)
+        # The profile is read for each connection (cached until its file changes): its thresholds go
+        # into the engine; an unknown or broken profile is said and nothing starts.
+        profile = self.services.load_profile(self.profile_name)
+        return connect(self.services, source, self.config, feed, generation, profile=profile)
 
     # --- channels: what bedside inferred, confirmed or changed by the technologist ----
     def open_channels(self) -> None:
@@ -610,6 +638,11 @@ class BedsideApp(App[int]):
             self._forget_frames()
         self.connection = conn
         self.identity = message.connection.identity
+        if conn.profile is not None:
+            self._use_profile(conn.profile)
+        if any(c.impedance_kohm is not None for c in conn.channels):
+            self.impedance_at = time.time()  # the amplifier's values, as of this opening
+        self._judge_impedances()
         self.points, self.unplaced = message.places.points, message.places.unplaced
         self._monitor_error_shown = False
         self._connected_at = time.monotonic()
@@ -796,6 +829,8 @@ class BedsideApp(App[int]):
         log_screen = self.views.get("log")
         if log_screen is not None and log_screen.is_mounted:
             log_screen.refresh_status()  # its status line and file name, now, not at the next tick
+        if self.profile is not None:
+            message.gate.submit("set_profile", (self.profile.name, self.profile.sha256), self._log_done("profile"))
         if self.plan is not None:
             message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
         if self.connection is not None:
@@ -822,6 +857,120 @@ class BedsideApp(App[int]):
         else:
             self.recorder.submit("save_now", (), self._log_done("save"))
             self.notify("log saved", timeout=2)
+
+    # --- department profile and impedances --------------------------------------------
+    def _profile_if_none(self) -> None:
+        if self.profile is None:
+            self._load_profile(self.profile_name)
+
+    @work(thread=True, exclusive=True, group="profile", exit_on_error=False)
+    def _load_profile(self, name: str) -> None:
+        try:
+            profile = self.services.load_profile(name)
+        except BedsideError as exc:
+            self.post_message(ProfileReady(name, error=str(exc)))
+            return
+        self.post_message(ProfileReady(name, profile))
+
+    def on_profile_ready(self, message: ProfileReady) -> None:
+        if message.choices is not None:  # the picker's list
+            self.push_screen(ProfilePicker(message.choices, self.profile_name), self._profile_chosen)
+            return
+        if message.name != self.profile_name:
+            return  # an older choice
+        if message.profile is None:
+            self.notify(f"profile {message.name}: {message.error}", severity="error", timeout=10)
+            return
+        changed = self.profile is not None and self.profile.name != message.profile.name
+        self._use_profile(message.profile)
+        self._judge_impedances()
+        if changed and self.connection is not None:
+            self._rejudge_with_profile(self.connection)
+
+    def _use_profile(self, profile: Any) -> None:
+        """Take ``profile`` (UI thread); the log records a new one (name and hash)."""
+        before = self.profile
+        self.profile = profile
+        if self.recorder is not None and (before is None or (before.name, before.sha256) != (profile.name, profile.sha256)):
+            self.recorder.submit("set_profile", (profile.name, profile.sha256), self._log_done("profile"))
+
+    def open_profiles(self) -> None:
+        """The department profile picker (Watch: d); the list is read in a worker."""
+        self._profile_list()
+
+    @work(thread=True, exclusive=True, group="profile-list", exit_on_error=False)
+    def _profile_list(self) -> None:
+        self.post_message(ProfileReady(self.profile_name, choices=self.services.profile_choices()))
+
+    def _profile_chosen(self, name: str | None) -> None:
+        if name is None or name == self.profile_name:
+            return
+        self.profile_name = name
+        self.notify(f"profile {name}: loading its limits…", timeout=3)
+        self._load_profile(name)
+
+    def _rejudge_with_profile(self, conn: Connection) -> None:
+        """The engine takes the new profile's thresholds: the stream is opened again as
+        the channels screen does (a stream given in-process cannot be: said)."""
+        if self._given_source is not None:
+            self.notify(f"profile {self.profile_name}: impedance limit in use now; its quality "
+                        "thresholds apply when the stream is opened again", timeout=8)
+            return
+        self._generation += 1
+        self._reopen(conn, self._generation)
+
+    @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
+    def _reopen(self, old: Connection, generation: int) -> None:
+        try:
+            source = self.services.open_source(old.identity, None)
+        except BedsideError as exc:
+            self.post_message(ChannelsNotApplied(generation, old.generation,
+                                                 f"profile thresholds not applied: {exc}"))
+            return
+        old.stop()
+        try:
+            conn = self._start(source, generation)
+            places = self._points_for(conn)
+        except BedsideError as exc:
+            source.close()
+            self.post_message(FeedProblem(f"could not start watching with the new profile: {exc}"))
+            return
+        self.post_message(Connected(conn, places, note=f"profile {self.profile_name}: its thresholds are in use",
+                                    confirmed=True))
+
+    def impedance_typed(self, electrode: str, kohm: float) -> tuple[str, float]:
+        """A typed impedance (Log view): checked (0 or less, over 1 000 kΩ, or an electrode
+        the stream does not have: InputError with the reason), kept, judged at once."""
+        name, value = check_entry(electrode, kohm, self.known_electrodes())
+        self.typed_impedances[name] = value
+        self.impedance_at = time.time()
+        self._judge_impedances()
+        return name, value
+
+    def _judge_impedances(self) -> None:
+        """Typed values (they win) and the amplifier's, for the stream's scalp electrodes,
+        against the profile's limits; the gate holds those over the limit."""
+        conn = self.connection
+        scalp = [c for c in conn.channels if c.is_scalp] if conn is not None else []
+        names = {c.name for c in scalp}
+        published = {c.name: c.impedance_kohm for c in scalp if c.impedance_kohm is not None}
+        typed = {n: v for n, v in self.typed_impedances.items() if not names or n in names}
+        limits = self.profile.impedance if self.profile is not None else ImpedanceLimits()
+        self.impedance_verdicts = judge(merge(typed, published), limits)
+        self.ready_gate.set_blocked(over_limit(self.impedance_verdicts))
+        if self._watch_ready():
+            self.views["watch"].show_impedances()
+
+    def impedance_view(self) -> ImpedanceView | None:
+        if self.profile is None:
+            return None
+        conn = self.connection
+        electrodes = [c.name for c in conn.channels if c.is_scalp] if conn is not None else list(self.typed_impedances)
+        due = None
+        if self.profile.recheck_h is not None and self.impedance_at is not None:
+            due = self.impedance_at + self.profile.recheck_h * 3600.0
+        return ImpedanceView(self.impedance_verdicts, electrodes, self.profile.impedance.limit_kohm,
+                             self.profile.name, due)
 
     def known_electrodes(self) -> set[str]:
         """Electrodes an impedance may be typed for: the stream's channels while one is

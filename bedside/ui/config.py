@@ -29,6 +29,8 @@ class AppConfig:
     reached and when a new fault appears (``--bell``; ``b`` on Watch toggles it).
     page_s: the page of traces' timebase (seconds across the screen); page_uv_per_row:
     its starting sensitivity (µV per text row; ``+``/``-`` change it on the page).
+    profile: the department profile (configs/profiles/<name>.yaml: thresholds,
+    impedance limit, montage, re-check interval; ``--profile``; ``d`` on Watch picks).
     """
 
     system: str = "10-20"
@@ -62,5 +64,6 @@ class AppConfig:
     #: opens in Watch, ``w`` comes back. No stream is looked for or pinned by itself.
     ward: bool = False
     bell: bool = False
+    profile: str = "adult"
     export_dir: Path = field(default_factory=Path.cwd)
     title: str = "bedside"

@@ -38,7 +38,9 @@ class RecorderLike(Protocol):
 
     def on_frame(self, frame: Any) -> None: ...
 
-    def set_impedance(self, electrode: str, kohm: float) -> None: ...
+    def set_impedance(self, electrode: str, kohm: float, source: str = "typed") -> None: ...
+
+    def set_profile(self, name: str, sha256: str) -> None: ...
 
     def add_note(self, text: str) -> None: ...
 
@@ -202,6 +204,29 @@ def _load_quality() -> Any:
     return load_quality()
 
 
+def _load_profile(name: str) -> Any:
+    from bedside.checks.profiles import load_profile
+
+    return load_profile(name)
+
+
+def _profile_choices() -> list[tuple[str, str, float, float | None]]:
+    """(name, title, impedance limit kΩ, re-check hours) of every shipped profile; a
+    profile that does not load is listed with its error as the title."""
+    from bedside.checks.profiles import load_profile, profile_names
+    from bedside.errors import BedsideError
+
+    out: list[tuple[str, str, float, float | None]] = []
+    for name in profile_names():
+        try:
+            p = load_profile(name)
+        except BedsideError as exc:
+            out.append((name, f"cannot be used: {exc}", float("nan"), None))
+            continue
+        out.append((name, p.title, p.impedance.limit_kohm, p.recheck_h))
+    return out
+
+
 def _make_engine(settings: Any, source: Source) -> tuple[Any, str]:
     from bedside.checks.engine import Engine
     from bedside.engine_setup import engine_options
@@ -282,6 +307,10 @@ class Services:
     #: (identity, choices): choices None → the ones saved for its source_id, if any.
     open_source: Callable[[StreamIdentity, Mapping[str, Any] | None], Source] = _open_source
     load_quality: Callable[[], Any] = _load_quality
+    #: A department profile by name (bedside.checks.profiles.Profile; InputError for an
+    #: unknown name) and the list the app's picker shows.
+    load_profile: Callable[[str], Any] = _load_profile
+    profile_choices: Callable[[], list[tuple[str, str, float, float | None]]] = _profile_choices
     #: (settings, source) → (engine, note): the engine for the source's channels, geometry
     #: and amplifier, and where its bridging neighbours came from.
     make_engine: Callable[[Any, Source], tuple[Any, str]] = _make_engine

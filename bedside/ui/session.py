@@ -42,6 +42,9 @@ class Connection:
     geometry_note: str = ""
     #: The app's connection counter when this one was started (stale messages are dropped).
     generation: int = 0
+    #: The department profile its engine judges with (bedside.checks.profiles.Profile;
+    #: None: the services gave none, quality.yaml as it is).
+    profile: Any = None
     _stopped: bool = False
 
     def stop(self) -> None:
@@ -60,11 +63,14 @@ def connect(
     config: AppConfig,
     on_frame: Callable[[QualityFrame], None],
     generation: int = 0,
+    profile: Any = None,
 ) -> Connection:
-    """Wrap ``source`` for display, build the engine and start the monitor thread."""
+    """Wrap ``source`` for display, build the engine and start the monitor thread.
+    profile: the department profile whose thresholds the engine uses (None: the
+    services' quality settings)."""
     tee = TeeSource(source, seconds=max(config.trace_s, config.page_s, 4.0))
     try:
-        settings = services.load_quality()
+        settings = profile.quality if profile is not None else services.load_quality()
         ident = source.identity
         # Neighbours from the stream's own geometry (never the measured plan's graph: it
         # covers only its system and naming, so bridging would skip pairs) and the
@@ -78,7 +84,7 @@ def connect(
         tee.close()
         raise
     return Connection(ident, source.channels, tee, engine, monitor, engine_neighbours(engine), summary,
-                      kinds, geometry, generation)
+                      kinds, geometry, generation, profile)
 
 
 def engine_neighbours(engine: Any) -> tuple[tuple[str, str], ...]:

@@ -44,7 +44,9 @@ def test_json_report_on_the_demo_stream(capsys: pytest.CaptureFixture[str]) -> N
     assert out["stream"]["identity"]["source_id"] == f"sid-{name}"
     ch = {c["name"]: c for c in out["channels"]}
     assert set(ch["O1"]) == {"name", "label", "type", "level", "reasons", "metrics",
-                             "worst_level", "worst_reason", "not_good_s", "events"}
+                             "worst_level", "worst_reason", "not_good_s", "events", "impedance"}
+    assert ch["O1"]["impedance"] is None  # the simulator publishes no impedances
+    assert out["profile"]["name"] == "adult" and out["impedance"]["judged"] == 0
     assert ch["O1"]["type"] == "EEG" and ch["O1"]["label"] == "O1"
     assert out["channel_setup"]["summary"].startswith("28 scalp")
     assert ch["O1"]["level"] == "bad" and "Oz" in ch["O1"]["reasons"][0]

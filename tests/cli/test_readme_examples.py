@@ -56,7 +56,8 @@ UNTIL_STOPPED = ("bedside simulate clean", "bedside simulate tap_swap", "bedside
 SETTLE_S = 3.0
 
 #: The app: opened in a real terminal (tmux), then left with q.
-APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside demo", "bedside ward")
+APP = ("bedside", "bedside watch", "bedside watch --bell", "bedside watch --profile neonatal", "bedside demo",
+       "bedside ward")
 
 #: Spans that name a command in running text rather than show a use of it (the fault
 #: table's Ctrl-C row): each must at least be a command that answers --help.

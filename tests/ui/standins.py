@@ -205,6 +205,7 @@ class MemoryRecorder:
     exceptions: tuple[Any, ...] = ()
     ready: list[tuple[float, tuple[Any, ...], str]] = field(default_factory=list)
     tap_tests: list[tuple[tuple[Any, ...], tuple[Any, ...], str, float]] = field(default_factory=list)
+    profiles: list[tuple[str, str]] = field(default_factory=list)
 
     def set_plan(self, plan: Any, taped: Any = None) -> None:
         self.plan = plan
@@ -216,8 +217,11 @@ class MemoryRecorder:
     def on_frame(self, frame: Any) -> None:
         self.frames += 1
 
-    def set_impedance(self, electrode: str, kohm: float) -> None:
+    def set_impedance(self, electrode: str, kohm: float, source: str = "typed") -> None:
         self.impedances[electrode] = kohm
+
+    def set_profile(self, name: str, sha256: str) -> None:
+        self.profiles.append((name, sha256))
 
     def add_note(self, text: str) -> None:
         self.notes.append(text)

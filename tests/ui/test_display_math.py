@@ -119,8 +119,8 @@ def test_impedance_accepted(text: str, value: float) -> None:
     assert parse_kohm(text) == pytest.approx(value)
 
 
-@pytest.mark.parametrize("text,match", [("abc", "number of kΩ"), ("-2", "0 kΩ or more"),
-                                        ("nan", "0 kΩ or more"), ("", "number of kΩ")])
+@pytest.mark.parametrize("text,match", [("abc", "number of kΩ"), ("nan", "number of kΩ"),
+                                        ("inf", "number of kΩ"), ("", "number of kΩ")])
 def test_impedance_refused(text: str, match: str) -> None:
     with pytest.raises(ValueError, match=match):
         parse_kohm(text)

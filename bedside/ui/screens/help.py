@@ -37,6 +37,7 @@ KEYS = (
         ("b", "sound cue on/off: a bell when ready to record and when a new fault appears"),
         ("k", "tap test: touch each electrode when it is named; shows where each touch landed"),
         ("w", "back to the ward's list of beds (when started as bedside ward)"),
+        ("d", "department profile: impedance limit, amplitude limits, montage, re-check interval"),
     )),
     ("Tap test", (
         ("touch, when named", "lightly, each electrode in turn; the result shows as it comes"),

@@ -21,6 +21,7 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Button, DataTable, Footer, Header, Input, Label, Static
 
+from bedside.checks.impedance import over_limit
 from bedside.checks.ready import Accepted, not_good_electrodes
 from bedside.errors import BedsideError
 from bedside.ui.screens.sign_off import SignOffReasons
@@ -41,14 +42,16 @@ class LogResult(Message):
 
 
 def parse_kohm(text: str) -> float:
-    """A typed impedance in kΩ: a finite number, 0 or more (what the amplifier's meter shows)."""
+    """A typed impedance in kΩ as a number (what the amplifier's meter shows); whether it
+    can be a contact (more than 0, at most 1 000 kΩ) is judged by
+    :func:`bedside.checks.impedance.check_entry`."""
     cleaned = text.strip().lower().removesuffix("kω").removesuffix("kohm").removesuffix("k").strip()
     try:
         value = float(cleaned.replace(",", "."))
     except ValueError:
         raise ValueError(f"impedance must be a number of kΩ (e.g. 4.5), got {text!r}") from None
-    if not math.isfinite(value) or value < 0:
-        raise ValueError(f"impedance must be 0 kΩ or more, got {text!r}")
+    if not math.isfinite(value):
+        raise ValueError(f"impedance must be a number of kΩ (e.g. 4.5), got {text!r}")
     return value
 
 
@@ -238,12 +241,15 @@ class LogScreen(Screen[None]):
             self._say(f"✖ {electrode!r} is not {where}; accepted: {', '.join(sorted(known)[:30])}", "bold red")
             e_in.focus()
             return
-        electrode = match or electrode
         try:
             kohm = parse_kohm(k_in.value)
-        except ValueError as exc:
+            # Refused with the reason: 0 or less, over 1 000 kΩ (bedside.checks.impedance).
+            electrode, kohm = self.bedside.impedance_typed(match or electrode, kohm)
+        except (ValueError, BedsideError) as exc:
             self._say(f"✖ {exc}", "bold red")
+            k_in.focus()
             return
+        verdict = self.bedside.impedance_verdicts.get(electrode)
         table = self.query_one("#impedance-table", DataTable)
         at = time.strftime("%H:%M:%S")
         if electrode in self.impedances:
@@ -253,6 +259,8 @@ class LogScreen(Screen[None]):
             table.add_row(electrode, f"{kohm:g}", at, key=electrode)
         self.impedances[electrode] = kohm
         self._call(f"impedance {electrode} {kohm:g} kΩ", "set_impedance", electrode, kohm)
+        if verdict is not None and verdict.level != "good":  # said, beside the log's "●"
+            self.notify(f"{electrode}: {verdict.reason}", severity="warning", timeout=8)
         e_in.value, k_in.value = "", ""
         e_in.focus()
 
@@ -280,9 +288,11 @@ class LogScreen(Screen[None]):
             self.query_one("#tech", Input).focus()
             return
         frame = self.bedside.latest_frame
-        not_good = not_good_electrodes(frame) if frame is not None else ()
+        held = over_limit(self.bedside.impedance_verdicts)  # impedance over the profile's limit
+        not_good = not_good_electrodes(frame, held) if frame is not None else ()
         if not_good:  # refused unless each one gets a typed reason
             why = {c.name: (c.reasons[0] if c.reasons else c.level_key) for c in frame.channels}  # type: ignore[union-attr]
+            why.update({n: r for n, r in held.items() if why.get(n) in (None, "good")})
             self.app.push_screen(SignOffReasons([(n, why.get(n, "not good")) for n in not_good]),
                                  self._signed_with_reasons)
             return

@@ -8,6 +8,7 @@ from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
+from textual.css.query import NoMatches
 from textual.screen import ModalScreen
 from textual.widgets import OptionList, Static
 from textual.widgets.option_list import Option
@@ -74,10 +75,11 @@ class StreamPicker(ModalScreen[StreamIdentity | None]):
 
     def update_streams(self, streams: list[StreamIdentity], still_looking: bool) -> None:
         """A newer list from the look: the highlighted stream stays highlighted."""
-        if not self.is_mounted:
+        try:
+            options = self.query_one(OptionList)
+        except NoMatches:  # not mounted, or mounted but not yet composed: on_mount shows these
             self.streams, self.still_looking = list(streams), still_looking
             return
-        options = self.query_one(OptionList)
         at = options.highlighted
         keep = self.streams[at] if at is not None and 0 <= at < len(self.streams) else self.current
         changed = list(streams) != self.streams

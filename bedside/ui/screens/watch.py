@@ -25,6 +25,7 @@ from bedside.ui.screens.traces import TracesScreen
 from bedside.ui.widgets.channel_table import ChannelTable
 from bedside.ui.widgets.findings import Findings, ProgressLine
 from bedside.ui.widgets.head_map import Bridge, HeadMap
+from bedside.ui.widgets.impedance_line import ImpedanceLine
 from bedside.ui.widgets.ready_line import ReadyLine
 from bedside.ui.widgets.stream_status import StreamStatus
 from bedside.ui.widgets.trace_view import TraceRequest, TraceView
@@ -63,6 +64,7 @@ class WatchScreen(Screen[None]):
         Binding("r", "rescan", "Look again", show=False),
         Binding("b", "toggle_bell", "Bell", show=False),
         Binding("k", "tap_test", "Tap test", show=False),
+        Binding("d", "profiles", "Profile", show=False),
     ]
 
     def __init__(self) -> None:
@@ -89,6 +91,7 @@ class WatchScreen(Screen[None]):
         yield Findings(id="findings")
         yield ProgressLine(id="progress")
         yield ReadyLine(id="ready-line")
+        yield ImpedanceLine(id="impedance-line")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
@@ -158,7 +161,13 @@ class WatchScreen(Screen[None]):
         self._show_findings()
         self.query_one(ProgressLine).show(progress)
         self.query_one(ReadyLine).show(self.bedside.ready_state, live)
+        self.show_impedances()
         self.refresh_status()
+
+    @while_mounted
+    def show_impedances(self) -> None:
+        """The impedance line (the app judged them; typed values, the amplifier's)."""
+        self.query_one(ImpedanceLine).show(self.bedside.impedance_view(), self.selected)
 
     @while_mounted
     def _show_findings(self) -> None:
@@ -183,6 +192,7 @@ class WatchScreen(Screen[None]):
         self.query_one(HeadMap).select(self.selected)
         if self._ready:
             self._show_findings()
+            self.show_impedances()
         self._request_trace()
 
     @while_mounted
@@ -243,6 +253,9 @@ class WatchScreen(Screen[None]):
 
     def action_pick_stream(self) -> None:
         self.bedside.discover(force_picker=True)
+
+    def action_profiles(self) -> None:
+        self.bedside.open_profiles()
 
     def action_toggle_bell(self) -> None:
         self.bedside.toggle_bell()
