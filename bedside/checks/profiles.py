@@ -109,7 +109,7 @@ _LOADED: dict[tuple[object, ...], Profile] = {}
 def _stamp(path: Path) -> tuple[int, int]:
     try:
         st = path.stat()
-    except OSError:
+    except (OSError, ValueError):
         return (-1, -1)  # read_yaml says what is wrong
     return (st.st_size, st.st_mtime_ns)
 
@@ -129,6 +129,8 @@ def load_profile(name: str | None = None, quality_path: Path | str | None = None
                          f"{', '.join(names) or 'none (configs/profiles/ is empty)'}")
     path = folder / f"{name}.yaml"
     qpath = Path(quality_path) if quality_path is not None else DEFAULT_PATH
+    if "\x00" in str(qpath):
+        raise ConfigError(f"{str(qpath)!r}: a file name cannot hold a NUL byte; give the path of a quality.yaml")
     key = (str(path.resolve()), str(qpath.resolve()), _stamp(path), _stamp(qpath))
     cached = _LOADED.get(key)
     if cached is None:
@@ -149,6 +151,10 @@ def _read_profile(name: str, path: Path, qpath: Path) -> Profile:
     if not isinstance(overrides, dict):
         raise ConfigError(f"{path}: 'profile.quality' must be a mapping of quality.yaml's keys")
     reader.read(overrides, QualitySettings, "profile.quality")  # names this file and line
+    # The quality file on its own first: its own faults are named as its own (file, line).
+    from bedside.checks.settings import load_quality
+
+    load_quality(qpath)
     base = read_yaml(qpath)
     if not isinstance(base, dict) or "quality" not in base:
         raise ConfigError(f"{qpath}: missing top-level section 'quality'")

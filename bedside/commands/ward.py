@@ -30,9 +30,10 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p = sub.add_parser(
         NAME,
         help="judge every visible EEG stream at once (a ward of beds), one line each",
-        description="Watch every EEG stream this computer can see, each with its own checks, "
-        "for a few seconds, and print one line per bed: its state (live, stale, lost), its "
-        "scalp electrodes good/check/bad and the worst finding. Streams that appear while "
+        description="Watch every EEG stream this computer can see, each with its own checks: "
+        "the app opens on the ward's list (one line per bed: state, scalp electrodes "
+        "good/check/bad, the worst finding; Enter opens a bed in Watch, w comes back), or with "
+        "--seconds S it looks that long and prints the same lines. Streams that appear while "
         "looking are taken in. bedside supports the technologist; it does not diagnose.",
     )
     p.add_argument("--seconds", metavar="S", type=positive_float("--seconds"), default=None,
