@@ -541,15 +541,19 @@ def shallow_copy(log: SetupLog) -> SetupLog:
     return copied
 
 
-def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:
-    """Parse a log's text (``yaml.safe_load`` semantics)."""
+def _yaml_data(text: str, source: str) -> Any:
+    """A log's text as plain data (``yaml.safe_load`` semantics); RecordError names it."""
     if not text.strip():
         raise RecordError(f"{source}: the file is empty")
     try:
-        data = yaml.load(text, Loader=_SafeLoader)  # noqa: S506 - a SafeLoader
+        return yaml.load(text, Loader=_SafeLoader)  # noqa: S506 - a SafeLoader
     except yaml.YAMLError as exc:
         raise RecordError(f"{source}: {yaml_problem(exc)}") from exc
-    return SetupLog.from_dict(data, source=source)
+
+
+def parse_yaml(text: str, *, source: str = "<log>") -> SetupLog:
+    """Parse a log's text (``yaml.safe_load`` semantics)."""
+    return SetupLog.from_dict(_yaml_data(text, source), source=source)
 
 
 # -- the journal -----------------------------------------------------------------------
@@ -703,12 +707,7 @@ def parse_with_journal(raw: bytes, path: Path, *, source: str) -> tuple[SetupLog
     if not records:
         log = parse_yaml(text, source=source)
     else:
-        if not text.strip():
-            raise RecordError(f"{source}: the file is empty")
-        try:
-            data = yaml.load(text, Loader=_SafeLoader)  # noqa: S506 - a SafeLoader
-        except yaml.YAMLError as exc:
-            raise RecordError(f"{source}: {yaml_problem(exc)}") from exc
+        data = _yaml_data(text, source)
         if not isinstance(data, dict):
             raise RecordError(f"{source}: not a setup log (expected a mapping of keys, got {describe(data)})")
         apply_journal(data, records, source=f"{journal_path(path)}")
