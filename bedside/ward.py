@@ -43,7 +43,7 @@ class BedSummary:
         return {"name": self.name, "source_id": self.source_id, "hostname": self.hostname,
                 "state": self.state, "n_scalp": self.n_scalp, "good": self.good, "check": self.check,
                 "bad": self.bad, "not_good": list(self.not_good), "findings": list(self.findings),
-                "note": self.note}
+                "note": self.note, "worst": self.worst}
 
     @property
     def worst(self) -> str:

@@ -4,7 +4,7 @@ Without ``--seconds``: the app opens on the ward's list (beds come and go live; 
 opens a bed in Watch, ``w`` comes back; no setup log unless ``--log``). With it,
 headless: watch for ``--seconds`` (beds that appear meanwhile are taken in), then print
 each bed's state and counts (``--format json``: ``{"streams": [{name, source_id,
-hostname, state, n_scalp, good, check, bad, not_good, findings, note}]}``, the counts
+hostname, state, n_scalp, good, check, bad, not_good, findings, note, worst}]}``, the counts
 integers). Exit 0 when every bed is live with all its scalp electrodes good, 1 when a
 bed needs attention, was lost or refused, or no bed is visible; 2 on bad input.
 """
@@ -48,11 +48,8 @@ def table(rows: list[dict[str, object]]) -> str:
     head = ["bed (stream)", "host", "source_id", "state", "scalp", "good", "check", "bad", "worst"]
     cells = []
     for r in rows:
-        worst = str(r["note"] or (r["findings"][0] if r["findings"] else ""))  # type: ignore[index]
-        if not worst and (r["check"] or r["bad"]):
-            worst = "not good: " + ", ".join(r["not_good"][:6])  # type: ignore[index]
         cells.append([str(r["name"]), str(r["hostname"]), str(r["source_id"]), str(r["state"]),
-                      str(r["n_scalp"]), str(r["good"]), str(r["check"]), str(r["bad"]), worst])
+                      str(r["n_scalp"]), str(r["good"]), str(r["check"]), str(r["bad"]), str(r["worst"])])
     widths = [max(len(h), *(len(c[i]) for c in cells)) for i, h in enumerate(head)]
     lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths, strict=True)).rstrip()]
     lines += ["  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip() for row in cells]

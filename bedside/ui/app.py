@@ -572,23 +572,32 @@ class BedsideApp(App[int]):
 
     @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
     def _apply_channels(self, old: Connection, preview: ChannelPreview, generation: int) -> None:
-        """Reopen the stream with the new channel set and rebuild the engine on it; the
-        old connection runs on until the new source is open (a refusal keeps it)."""
+        """Reopen the stream with the new channel set and rebuild the engine on it."""
+        started = self._restart(old, preview.choices, generation, "channels not changed", "the new channels")
+        if started is not None:
+            conn, places = started
+            note = self._saved_note(conn.identity.source_id, preview)
+            self.post_message(Connected(conn, places, note=note, confirmed=True))
+
+    def _restart(self, old: Connection, choices: Any, generation: int, refused: str,
+                 with_what: str) -> tuple[Connection, Any] | None:
+        """Open ``old``'s stream again (with ``choices``) and start watching it (worker
+        thread); the old connection runs on until the new source is open, so a refusal
+        keeps it. None, with the reason posted, when it cannot."""
         try:
-            source = self.services.open_source(old.identity, preview.choices)
+            source = self.services.open_source(old.identity, choices)
         except BedsideError as exc:
-            self.post_message(ChannelsNotApplied(generation, old.generation, f"channels not changed: {exc}"))
-            return
+            self.post_message(ChannelsNotApplied(generation, old.generation, f"{refused}: {exc}"))
+            return None
         old.stop()
         try:
             conn = self._start(source, generation)
             places = self._points_for(conn)
         except BedsideError as exc:
             source.close()
-            self.post_message(FeedProblem(f"could not start watching with the new channels: {exc}"))
-            return
-        note = self._saved_note(conn.identity.source_id, preview)
-        self.post_message(Connected(conn, places, note=note, confirmed=True))
+            self.post_message(FeedProblem(f"could not start watching with {with_what}: {exc}"))
+            return None
+        return conn, places
 
     def on_channels_not_applied(self, message: ChannelsNotApplied) -> None:
         if message.generation == self._generation:  # nothing newer asked meanwhile
@@ -921,22 +930,11 @@ class BedsideApp(App[int]):
 
     @work(thread=True, exclusive=True, group="connect", exit_on_error=False)
     def _reopen(self, old: Connection, generation: int) -> None:
-        try:
-            source = self.services.open_source(old.identity, None)
-        except BedsideError as exc:
-            self.post_message(ChannelsNotApplied(generation, old.generation,
-                                                 f"profile thresholds not applied: {exc}"))
-            return
-        old.stop()
-        try:
-            conn = self._start(source, generation)
-            places = self._points_for(conn)
-        except BedsideError as exc:
-            source.close()
-            self.post_message(FeedProblem(f"could not start watching with the new profile: {exc}"))
-            return
-        self.post_message(Connected(conn, places, note=f"profile {self.profile_name}: its thresholds are in use",
-                                    confirmed=True))
+        started = self._restart(old, None, generation, "profile thresholds not applied", "the new profile")
+        if started is not None:
+            conn, places = started
+            self.post_message(Connected(conn, places, note=f"profile {self.profile_name}: its thresholds are in use",
+                                        confirmed=True))
 
     def impedance_typed(self, electrode: str, kohm: float) -> tuple[str, float]:
         """A typed impedance (Log view): checked (0 or less, over 1 000 kΩ, or an electrode
