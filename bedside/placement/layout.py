@@ -24,6 +24,9 @@ AVERAGE_ADULT = HeadMeasurements(nasion_inion_cm=36.0, preauricular_cm=35.0, cir
 #: Angle from the vertex that maps to the rim of the 2-D map: 120° holds the
 #: references just below the nasion–preauricular–inion level (which sits at 90°).
 MAP_RIM_DEG = 120.0
+#: Where the nasion–preauricular–inion level (90° from the vertex) falls on the map:
+#: the radius a drawing gives its head outline.
+EQUATOR_ON_MAP = 90.0 / MAP_RIM_DEG
 
 
 @lru_cache(maxsize=2)
@@ -106,6 +109,9 @@ def project_2d(
     xyz_mm: Sequence[float], axes_mm: Sequence[float] | None = None
 ) -> tuple[float, float]:
     """Map a position to the 2-D head map: azimuthal equidistant from the vertex.
+
+    The one head projection: the app's head map (Measure and Watch) and the HTML
+    report's map both place every named site with it.
 
     Returns (x, y) in [-1, 1]: +y towards the nose (up on the map), +x to the right;
     the radius grows with the angle from the vertex, reaching 1 at ``MAP_RIM_DEG``
