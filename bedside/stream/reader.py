@@ -38,7 +38,7 @@ from bedside.stream.channels import (
     StreamMetadata,
     setup_channels,
 )
-from bedside.stream.discovery import describe, identity_of
+from bedside.stream.discovery import describe, identity_of, resolve_one
 from bedside.stream.health import HealthTracker
 from bedside.stream.labels import LabelRules, load_labels
 from bedside.stream.lsl import local_clock, pylsl, translate
@@ -452,8 +452,6 @@ def open_stream(
 ) -> LslSource:
     """Select one EEG stream the way every command does (``--stream``, ``--source-id``,
     ``--host``, ``--wait``; see :func:`bedside.stream.discovery.resolve_one`) and open it."""
-    from bedside.stream.discovery import resolve_one
-
     s = settings or load_stream_settings()
     identity = resolve_one(name=name, source_id=source_id, host=host, wait_s=wait_s, settings=s)
     return LslSource(identity, s, labels, options)
