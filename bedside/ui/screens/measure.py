@@ -21,7 +21,7 @@ from bedside.errors import BedsideError
 from bedside.placement.sheet import as_taped, grouped, in_unit
 from bedside.placement.types import Mark, PlacementPlan
 from bedside.record.log import TapedMeasurements
-from bedside.ui.export import short_line
+from bedside.ui.export import plan_as_text, short_line
 from bedside.ui.widgets.head_map import HeadMap
 
 if TYPE_CHECKING:
@@ -343,8 +343,6 @@ class MeasureScreen(Screen[None]):
         if self.plan is None:
             self.notify(self._no_sheet_reason(), severity="warning")
             return
-        from bedside.ui.export import plan_as_text
-
         self.app.copy_to_clipboard(plan_as_text(self.plan, self.taped))
         self.notify("marking sheet copied (if the terminal allows clipboard access)")
 
