@@ -56,7 +56,6 @@ from bedside.engine_setup import engine_options
 from bedside.errors import BedsideError, InputError
 from bedside.record.edf_clip import annotations_for_clip, write_edf_clip
 from bedside.record.ids import validate_initials, validate_subject_id
-from bedside.record.session import optional_recorder
 from bedside.stream.discovery import resolve_one
 from bedside.stream.lsl import prepare_lsl
 from bedside.stream.tee import KeepRecent
@@ -64,7 +63,8 @@ from bedside.stream.tee import KeepRecent
 NAME = "check"
 ORDER = 35
 FORMATS = ("table", "json")
-#: Kept here too for the callers that read them from the command (tests, scripts).
+#: The report's names (from commands._check_report) are the command's too, for the
+#: tests and scripts that read them here.
 __all__ = ["EXIT_ATTENTION", "EXIT_OK", "ImpedanceReport", "as_json", "as_table", "exit_code",
            "judge_impedances", "register", "run"]
 
@@ -230,7 +230,9 @@ def _write_clip(
 
 def run(args: argparse.Namespace) -> int:
     # Lazy, measured: the reader and the channel set-up take 75 ms to import (python -X
-    # importtime), paid by every command's start otherwise.
+    # importtime), paid by every command's start otherwise; importing the recorder
+    # registers its exit handler (record/session.py), which no other command should carry.
+    from bedside.record.session import optional_recorder
     from bedside.stream.channels import kind_counts
     from bedside.stream.reader import LslSource
 
