@@ -55,8 +55,6 @@ their name; numbers that cannot be computed are null.
 from __future__ import annotations
 
 import argparse
-import json
-import math
 import sys
 import time
 from collections.abc import Callable
@@ -77,6 +75,7 @@ from bedside.commands._common import (
 from bedside.engine_setup import engine_options
 from bedside.errors import InputError
 from bedside.metric_labels import short_header
+from bedside.record.plain import json_text, plain
 
 NAME = "check"
 ORDER = 35
@@ -249,10 +248,6 @@ class ImpedanceReport:
         }
 
 
-def _num(v: object) -> object:
-    return None if isinstance(v, float) and not math.isfinite(v) else v
-
-
 def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool,
             channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None,
             look: Look | None = None, final_only: bool = False,
@@ -269,7 +264,7 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
         d.update({k: v for k, v in c.as_dict().items() if k != "name"})
         if c.level is None and frame.live and any(r.startswith("not judged") for r in c.reasons):
             d["level"] = NOT_JUDGED_KEY  # a channel that is no electrode (engine's wording)
-        d["metrics"] = {k: _num(v) for k, v in c.metrics.items()}
+        d["metrics"] = plain(c.metrics, finite=True)  # NaN/Inf (not computable): null
         run = runs.get(c.name)
         if run is not None:
             d["worst_level"] = d["level"] if d["level"] == NOT_JUDGED_KEY else run.worst_level
@@ -596,7 +591,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("no frame was produced; the stream sent nothing")
     report = as_json(frame, identity, args.seconds, lost, channels, setup, look, args.final_only, impedance)
     if args.format == "json":
-        print(json.dumps(report, indent=2, ensure_ascii=False))
+        print(json_text(report))
     else:
         print(as_table(report))
     if lost:

@@ -11,7 +11,6 @@ from __future__ import annotations
 import argparse
 import csv
 import io
-import json
 import sys
 import textwrap
 from pathlib import Path
@@ -24,6 +23,7 @@ from bedside.placement.calculator import line_title, plan_placement
 from bedside.placement.model import HeadModel
 from bedside.placement.types import Mark, PlacementPlan
 from bedside.placement.validate import UNITS, parse_inferior_circumference, parse_measurements
+from bedside.record.plain import json_text
 
 NAME = "measure"
 ORDER = 10
@@ -116,7 +116,7 @@ def run(args: argparse.Namespace) -> int:
         measurements, system=args.system, names=args.names, inferior_circumference_cm=inferior
     )
     if args.format == "json":
-        out = json.dumps(plan_to_dict(plan, args.unit), indent=2, ensure_ascii=False)
+        out = json_text(plan_to_dict(plan, args.unit))
     elif args.format == "csv":
         out = plan_to_csv(plan)
     else:

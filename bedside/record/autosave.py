@@ -22,7 +22,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Protocol
 
-from bedside.errors import LogSaveError
+from bedside.errors import LogSaveError, RecordError
 from bedside.record.atomic import atomic_write_text
 
 log = logging.getLogger("bedside")
@@ -81,7 +81,7 @@ def write_rescue_copy(stem: str, text: str, when_s: float) -> Path | None:
         try:
             folder.mkdir(parents=True, exist_ok=True, mode=0o700)
             target = atomic_write_text(folder / name, text)
-        except (OSError, LogSaveError):
+        except (OSError, RecordError):
             continue
         log.warning("setup log: rescue copy written to %s", target)
         return target

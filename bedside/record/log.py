@@ -19,7 +19,6 @@ from __future__ import annotations
 import dataclasses
 import json
 import re
-import stat
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
@@ -28,10 +27,11 @@ from typing import Any, Literal
 import yaml
 
 from bedside import __version__
-from bedside.config import StrictReader, describe, yaml_problem
+from bedside.config import FileKind, StrictReader, describe, read_guarded, yaml_problem
 from bedside.errors import InputError, RecordError
 from bedside.placement.types import HeadMeasurements, Mark
 from bedside.record.ids import validate_subject_id
+from bedside.record.plain import plain
 from bedside.record.trends import TrendBin
 from bedside.stream.types import ChannelInfo, StreamIdentity
 
@@ -41,6 +41,19 @@ FORMAT_VERSION = 1
 
 #: A day-long session with a flapping electrode stays far below this (common practice).
 MAX_LOG_BYTES = 200 * 10**6
+
+#: How the guarded read (bedside.config.read_guarded) names a setup log it refuses.
+LOG_FILE = FileKind(
+    error=RecordError,
+    max_bytes=MAX_LOG_BYTES,
+    missing="no such log file",
+    folder="is a folder, not a log file",
+    # A device or a pipe (e.g. /dev/zero) would be read without end.
+    not_regular="is not a regular file (a device or a pipe?); not a setup log",
+    too_large=lambda size: (
+        f"{size / 1e6:.0f} MB is far larger than any setup log (limit {MAX_LOG_BYTES // 10**6} MB); not a setup log?"
+    ),
+)
 
 LevelKey = Literal["good", "check", "bad", "no_data"]
 FromLevelKey = Literal["none", "good", "check", "bad", "no_data"]
@@ -726,26 +739,7 @@ def load_log(path: Path | str) -> SetupLog:
     """Read a setup log file (with its journal, while its session is open or after a
     crash); RecordError names the file and what is wrong with it."""
     path = Path(path)
-    try:
-        info = path.stat()
-        if stat.S_ISDIR(info.st_mode):
-            raise RecordError(f"{path}: is a folder, not a log file")
-        if not stat.S_ISREG(info.st_mode):
-            # A device or a pipe (e.g. /dev/zero) would be read without end.
-            raise RecordError(f"{path}: is not a regular file (a device or a pipe?); not a setup log")
-        size = info.st_size
-        if size > MAX_LOG_BYTES:
-            raise RecordError(
-                f"{path}: {size / 1e6:.0f} MB is far larger than any setup log "
-                f"(limit {MAX_LOG_BYTES // 10**6} MB); not a setup log?"
-            )
-        raw = path.read_bytes()
-    except FileNotFoundError as exc:
-        raise RecordError(f"{path}: no such log file") from exc
-    except IsADirectoryError as exc:
-        raise RecordError(f"{path}: is a folder, not a log file") from exc
-    except OSError as exc:
-        raise RecordError(f"{path}: cannot read ({exc.strerror})") from exc
+    raw = read_guarded(path, LOG_FILE)
     return parse_with_journal(raw, path, source=str(path))[0]
 
 
@@ -753,24 +747,10 @@ def load_log(path: Path | str) -> SetupLog:
 
 
 def _plain(value: Any) -> Any:
-    if isinstance(value, datetime):
-        return value.isoformat(timespec="milliseconds")
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return {f.name: _plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, list | tuple):
-        return [_plain(v) for v in value]
-    if isinstance(value, bool) or value is None or isinstance(value, str):
-        return value
-    if isinstance(value, int):
-        return int(value)
-    if isinstance(value, float):
-        return float(value)
-    # numpy scalars and the like: plain Python numbers, never objects in the YAML.
-    if hasattr(value, "item"):
-        return _plain(value.item())
-    raise RecordError(f"cannot store a value of type {type(value).__name__} in the log")
+    try:
+        return plain(value)
+    except TypeError as exc:
+        raise RecordError(f"{exc} in the log") from None
 
 
 def _read_time(value: Any, where: str) -> datetime:
