@@ -32,6 +32,7 @@ from bedside.errors import InputError, RecordError
 from bedside.placement.types import HeadMeasurements, Mark
 from bedside.record.ids import validate_subject_id
 from bedside.record.plain import plain
+from bedside.record.time_to_good import TimeToGood
 from bedside.record.trends import TrendBin
 from bedside.stream.types import ChannelInfo, StreamIdentity
 
@@ -61,11 +62,6 @@ LEVEL_KEYS: tuple[str, ...] = ("good", "check", "bad", "no_data")
 
 _SafeDumper: Any = getattr(yaml, "CSafeDumper", yaml.SafeDumper)
 _SafeLoader: Any = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
-
-
-def local_now(clock_s: float) -> datetime:
-    """``clock_s`` (seconds since the epoch) as a local, zone-aware datetime to the millisecond."""
-    return stamp(clock_s)
 
 
 def stamp(epoch_s: float) -> datetime:
@@ -316,18 +312,13 @@ class SetupLog:
     # -- derived views ------------------------------------------------------------
 
     def time_to_good_s(self) -> dict[str, float | None]:
-        """Per electrode: seconds from its first live verdict to its first ``good``
-        (None if it has never been good). Electrodes in timeline order."""
-        first_live: dict[str, datetime] = {}
-        result: dict[str, float | None] = {}
+        """Per electrode: seconds from its first verdict to its first ``good`` (None if it
+        has never been good), by :class:`~bedside.record.time_to_good.TimeToGood` (the
+        definition, which the app's table uses too). Electrodes in timeline order."""
+        clock = TimeToGood()
         for change in self.timeline:
-            name = change.electrode
-            if change.to_level != "no_data" and name not in first_live:
-                first_live[name] = change.at
-            result.setdefault(name, None)
-            if change.to_level == "good" and result[name] is None and name in first_live:
-                result[name] = round((change.at - first_live[name]).total_seconds(), 3)
-        return result
+            clock.update(change.electrode, change.to_level, change.at.timestamp())
+        return clock.seconds
 
     def time_to_all_good_s(self) -> float | None:
         """Seconds from the first live verdict until every scalp electrode was good at
@@ -382,33 +373,6 @@ class SetupLog:
             elif entry.electrode not in typed:
                 latest[entry.electrode] = entry.kohm
         return latest
-
-    def electrode_names(self) -> list[str]:
-        """Every electrode the log knows of: stream channels, then plan sites, then any
-        other name seen in the timeline, final state or impedances (no duplicates)."""
-        names: list[str] = []
-        seen: set[str] = set()
-
-        def add(name: str) -> None:
-            if name not in seen:
-                seen.add(name)
-                names.append(name)
-
-        if self.stream is not None:
-            for ch in self.stream.channels:
-                add(ch.name)
-        if self.plan is not None:
-            for name in self.plan.positions_mm:
-                add(name)
-            for mark in self.plan.marks:
-                add(mark.name)
-        for change in self.timeline:
-            add(change.electrode)
-        for name in self.final:
-            add(name)
-        for entry in self.impedances:
-            add(entry.electrode)
-        return names
 
     # -- conversion -----------------------------------------------------------------
 
