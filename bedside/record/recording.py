@@ -76,8 +76,6 @@ class TapOutcome(Protocol):
     def reason(self) -> str: ...
 
 
-
-
 class Recording:
     """The log and what adds to it (see the module docstring). Thread-safe."""
 
@@ -94,7 +92,8 @@ class Recording:
         return stamp(self._clock())
 
     def _save_soon(self) -> None:
-        """Something worth saving at once happened (ready, a tap test, a sign-off)."""
+        """Something worth saving at once happened (ready, a tap test, a sign-off). The
+        recording alone keeps nothing on disk; SessionRecorder wakes its autosave here."""
 
     # -- recording -----------------------------------------------------------------
 
