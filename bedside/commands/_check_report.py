@@ -42,7 +42,6 @@ their name; numbers that cannot be computed are null.
 
 from __future__ import annotations
 
-import math
 from typing import TYPE_CHECKING, Any
 
 from bedside.cautions import DISCLAIMER
@@ -50,6 +49,7 @@ from bedside.checks.impedance import judge, merge
 from bedside.checks.ready import NOT_JUDGED_KEY
 from bedside.checks.types import LEVEL_SYMBOLS, LEVEL_WORDS
 from bedside.metric_labels import short_header
+from bedside.record.plain import plain
 
 if TYPE_CHECKING:
     from bedside.checks.types import QualityFrame
@@ -87,10 +87,6 @@ class ImpedanceReport:
         }
 
 
-def _num(v: object) -> object:
-    return None if isinstance(v, float) and not math.isfinite(v) else v
-
-
 def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost: bool,
             channels: tuple[ChannelInfo, ...] = (), setup: dict[str, Any] | None = None,
             look: Look | None = None, final_only: bool = False,
@@ -107,7 +103,7 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
         d.update({k: v for k, v in c.as_dict().items() if k != "name"})
         if c.level is None and frame.live and any(r.startswith("not judged") for r in c.reasons):
             d["level"] = NOT_JUDGED_KEY  # a channel that is no electrode (engine's wording)
-        d["metrics"] = {k: _num(v) for k, v in c.metrics.items()}
+        d["metrics"] = plain(c.metrics, finite=True)  # NaN/Inf (not computable): null
         run = runs.get(c.name)
         if run is not None:
             d["worst_level"] = d["level"] if d["level"] == NOT_JUDGED_KEY else run.worst_level

@@ -22,7 +22,6 @@ The report (JSON and table) and the exit code are made in
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import time
 from collections.abc import Callable
@@ -56,6 +55,7 @@ from bedside.engine_setup import engine_options
 from bedside.errors import BedsideError, InputError
 from bedside.record.edf_clip import annotations_for_clip, write_edf_clip
 from bedside.record.ids import validate_initials, validate_subject_id
+from bedside.record.plain import json_text
 from bedside.stream.discovery import resolve_one
 from bedside.stream.lsl import prepare_lsl
 from bedside.stream.tee import KeepRecent
@@ -321,7 +321,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("no frame was produced; the stream sent nothing")
     report = as_json(frame, identity, args.seconds, lost, channels, setup, look, args.final_only, impedance)
     if args.format == "json":
-        print(json.dumps(report, indent=2, ensure_ascii=False))
+        print(json_text(report))
     else:
         print(as_table(report))
     if lost:

@@ -12,7 +12,6 @@ from __future__ import annotations
 import argparse
 import csv
 import io
-import json
 import sys
 from pathlib import Path
 
@@ -25,6 +24,7 @@ from bedside.placement.model import HeadModel
 from bedside.placement.sheet import as_taped, marking_sheet
 from bedside.placement.types import Mark, PlacementPlan
 from bedside.placement.validate import UNITS, parse_inferior_circumference, parse_measurements
+from bedside.record.plain import json_text
 
 NAME = "measure"
 ORDER = 10
@@ -117,7 +117,7 @@ def run(args: argparse.Namespace) -> int:
         measurements, system=args.system, names=args.names, inferior_circumference_cm=inferior
     )
     if args.format == "json":
-        out = json.dumps(plan_to_dict(plan, args.unit), indent=2, ensure_ascii=False)
+        out = json_text(plan_to_dict(plan, args.unit))
     elif args.format == "csv":
         out = plan_to_csv(plan)
     else:

@@ -1,16 +1,15 @@
-"""The marking sheet for the app (F5, F6), the Measure table's short line names, and an
-atomic file write."""
+"""The marking sheet for the app (F5, F6), the Measure table's short line names, and its
+atomic write."""
 
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from bedside.errors import RecordError
 from bedside.placement.sheet import marking_sheet
 from bedside.placement.types import PlacementPlan
+from bedside.record.atomic import atomic_write_text
 
 if TYPE_CHECKING:
     from bedside.record.log import TapedMeasurements
@@ -37,21 +36,6 @@ def plan_as_text(plan: PlacementPlan, taped: TapedMeasurements | None = None) ->
 
 
 def write_text_atomic(path: Path, text: str) -> Path:
-    """Write ``text`` to ``path`` atomically (temp file, fsync, rename), mode 0600."""
-    path = Path(path)
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-        try:
-            with os.fdopen(fd, "w", encoding="utf-8") as fh:
-                fh.write(text)
-                fh.flush()
-                os.fsync(fh.fileno())
-            os.chmod(tmp, 0o600)
-            os.replace(tmp, path)
-        finally:
-            if os.path.exists(tmp):
-                os.unlink(tmp)
-    except OSError as exc:
-        raise RecordError(f"could not write {path}: {exc.strerror or exc}") from exc
-    return path
+    """Write ``text`` to ``path`` atomically, mode 0600, making its folder if need be
+    (``bedside.record.atomic``, the one atomic writer); RecordError names what failed."""
+    return atomic_write_text(path, text, error=RecordError, make_folder=True)
