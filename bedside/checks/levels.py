@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 from bedside.checks.base import BAD, CHECK, CheckResult
-from bedside.checks.reference import SHARED
+from bedside.checks.registry import SHARED
 from bedside.checks.types import Finding
 
 
@@ -106,7 +106,7 @@ class LevelHold:
 
 #: Kinds of the whole-head findings (bedside.checks.reference): most channels share one
 #: fault through the reference or ground, so the set of channels moves with every update.
-WHOLE_HEAD_KINDS = frozenset(kind for kind, _, _ in SHARED.values())
+WHOLE_HEAD_KINDS = frozenset(shared.kind for shared in SHARED.values())
 
 
 def finding_key(f: Finding) -> tuple[str, tuple[str, ...]]:

@@ -101,8 +101,6 @@ log = logging.getLogger("bedside")
 AUTOSAVE_MAX_S = 2.0
 AUTOSAVE_MIN_S = 0.05
 
-_FRAME_EXTRA_MAINS_KEYS = ("power_line_hz", "mains_hz", "line_frequency_hz")
-
 
 @dataclass(frozen=True)
 class RecorderStatus:
@@ -512,14 +510,10 @@ class SessionRecorder:
             judged = any(ch.level is not None for ch in frame.channels)
             if getattr(frame, "live", True) and judged:
                 changed |= self._record_findings(at, frame.findings)
-            extras = getattr(frame, "extras", None) or {}
-            for key_name in _FRAME_EXTRA_MAINS_KEYS:
-                mains = _mains_hz(extras.get(key_name))
-                if mains is not None:
-                    if self._log.power_line_hz != mains:
-                        self._log.power_line_hz = mains
-                        changed = True
-                    break
+            mains = _mains_hz(getattr(frame, "mains_hz", None))
+            if mains is not None and self._log.power_line_hz != mains:
+                self._log.power_line_hz = mains
+                changed = True
             if changed:
                 self._touch()
 
@@ -1160,7 +1154,7 @@ def _accepted(items: Iterable[Any]) -> tuple[AcceptedElectrode, ...]:
 
 
 def _mains_hz(value: Any) -> float | None:
-    """50.0 or 60.0 from a frame's extras (numpy numbers too), else None."""
+    """50.0 or 60.0 from a frame's mains_hz (numpy numbers too), else None."""
     if value is None or isinstance(value, bool):
         return None
     try:

@@ -69,8 +69,8 @@ def _scenarios(record: dict[str, Any]) -> None:
     from bedside.checks.settings import load_quality
 
     try:
+        from bedside.bench.engine import latency_scenario_path
         from bedside.bench.simrun import run_scenario
-        from bedside.bench.speed import latency_scenario_path
     except ImportError:  # before the bench package
         from bedside.checks.benchmark import latency_scenario_path  # type: ignore[no-redef]
         from bedside.checks.simrun import run_scenario  # type: ignore[no-redef]
@@ -90,7 +90,7 @@ def _bench_data(record: dict[str, Any]) -> None:
     from bedside.stream.types import ChannelInfo
 
     try:
-        from bedside.bench.speed import _eeg_like, _grid_neighbours
+        from bedside.bench.engine import _eeg_like, _grid_neighbours
     except ImportError:
         from bedside.checks.benchmark import _eeg_like, _grid_neighbours  # type: ignore[no-redef]
 
