@@ -16,9 +16,10 @@ costs about what the new samples require, not a recompute of the window:
   correlation check reads too) — so these verdicts and their cost do not depend
   on the amplifier's rate.
 
- ``evaluate`` combines the window's statistics and its one shared spectrum,
-runs every check vectorised across channels, decides reference/ground findings,
-applies the hold and returns the frame.
+``evaluate`` combines the window's statistics and its one shared spectrum, runs
+every check of ``registry.CHECKS`` vectorised across channels (reusing what reads the
+spectrum only until a segment completes), decides reference/ground findings, applies
+the hold and returns the frame (its channels built by ``frames.ChannelBuilder``).
 """
 
 from __future__ import annotations
@@ -309,8 +310,9 @@ class Engine:
                             mains_hz=self._mains_hz, data_s=now, neighbour_pairs=int(len(self.neighbours)))
 
     def check_results(self) -> Mapping[str, CheckResult]:
-        """Each check's own result at the last evaluation with verdicts (before the hold;
-        for tests and tools: which check said what); empty before the first."""
+        """Each check's own result at the last evaluation with verdicts, before the
+        reference/ground decision and the hold (for tests and tools: which check said
+        what); empty before the first."""
         return MappingProxyType(self._cache[5] if self._cache is not None else {})
 
     def _recent_segments(self) -> int:

@@ -34,13 +34,9 @@ SCENARIOS = ("clean", "bad_reference", "mains_60hz", "ward_demo", "cap64_1010")
 
 
 def _frame(frame: Any) -> dict[str, Any]:
-    extras = getattr(frame, "extras", None)
-    if extras is not None:
-        info = dict(extras)
-    else:
-        info = {"mains_hz": frame.mains_hz, "data_s": frame.data_s}
-        if frame.neighbour_pairs is not None:
-            info["neighbour_pairs"] = frame.neighbour_pairs
+    info = {"mains_hz": frame.mains_hz, "data_s": frame.data_s}
+    if frame.neighbour_pairs is not None:  # a frame with verdicts
+        info["neighbour_pairs"] = frame.neighbour_pairs
     return {
         "time": frame.time,
         "window_s": frame.window_s,
@@ -66,14 +62,9 @@ def _feed(engine: Any, data: np.ndarray, rate_hz: float, every: int = 1) -> list
 
 
 def _scenarios(record: dict[str, Any]) -> None:
+    from bedside.bench.engine import latency_scenario_path
+    from bedside.bench.simrun import run_scenario
     from bedside.checks.settings import load_quality
-
-    try:
-        from bedside.bench.engine import latency_scenario_path
-        from bedside.bench.simrun import run_scenario
-    except ImportError:  # before the bench package
-        from bedside.checks.benchmark import latency_scenario_path  # type: ignore[no-redef]
-        from bedside.checks.simrun import run_scenario  # type: ignore[no-redef]
 
     settings = load_quality()
     with tempfile.TemporaryDirectory() as tmp:
@@ -85,14 +76,10 @@ def _scenarios(record: dict[str, Any]) -> None:
 
 
 def _bench_data(record: dict[str, Any]) -> None:
+    from bedside.bench.engine import _eeg_like, _grid_neighbours
     from bedside.checks.engine import Engine
     from bedside.checks.settings import load_quality
     from bedside.stream.types import ChannelInfo
-
-    try:
-        from bedside.bench.engine import _eeg_like, _grid_neighbours
-    except ImportError:
-        from bedside.checks.benchmark import _eeg_like, _grid_neighbours  # type: ignore[no-redef]
 
     settings = load_quality()
     for c, rate, opts in (
