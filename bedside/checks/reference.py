@@ -11,15 +11,18 @@ scalp channels) explains at least ``shared_min`` of the fault's variance, with o
 sign. Independent faults — drifts of random sign on 15 of 19 electrodes, mains
 picked up lead by lead with scattered phases — stay each electrode's own.
 
-What is compared, per kind:
+Which checks take part, with their finding's kind, remedy and evidence, is each
+check's own ``shared`` declaration (``registry.SHARED``, in ``registry.CHECKS`` order).
+What is compared, per kind of evidence:
 
-* drift: the block means (what is slower than a 0.25-s block), analysis copy;
-* pops and high amplitude: the window's covariance, analysis copy;
-* mains: the complex spectrum at the mains frequency per spectral segment
-  (SpectralAccumulator.phasors), so phase and sign are known;
-* flat: most channels flat at once have no waveform to compare; their one shared
-  cause is the reference or ground lead (or the amplifier), so the majority alone
-  decides.
+* "block_means" (drift): the block means (what is slower than a 0.25-s block),
+  analysis copy;
+* "covariance" (pops and high amplitude): the window's covariance, analysis copy;
+* "mains_phasors" (mains): the complex spectrum at the mains frequency per spectral
+  segment (SpectralAccumulator.phasors), so phase and sign are known;
+* "majority" (flat): most channels flat at once have no waveform to compare; their
+  one shared cause is the reference or ground lead (or the amplifier), so the
+  majority alone decides.
 
 The share is r² between a channel and the common signal (for mains: cos² of the
 phase difference to the common phasor); "one sign" is a positive covariance (for
