@@ -90,6 +90,10 @@ class Inputs:
     results: Mapping[str, CheckResult]
 
 
+#: The finding kinds of a fault most channels share through the reference or ground.
+SHARED_KINDS = ("reference", "ground")
+
+
 class Shared(NamedTuple):
     """How a check's fault, on most scalp channels at once, is put on the reference or
     ground (bedside.checks.reference): the finding's kind ("reference", "ground"), what
@@ -98,7 +102,7 @@ class Shared(NamedTuple):
     covariance), "mains_phasors" (the complex spectrum at the mains per segment) or
     "majority" (no waveform to compare: the majority alone decides)."""
 
-    kind: str
+    kind: Literal["reference", "ground"]
     what: str
     remedy: str
     evidence: Literal["block_means", "covariance", "mains_phasors", "majority"]

@@ -18,7 +18,7 @@ import yaml
 import bedside.checks.engine as engine_module
 from bedside.bench.engine import KIND_CHECKS
 from bedside.checks import correlation
-from bedside.checks.base import CHECK, Check, CheckResult, Context, Inputs
+from bedside.checks.base import CHECK, SHARED_KINDS, Check, CheckResult, Context, Inputs
 from bedside.checks.registry import CHECKS, SHARED, VALIDITY, headlines
 from bedside.checks.settings import DEFAULT_PATH, QualitySettings, load_quality
 from bedside.metric_labels import METRIC_LABELS
@@ -96,7 +96,7 @@ def test_fault_kinds_shared_faults_and_order_are_consistent() -> None:
         assert set(c.faults) <= set(FAULT_KINDS)
     assert set(SHARED) <= {c.name for c in CHECKS if not c.findings_only}
     for shared in SHARED.values():
-        assert shared.kind in ("reference", "ground") and shared.remedy
+        assert shared.kind in SHARED_KINDS and shared.remedy
     names = [c.name for c in CHECKS]
     for first in correlation.SPEAKS_FIRST:  # the correlation check reads their verdicts
         assert names.index(first) < names.index(correlation.NAME)
