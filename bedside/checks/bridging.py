@@ -32,8 +32,6 @@ Bridges are reported for the neighbour pairs. Guards of our own: both channels m
 valid (finite, not flat: the engine's flat check) and carry at least ``min_rms_uv`` in
 band, so two dead leads are no bridge.
 
-:func:`pair_metrics` (ED and correlation from any covariance matrix) is kept for
-callers that have one.
 """
 
 from __future__ import annotations
@@ -46,11 +44,14 @@ from scipy.optimize import minimize_scalar
 from scipy.signal import butter, ellip, ellipord, sosfilt, sosfilt_zi
 from scipy.stats import gaussian_kde
 
-from bedside.checks.base import BAD, CheckResult, Context
+from bedside.checks.base import BAD, Check, CheckResult, Context
 from bedside.checks.settings import BridgingSettings
 from bedside.checks.types import Finding, Level
 
 NAME = "bridging"
+#: The check as the engine runs it (registry.CHECKS): the detector is the engine's (its epochs, its memo).
+ENTRY = Check(NAME, "bridging", lambda i, ctx, s: i.bridge.evaluate(ctx), headline="bridge_corr",
+              settings="bridging", faults=("bridge",))
 
 #: Up to this many ED values the density is summed over the values themselves (as
 #: MNE-Python's gaussian_kde); beyond, over a histogram of HISTOGRAM_BINS bins.
@@ -59,18 +60,6 @@ EXACT_KDE_MAX = 8192
 #: (exp(−½·9.5²) ≈ 2e-20 of a kernel's peak is what one further off adds).
 KERNEL_REACH = 9.5
 HISTOGRAM_BINS = 4096
-
-
-def pair_metrics(cov_uv2: np.ndarray, pairs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(ED µV², correlation) for index pairs (P, 2) from a covariance matrix (C, C)."""
-    if len(pairs) == 0:
-        return np.zeros(0), np.zeros(0)
-    i, j = pairs[:, 0], pairs[:, 1]
-    cii, cjj, cij = cov_uv2[i, i], cov_uv2[j, j], cov_uv2[i, j]
-    ed = np.maximum(cii + cjj - 2.0 * cij, 0.0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        r = cij / np.sqrt(cii * cjj)
-    return ed, np.nan_to_num(r, nan=0.0)
 
 
 def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarray:

@@ -124,7 +124,7 @@ def as_json(frame: QualityFrame, identity: StreamIdentity, seconds: float, lost:
         "channel_setup": setup or {},
         "findings": [f.as_dict() for f in frame.findings],
         "run_findings": [f.as_dict() for f in look.history.findings()] if look is not None else [],
-        "mains_hz": frame.extras.get("mains_hz"),
+        "mains_hz": frame.mains_hz,
         "window_s": frame.window_s,
         "seconds": seconds,
         "looked_s": round(look.last_t, 3) if look is not None else seconds,

@@ -35,9 +35,6 @@ if TYPE_CHECKING:
     from bedside.placement.types import PlacementPlan
     from bedside.stream.types import StreamHealth, StreamIdentity
 
-#: The frame's extras that may carry the mains frequency, first found wins.
-FRAME_EXTRA_MAINS_KEYS = ("power_line_hz", "mains_hz", "line_frequency_hz")
-
 #: Stream notes remembered so each is written once (the oldest are forgotten first).
 SEEN_NOTES_MAX = 500
 
@@ -127,11 +124,9 @@ class ChangeDetector:
         # stream or looking again): no verdict is not a finding that cleared.
         if frame.live and any(ch.level is not None for ch in frame.channels):
             out.findings.extend(self._findings(at, frame.findings))
-        for key_name in FRAME_EXTRA_MAINS_KEYS:
-            mains = mains_hz(frame.extras.get(key_name))
-            if mains is not None:
-                out.power_line_hz = mains
-                break
+        mains = mains_hz(frame.mains_hz)
+        if mains is not None:
+            out.power_line_hz = mains
         return out
 
     def _health(self, at: datetime, health: StreamHealth) -> list[Event]:
@@ -214,7 +209,7 @@ def stream_detail(identity: StreamIdentity) -> str:
 
 
 def mains_hz(value: object) -> float | None:
-    """50.0 or 60.0 from a frame's extras (numpy numbers too), else None."""
+    """50.0 or 60.0 from a frame's mains_hz (numpy numbers too), else None."""
     if value is None or isinstance(value, bool):
         return None
     try:

@@ -769,7 +769,7 @@ class BedsideApp(App[int]):
 
     def mains_hz(self) -> tuple[float, ...]:
         frame = self.latest_frame
-        value = frame.extras.get("mains_hz") if frame is not None else None
+        value = frame.mains_hz if frame is not None else None
         if isinstance(value, int | float) and math.isfinite(value) and value > 0:
             return (float(value),)
         return ()  # not detected (yet, or none there): the spectrum marks nothing

@@ -42,7 +42,7 @@ def frame(j: int, live: bool = True) -> QualityFrame:
         )
         for i in range(N)
     )
-    return QualityFrame(float(j), float(j), chans, (), si.health(), 4.0, {})
+    return QualityFrame(float(j), float(j), chans, (), si.health(), 4.0)
 
 
 class TableApp(App[None]):

@@ -90,7 +90,7 @@ def test_spectrum_marks_land_on_their_columns() -> None:
 
 def _frame(t: float, levels: dict[str, Level | None], state: str = "live") -> QualityFrame:
     chans = tuple(ChannelQuality(n, lv, {}, (), True) for n, lv in levels.items())
-    return QualityFrame(t, t, chans, (), si.health(state), 4.0, {})
+    return QualityFrame(t, t, chans, (), si.health(state), 4.0)
 
 
 def test_time_to_good_by_hand() -> None:
