@@ -47,6 +47,7 @@ from scipy.signal import butter, ellip, ellipord, sosfilt, sosfilt_zi
 from scipy.stats import gaussian_kde
 
 from bedside.checks.base import BAD, CheckResult, Context
+from bedside.checks.gram import add_gram, symmetrize
 from bedside.checks.settings import BridgingSettings
 from bedside.checks.types import Finding, Level
 
@@ -191,7 +192,6 @@ class BridgeDetector:
     def reset(self) -> None:
         """Forget everything (the filter state too): after a gap or a reconnect."""
         c = self.n_channels
-        self._gram = np.zeros((c, c))  # work array of one block's product
         self._zi: np.ndarray | None = None
         self._acc = np.zeros((c, c))
         self._acc_sum = np.zeros(c)
@@ -227,11 +227,12 @@ class BridgeDetector:
         while pos < y.shape[0]:
             take = min(self._hop - self._acc_n, y.shape[0] - pos)
             seg = y[pos : pos + take]
-            self._acc += np.matmul(seg.T, seg, out=self._gram)
+            add_gram(self._acc, seg, accumulate=True)  # its lower triangle (checks/gram.py)
             self._acc_sum += seg.sum(axis=0)
             self._acc_n += take
             pos += take
             if self._acc_n == self._hop:
+                symmetrize(self._acc)
                 self._hops.append((self._acc, self._acc_sum, self._acc_n))
                 # The hop about its own mean, for the correlation check's covariance
                 # (the newest CORR_HOPS hops): what is slower than a hop is left out.
