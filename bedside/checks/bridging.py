@@ -41,10 +41,12 @@ from collections import deque
 
 import numpy as np
 from scipy.optimize import minimize_scalar
-from scipy.signal import butter, ellip, ellipord, sosfilt, sosfilt_zi
+from scipy.signal import butter, ellip, ellipord
 from scipy.stats import gaussian_kde
 
 from bedside.checks.base import BAD, Check, CheckResult, Context
+from bedside.checks.blockfilter import BlockIIR
+from bedside.checks.gram import add_gram, symmetrize
 from bedside.checks.settings import BridgingSettings
 from bedside.checks.types import Finding, Level
 
@@ -169,6 +171,7 @@ class BridgeDetector:
         p = np.asarray(pairs, dtype=np.int64).reshape(-1, 2)
         self.pairs = np.sort(p, axis=1)
         self._sos = design_band(self.rate_hz, s.l_freq_hz, s.h_freq_hz)
+        self._iir = BlockIIR(self._sos, c)
         self._hop = max(1, round(s.hop_s * self.rate_hz))
         self._hops_per_epoch = max(1, round(s.epoch_s / s.hop_s))
         self._iu = np.triu_indices(c, 1)
@@ -180,8 +183,7 @@ class BridgeDetector:
     def reset(self) -> None:
         """Forget everything (the filter state too): after a gap or a reconnect."""
         c = self.n_channels
-        self._gram = np.zeros((c, c))  # work array of one block's product
-        self._zi: np.ndarray | None = None
+        self._iir.reset()
         self._acc = np.zeros((c, c))
         self._acc_sum = np.zeros(c)
         self._acc_n = 0
@@ -209,18 +211,19 @@ class BridgeDetector:
         x = np.asarray(x, dtype=np.float64)
         if x.shape[0] == 0:
             return
-        if self._zi is None:  # start in the steady state of the first sample (no DC step)
-            self._zi = sosfilt_zi(self._sos)[:, :, None] * x[0][None, None, :]
-        y, self._zi = sosfilt(self._sos, x, axis=0, zi=self._zi)
+        if self._iir.state is None:  # start in the steady state of the first sample (no DC step)
+            self._iir.start_at(x[0])
+        y = self._iir.filter(x)  # sosfilt's result, as two matrix products (checks/blockfilter.py)
         pos = 0
         while pos < y.shape[0]:
             take = min(self._hop - self._acc_n, y.shape[0] - pos)
             seg = y[pos : pos + take]
-            self._acc += np.matmul(seg.T, seg, out=self._gram)
+            add_gram(self._acc, seg, accumulate=True)  # its lower triangle (checks/gram.py)
             self._acc_sum += seg.sum(axis=0)
             self._acc_n += take
             pos += take
             if self._acc_n == self._hop:
+                symmetrize(self._acc)
                 self._hops.append((self._acc, self._acc_sum, self._acc_n))
                 # The hop about its own mean, for the correlation check's covariance
                 # (the newest CORR_HOPS hops): what is slower than a hop is left out.
