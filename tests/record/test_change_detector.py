@@ -113,7 +113,7 @@ def test_mains_and_metrics_are_plain_numbers() -> None:
     assert clean_metrics({"rms_uv": 21.123456789, "line_noise_db": float("nan"), "x": "text"}) == {
         "rms_uv": 21.1235, "line_noise_db": None}
     det = _detector()
-    frame = QualityFrame(T0, T0, (ChannelQuality("Cz", Level.GOOD, {}),), (), None, 4.0, {"mains_hz": 60.0})
+    frame = QualityFrame(T0, T0, (ChannelQuality("Cz", Level.GOOD, {}),), (), None, 4.0, mains_hz=60.0)
     assert det.frame(frame, _at(0)).power_line_hz == 60.0
 
 
