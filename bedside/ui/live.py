@@ -349,6 +349,7 @@ class LiveSession:
             if source is None:
                 assert identity is not None
                 source = self._services.open_source(identity, None)
+                self._check(g)  # a newer pick came while this stream was being opened
             conn = self._start(source, g, profile_name)
             places = self._places(conn)
         except _Superseded:
