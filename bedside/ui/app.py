@@ -22,14 +22,13 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.reactive import var
 
-from bedside.checks.impedance import ImpedanceLimits, Verdict, check_entry, judge, merge, over_limit
-from bedside.checks.ready import Cues, ReadyGate, ReadyState
+from bedside.checks.impedance import Verdict, over_limit
+from bedside.checks.ready import ReadyGate, ReadyState
 from bedside.checks.settings import LongTermSettings
 from bedside.checks.types import QualityFrame
 from bedside.errors import BedsideError
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
-from bedside.record.trends import AlertKeeper, SkinReminder
 from bedside.stream.source import Source
 from bedside.stream.types import StreamIdentity
 from bedside.ui.config import VIEWS, AppConfig, View
@@ -61,6 +60,7 @@ from bedside.ui.screens.ward import WardScreen
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import ChannelPreview, Services, default_services
 from bedside.ui.session import RecorderGate
+from bedside.ui.vigil import FrameVigil, ImpedanceBook
 from bedside.ui.widgets.impedance_line import ImpedanceView
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
@@ -148,29 +148,16 @@ class BedsideApp(App[int]):
         self.identity: StreamIdentity | None = source.identity if source is not None else None
         self._ward_screen: WardScreen | None = None  # bedside ward: the list of beds
         self._log_error = "" if config.log_path else "no setup log is kept in this session (it was started without one)"
-        self.latest_frame: QualityFrame | None = None
-        self.progress: Progress | None = None
-        self.tracker = GoodTracker()
-        # The start gate (bedside.checks.ready, the same as check --until-good) and the
-        # sound cue; both start again with every connection.
-        self.ready_gate = ReadyGate(self.config.ready_hold_s)
-        self.ready_state: ReadyState | None = None
-        self.cues = Cues()
         # The checks' long_term settings (services without quality settings: the defaults).
         long_term = getattr(self.services.load_quality(), "long_term", None) or LongTermSettings()
-        self.alert_keeper = AlertKeeper(long_term.alert_after_s)
-        self.skin_reminder = SkinReminder(long_term.skin_check_s)
+        #: The frames of the stream watched: time to good, the start gate, cues, alerts, stalls.
+        self.vigil = FrameVigil(config.ready_hold_s, config.stale_after_s, long_term.alert_after_s,
+                                long_term.skin_check_s)
+        self.impedances = ImpedanceBook()  # typed in the Log view, and the amplifier's
         self.bell_on = self.config.bell
         #: The department profile (bedside.checks.profiles.Profile) once loaded, by name.
         self.profile_name = config.profile
         self.profile: Any = None
-        #: Impedances typed in the Log view (kΩ, by the stream's electrode name) and when
-        #: the last value came (epoch seconds; the re-check interval counts from it).
-        self.typed_impedances: dict[str, float] = {}
-        self.impedance_at: float | None = None
-        self._last_frame_at: float | None = None
-        self._connected_at: float | None = None
-        self._shown_stalled = False
         self._leaving = False
         self._pending_pick: tuple[list[StreamIdentity], str, bool] | None = None
         self._view: str = config.start_view
@@ -179,6 +166,35 @@ class BedsideApp(App[int]):
         self._pending_confirm = False
         #: What became of the setup log, said once the app has closed (the CLI prints it).
         self.log_outcome = ""
+
+    # The vigil's state, as the screens and tests read it.
+    @property
+    def latest_frame(self) -> QualityFrame | None:
+        return self.vigil.latest
+
+    @latest_frame.setter
+    def latest_frame(self, frame: QualityFrame | None) -> None:
+        self.vigil.latest = frame
+
+    @property
+    def progress(self) -> Progress | None:
+        return self.vigil.progress
+
+    @property
+    def ready_state(self) -> ReadyState | None:
+        return self.vigil.ready_state
+
+    @property
+    def ready_gate(self) -> ReadyGate:
+        return self.vigil.ready_gate
+
+    @property
+    def tracker(self) -> GoodTracker:
+        return self.vigil.tracker
+
+    @property
+    def typed_impedances(self) -> dict[str, float]:
+        return self.impedances.typed
 
     # --- start and stop -------------------------------------------------------------
     def on_mount(self) -> None:
@@ -392,13 +408,7 @@ class BedsideApp(App[int]):
         self._refresh_watch_status()
 
     def _forget_frames(self) -> None:
-        self.tracker.reset()
-        self.ready_gate, self.ready_state, self.cues = ReadyGate(self.config.ready_hold_s), None, Cues()
-        self.alert_keeper = AlertKeeper(self.alert_keeper.after_s)
-        self.ready_gate.set_blocked(over_limit(self.impedance_verdicts))
-        self.latest_frame, self.progress = None, None
-        self._last_frame_at = None
-        self._connected_at = time.monotonic()
+        self.vigil.forget(over_limit(self.impedance_verdicts))
 
     def _connected(self, message: Connected) -> None:
         conn = message.connection
@@ -409,10 +419,10 @@ class BedsideApp(App[int]):
         if conn.profile is not None:
             self._use_profile(conn.profile)
         if any(c.impedance_kohm is not None for c in conn.channels):
-            self.impedance_at = time.time()  # the amplifier's values, as of this opening
+            self.impedances.at = time.time()  # the amplifier's values, as of this opening
         self._judge_impedances()
         self.places = message.places if isinstance(message.places, MapPlaces) else MapPlaces({})
-        self._connected_at = time.monotonic()
+        self.vigil.connected_at = time.monotonic()
         self.status_note = ""
         if self.recorder is not None:
             self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
@@ -491,34 +501,22 @@ class BedsideApp(App[int]):
         if not self.live.is_current(message.generation):
             return  # from a connection that has been replaced
         frame = message.frame
-        self.latest_frame = frame
-        self._last_frame_at = time.monotonic()
-        self._shown_stalled = False
-        self.progress = self.tracker.update(frame)
-        self._judge_ready(frame)
+        news = self.vigil.take(frame)
+        if news.ready is not None and self.recorder is not None:  # the log gets the first ready time
+            self.recorder.submit("set_ready", (news.ready.hold_s, news.ready.accepted, "app"),
+                                 self._log_done("ready"))
+        if news.ring and self.bell_on:  # ready, or a new fault
+            self.bell()
+        for text in news.alerts:  # long recordings: an electrode that degraded and stayed so
+            self.notify(text, severity="warning", timeout=30)
+            if self.bell_on:
+                self.bell()
+        if news.reminder is not None:
+            self.notify(news.reminder, timeout=60)
         self._update_subtitle()
         # Handed straight to Watch (not through a reactive): the hot path, 4 per second.
         if self.current_view == "watch":
             self.views["watch"].show_frame(frame, self.progress, live=self.is_live())
-
-    def _judge_ready(self, frame: QualityFrame) -> None:
-        """The start gate on the frame's own clock; the log gets the first ready time;
-        the bell (when on) rings for ready and for a new fault."""
-        t = frame.wall_time if frame.wall_time > 0 else time.time()
-        was = self.ready_gate.ready_at_s
-        state = self.ready_state = self.ready_gate.update(frame, t)
-        if was is None and state.ready and self.recorder is not None:
-            self.recorder.submit("set_ready", (state.hold_s, state.accepted, "app"), self._log_done("ready"))
-        if self.cues.update(frame, state) and self.bell_on:
-            self.bell()
-        # Long recordings: an electrode that degraded and stayed so, and skin checks.
-        for alert in self.alert_keeper.feed(frame, t):
-            self.notify(alert.text(), severity="warning", timeout=30)
-            if self.bell_on:
-                self.bell()
-        reminder = self.skin_reminder.feed(t)
-        if reminder is not None:
-            self.notify(reminder, timeout=60)
 
     def toggle_bell(self) -> None:
         self.bell_on = not self.bell_on
@@ -539,13 +537,7 @@ class BedsideApp(App[int]):
 
     def stalled_for(self) -> float | None:
         """Seconds since the last frame, when frames stopped (None while they flow)."""
-        if self.connection is None:
-            return None
-        since = self._last_frame_at or self._connected_at
-        if since is None:
-            return None
-        age = time.monotonic() - since
-        return age if age > self.config.stale_after_s else None
+        return self.vigil.stalled_for(self.connection is not None)
 
     def is_live(self) -> bool:
         frame = self.latest_frame
@@ -564,8 +556,8 @@ class BedsideApp(App[int]):
                                     "not trusted unless you pick it: press p")
                 self.notify(self.status_note, severity="warning", timeout=10)
         stalled = self.stalled_for()
-        if stalled is not None and not self._shown_stalled and self._watch_ready():
-            self._shown_stalled = True
+        if stalled is not None and not self.vigil.shown_stalled and self._watch_ready():
+            self.vigil.shown_stalled = True
             self.views["watch"].show_no_data()
         elif stalled is not None:
             self._refresh_watch_status()
@@ -740,35 +732,21 @@ class BedsideApp(App[int]):
     def impedance_typed(self, electrode: str, kohm: float) -> tuple[str, float]:
         """A typed impedance (Log view): checked (0 or less, over 1 000 kΩ, or an electrode
         the stream does not have: InputError with the reason), kept, judged at once."""
-        name, value = check_entry(electrode, kohm, self.known_electrodes())
-        self.typed_impedances[name] = value
-        self.impedance_at = time.time()
+        name, value = self.impedances.type_in(electrode, kohm, self.known_electrodes())
         self._judge_impedances()
         return name, value
 
     def _judge_impedances(self) -> None:
-        """Typed values (they win) and the amplifier's, for the stream's scalp electrodes,
-        against the profile's limits; the gate holds those over the limit."""
+        """Judged again (the gate holds the electrodes over the limit); Watch watches the verdicts."""
         conn = self.connection
-        scalp = [c for c in conn.channels if c.is_scalp] if conn is not None else []
-        names = {c.name for c in scalp}
-        published = {c.name: c.impedance_kohm for c in scalp if c.impedance_kohm is not None}
-        typed = {n: v for n, v in self.typed_impedances.items() if not names or n in names}
-        limits = self.profile.impedance if self.profile is not None else ImpedanceLimits()
-        verdicts = judge(merge(typed, published), limits)
+        verdicts = self.impedances.judge(conn.channels if conn is not None else (), self.profile)
         self.ready_gate.set_blocked(over_limit(verdicts))
-        self.impedance_verdicts = verdicts  # Watch watches it (its impedance line)
+        self.impedance_verdicts = verdicts
 
     def impedance_view(self) -> ImpedanceView | None:
-        if self.profile is None:
-            return None
         conn = self.connection
-        electrodes = [c.name for c in conn.channels if c.is_scalp] if conn is not None else list(self.typed_impedances)
-        due = None
-        if self.profile.recheck_h is not None and self.impedance_at is not None:
-            due = self.impedance_at + self.profile.recheck_h * 3600.0
-        return ImpedanceView(self.impedance_verdicts, electrodes, self.profile.impedance.limit_kohm,
-                             self.profile.name, due)
+        return self.impedances.view(self.impedance_verdicts, conn.channels if conn is not None else None,
+                                    self.profile)
 
     def known_electrodes(self) -> set[str]:
         """Electrodes an impedance may be typed for: the stream's channels while one is

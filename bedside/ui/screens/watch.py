@@ -126,9 +126,13 @@ class WatchScreen(HostedScreen, Screen[None]):
             self.show_frame(app.latest_frame, app.progress, live=app.is_live())
 
     # --- fed by the app -------------------------------------------------------
-    @while_mounted
     def _places_changed(self, places: MapPlaces) -> None:
-        self.query_one(HeadMap).set_points(places.points, places.unplaced)
+        self.set_points(places.points, places.unplaced)
+
+    @while_mounted
+    def set_points(self, points: dict[str, tuple[float, float]], unplaced: tuple[str, ...] = ()) -> None:
+        """Where the head map draws (the app's ``places``; ``bedside bench`` sets its own)."""
+        self.query_one(HeadMap).set_points(points, unplaced)
 
     @while_mounted
     def refresh_status(self, note: str = "") -> None:
