@@ -14,7 +14,7 @@ Threads (DEVELOPERS.md, "Thread map"):
   order: it opens sources, builds engines, starts and stops monitors. It alone holds
   the running connection (``_running``), so at most one monitor runs. A request that
   a newer one has superseded stops where it is and starts nothing;
-- a look thread (``bedside-look``) per look for streams polls the look (never blocks);
+- a look thread (``bedside-look``) per look for streams polls it (:mod:`bedside.ui.look`);
 - each monitor thread calls the connection's frame feed; its last frame after an
   error also posts :class:`MonitorStopped` (the monitor is never polled for it).
 
@@ -33,22 +33,14 @@ from dataclasses import dataclass
 from typing import Any, Protocol
 
 from bedside.checks.types import QualityFrame
-from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStreams, StreamNotFound
+from bedside.errors import BedsideError
 from bedside.stream.source import Source
 from bedside.stream.types import ChannelInfo, StreamIdentity
 from bedside.ui.config import AppConfig
-from bedside.ui.services import MonitorLike, Services, StreamLookLike
+from bedside.ui.look import StreamsFound, StreamsSeen, run_look
+from bedside.ui.services import MonitorLike, Services
 
 log = logging.getLogger("bedside")
-
-#: How often a look for streams is asked what it heard (it never blocks), and for how
-#: many polls an open picker keeps listening (10 min) before its list stays as it is.
-LOOK_POLL_S = 0.2
-LOOK_MAX_POLLS = 3000
-#: The picker's title when the streams are equal in name, type, source_id and host.
-TWINS_NOTE = ("These streams cannot be told apart (same name, type, source_id and host: two copies "
-              "of one program?) — choose the outlet for this bed, or close a copy")
-
 
 class DisplaySource(Source, Protocol):
     """The source as the monitor reads it, keeping a display copy (``buffer``) of what
@@ -104,29 +96,8 @@ def engine_neighbours(engine: Any) -> tuple[tuple[str, str], ...]:
         return ()
 
 
-# --- events (posted from the session's threads, read on the UI thread) -----------------
-@dataclass(frozen=True)
-class StreamsFound:
-    """What look ``look`` found: one stream to pin, several to choose from (the picker), or
-    a problem to say. still_looking: the look goes on and the picker will be updated."""
-
-    look: int
-    streams: list[StreamIdentity]
-    ambiguous: bool
-    pinned: StreamIdentity | None
-    note: str
-    still_looking: bool = False
-
-
-@dataclass(frozen=True)
-class StreamsSeen:
-    """The open picker's list, updated as more streams answer (or the look settles)."""
-
-    look: int
-    streams: list[StreamIdentity]
-    still_looking: bool
-
-
+# --- events (posted from the session's threads, read on the UI thread; the look's
+# StreamsFound and StreamsSeen are bedside.ui.look's) ------------------------------------
 @dataclass(frozen=True)
 class Connected:
     """A connection is running. places: what the app's ``places`` hook made of it (the
@@ -233,8 +204,8 @@ class LiveSession:
         self._look += 1
         done = threading.Event()  # set: this look is over (picked, cancelled, replaced)
         self._look_done = done
-        threading.Thread(target=self._run_look_thread, args=(self._look, force_picker, done),
-                         name="bedside-look", daemon=True).start()
+        threading.Thread(target=run_look, args=(self._services, self._config, self._post, self._look,
+                                                force_picker, done), name="bedside-look", daemon=True).start()
         return self._look
 
     def end_look(self) -> None:
@@ -424,66 +395,6 @@ class LiveSession:
             raise _Superseded
         return conn
 
-    # --- the look thread --------------------------------------------------------------
-    def _run_look_thread(self, look: int, force_picker: bool, done: threading.Event) -> None:
-        try:
-            finder = self._services.look_for_streams()
-        except BedsideError as exc:
-            self._post(StreamsFound(look, [], False, None, str(exc)))
-            return
-        try:
-            self._run_look(finder, look, force_picker, done)
-        except BedsideError as exc:
-            self._post(StreamsFound(look, [], False, None, str(exc)))
-        finally:
-            finder.close()
-
-    def _run_look(self, finder: StreamLookLike, look: int, force_picker: bool, done: threading.Event) -> None:
-        """Poll the look every LOOK_POLL_S until it has an answer: p opens the picker at
-        the first poll, two candidates heard open it at once (they cannot become one),
-        one stream is pinned only once the look has settled; while a picker shows its
-        list, keep it up to date until the look ends."""
-        cfg = self._config
-        shown: tuple[list[StreamIdentity], bool] | None = None  # what the picker lists
-        polls = 0
-        while not done.is_set() and polls < LOOK_MAX_POLLS:
-            polls += 1
-            settled = finder.settled(cfg.wait_s)
-            found = finder.visible()
-            if shown is not None:
-                cands = found if force_picker else self._matching(found)
-                if (cands, settled) != shown:
-                    shown = (cands, settled)
-                    self._post(StreamsSeen(look, cands, not settled))
-            elif force_picker:
-                shown = (found, settled)
-                self._post(StreamsFound(look, found, True, None, "", not settled))
-            else:
-                try:
-                    pinned = self._services.select_stream(found, cfg.stream_name, cfg.source_id, cfg.host)
-                except AmbiguousStream as exc:  # two candidates heard: it cannot become one
-                    cands = [c for c in exc.candidates if isinstance(c, StreamIdentity)] or found
-                    shown = (cands, settled)
-                    # The picker says it in the app's terms (the error's text names command options).
-                    note = TWINS_NOTE if isinstance(exc, IndistinguishableStreams) else ""
-                    self._post(StreamsFound(look, cands, True, None, note, not settled))
-                except StreamNotFound as exc:
-                    if settled:
-                        self._post(StreamsFound(look, found, False, None, f"{exc} — press r to look again"))
-                        return
-                else:
-                    if settled:  # one stream, and the look lasted long enough to say so
-                        self._post(StreamsFound(look, found, False, pinned, ""))
-                        return
-            done.wait(LOOK_POLL_S)
-
-    def _matching(self, found: Sequence[StreamIdentity]) -> list[StreamIdentity]:
-        """The streams that fit what the app was started with (all when nothing was pinned)."""
-        cfg = self._config
-        return [s for s in found
-                if (cfg.stream_name is None or s.name == cfg.stream_name)
-                and (cfg.source_id is None or s.source_id == cfg.source_id)
-                and (cfg.host is None or s.hostname == cfg.host)]
 
 
 # --- where the head map draws a connection's channels (the ``places`` hook) -----------

@@ -24,8 +24,8 @@ from bedside.ui.live import (
     LiveSession,
     MonitorStopped,
     ReconnectRefused,
-    StreamsFound,
 )
+from bedside.ui.look import StreamsFound
 
 
 class Harness:
