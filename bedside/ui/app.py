@@ -751,9 +751,13 @@ class BedsideApp(App[int]):
         self.impedance_verdicts = verdicts
 
     def impedance_view(self) -> ImpedanceView | None:
-        conn = self.connection
-        return self.impedances.view(self.impedance_verdicts, conn.channels if conn is not None else None,
-                                    self.profile)
+        """The Watch impedance line (None until a profile is loaded)."""
+        profile, conn = self.profile, self.connection
+        if profile is None:
+            return None
+        electrodes = [c.name for c in conn.channels if c.is_scalp] if conn is not None else list(self.typed_impedances)
+        return ImpedanceView(self.impedance_verdicts, electrodes, profile.impedance.limit_kohm, profile.name,
+                             self.impedances.due(profile.recheck_h))
 
     def known_electrodes(self) -> set[str]:
         """Electrodes an impedance may be typed for: the stream's channels while one is

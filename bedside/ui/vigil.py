@@ -5,7 +5,8 @@ electrode, the start gate and the sound cue (bedside.checks.ready, as ``check
 --until-good``), long-recording alerts and skin reminders (bedside.record.trends), and
 whether frames stopped. :class:`ImpedanceBook`: impedances typed in the Log view and
 the amplifier's, judged against the department profile's limit
-(bedside.checks.impedance). Both are pure and cheap; the app says what they return.
+(bedside.checks.impedance). Both are pure and cheap (no Textual); the app says what
+they return.
 """
 
 from __future__ import annotations
@@ -21,7 +22,6 @@ from bedside.checks.types import QualityFrame
 from bedside.record.trends import AlertKeeper, SkinReminder
 from bedside.stream.types import ChannelInfo
 from bedside.ui.progress import GoodTracker, Progress
-from bedside.ui.widgets.impedance_line import ImpedanceView
 
 
 @dataclass
@@ -119,13 +119,9 @@ class ImpedanceBook:
         limits = profile.impedance if profile is not None else ImpedanceLimits()
         return judge(merge(typed, published), limits)
 
-    def view(self, verdicts: dict[str, Verdict], channels: Sequence[ChannelInfo] | None,
-             profile: Any) -> ImpedanceView | None:
-        """The Watch impedance line (None until a profile is loaded)."""
-        if profile is None:
+    def due(self, recheck_h: float | None) -> float | None:
+        """When the impedances are due to be checked again (epoch seconds; None: no
+        interval, or no value yet)."""
+        if recheck_h is None or self.at is None:
             return None
-        electrodes = [c.name for c in channels if c.is_scalp] if channels is not None else list(self.typed)
-        due = None
-        if profile.recheck_h is not None and self.at is not None:
-            due = self.at + profile.recheck_h * 3600.0
-        return ImpedanceView(verdicts, electrodes, profile.impedance.limit_kohm, profile.name, due)
+        return self.at + recheck_h * 3600.0

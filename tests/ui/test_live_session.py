@@ -183,8 +183,8 @@ def test_a_look_pins_one_stream_and_an_ended_look_is_not_heard() -> None:
 
 
 def test_the_live_session_never_loads_textual() -> None:
-    code = ("import sys, bedside.ui.live\n"
+    code = ("import sys, bedside.ui.live, bedside.ui.look, bedside.ui.vigil\n"
             "bad = [m for m in sys.modules if m == 'textual' or m.startswith('textual.')]\n"
             "print(','.join(bad)); sys.exit(1 if bad else 0)\n")
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
-    assert proc.returncode == 0, f"bedside.ui.live loads Textual: {proc.stdout} {proc.stderr}"
+    assert proc.returncode == 0, f"the live session loads Textual: {proc.stdout} {proc.stderr}"
