@@ -7,7 +7,7 @@ message too: only the UI thread assigns the app's state (DEVELOPERS.md, "Thread 
 The frames' and impedances' bookkeeping is :mod:`bedside.ui.vigil`'s (plain Python).
 The UI never computes a quality metric.
 
-Why this module is still about 750 lines, not 400: what is left is the wiring itself,
+Why this module is still about 800 lines, not 400: what is left is the wiring itself,
 one message handler per answer (the live session's events, the log opening and
 closing, the department profile loading and its picker, the channels screen, the
 picker of streams, the plan and its export), each a few lines that assign the app's
