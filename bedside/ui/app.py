@@ -18,6 +18,7 @@ out (``live.py``, ``vigil.py``, ``host.py``).
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import logging
 import math
@@ -38,6 +39,7 @@ from bedside.checks.types import QualityFrame
 from bedside.errors import BedsideError
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
+from bedside.record.worker import LogWorker
 from bedside.stream.source import Source
 from bedside.stream.types import StreamIdentity
 from bedside.ui.config import VIEWS, AppConfig, View
@@ -66,7 +68,6 @@ from bedside.ui.screens.profiles import ProfilePicker
 from bedside.ui.screens.ward import WardScreen
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import ChannelPreview, Services, default_services
-from bedside.ui.session import RecorderGate
 from bedside.ui.vigil import FrameVigil, ImpedanceBook
 from bedside.ui.widgets.impedance_line import ImpedanceView
 from bedside.ui.widgets.stream_status import STATE_LOOK
@@ -93,7 +94,7 @@ class MapPoints(Message):
 
 
 class LogOpened(Message):
-    def __init__(self, gate: RecorderGate | None, error: str = "") -> None:
+    def __init__(self, gate: LogWorker[Any] | None, error: str = "") -> None:
         super().__init__()
         self.gate, self.error = gate, error
 
@@ -135,7 +136,7 @@ class BedsideApp(App[int]):
     #: The app's state the screens watch (bedside.ui.host); assigned on the UI thread only.
     connection: var[Connection | None] = var(None)
     places: var[MapPlaces] = var(MapPlaces({}))
-    recorder: var[RecorderGate | None] = var(None)
+    recorder: var[LogWorker[Any] | None] = var(None)
     status_note: var[str] = var("")
     #: Typed and amplifier impedances judged against the profile (bedside.checks.impedance).
     impedance_verdicts: var[dict[str, Verdict]] = var(dict, always_update=True)
@@ -273,7 +274,7 @@ class BedsideApp(App[int]):
         self._close_down(self.recorder)
 
     @work(thread=True, exclusive=True, group="close-down", exit_on_error=False)
-    def _close_down(self, gate: RecorderGate | None) -> None:
+    def _close_down(self, gate: LogWorker[Any] | None) -> None:
         problems = self.live.close()
         outcome = ""
         if gate is not None:
@@ -285,13 +286,13 @@ class BedsideApp(App[int]):
             gate.stop()
         self.post_message(ShutdownDone(problems, outcome))
 
-    def _close_log(self, gate: RecorderGate) -> str:
+    def _close_log(self, gate: LogWorker[Any]) -> str:
         """Save and close the log (any thread); what became of it, in words."""
-        gate.call("save_now")
+        gate.call(lambda r: r.save_now())
         if self.config.discard_empty_log:
-            gate.call("close", True)
+            gate.call(lambda r: r.close(True))
         else:
-            gate.call("close")
+            gate.call(lambda r: r.close())
         if getattr(gate.recorder, "discarded", False):
             return "nothing was recorded, so no setup log was kept"
         path = getattr(gate.recorder, "path", None) or self.config.log_path
@@ -432,7 +433,7 @@ class BedsideApp(App[int]):
         self.vigil.connected_at = time.monotonic()
         self.status_note = ""
         if self.recorder is not None:
-            self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+            self.recorder.submit(lambda r: r.set_stream(conn.identity, conn.channels), self._log_done("stream"))
         self._refresh_watch_status()
         if message.note:
             self.notify(message.note, timeout=8)
@@ -502,7 +503,7 @@ class BedsideApp(App[int]):
     def _frame_recorder(self) -> tuple[Any, Any] | None:
         """The log's on_frame and its lock (read on the monitor's thread)."""
         gate = self.recorder
-        return (gate.recorder.on_frame, gate.lock) if gate is not None else None
+        return (gate.recorder.on_frame, contextlib.nullcontext()) if gate is not None else None
 
     def on_frame_arrived(self, message: FrameArrived) -> None:
         if not self.live.is_current(message.generation):
@@ -510,8 +511,8 @@ class BedsideApp(App[int]):
         frame = message.frame
         news = self.vigil.take(frame)
         if news.ready is not None and self.recorder is not None:  # the log gets the first ready time
-            self.recorder.submit("set_ready", (news.ready.hold_s, news.ready.accepted, "app"),
-                                 self._log_done("ready"))
+            ready = news.ready
+            self.recorder.submit(lambda r: r.set_ready(ready.hold_s, ready.accepted, "app"), self._log_done("ready"))
         if news.ring and self.bell_on:  # ready, or a new fault
             self.bell()
         for text in news.alerts:  # long recordings: an electrode that degraded and stayed so
@@ -598,7 +599,7 @@ class BedsideApp(App[int]):
         self.plan = plan
         self.taped = taped
         if self.recorder is not None:
-            self.recorder.submit("set_plan", (plan, taped), self._log_done("marks"))
+            self.recorder.submit(lambda r: r.set_plan(plan, taped), self._log_done("marks"))
         if self.connection is not None:
             self._remap(self.connection, plan)
 
@@ -637,7 +638,7 @@ class BedsideApp(App[int]):
         except BedsideError as exc:
             self.post_message(LogOpened(None, str(exc)))
             return
-        self.post_message(LogOpened(RecorderGate(recorder)))
+        self.post_message(LogOpened(LogWorker(recorder)))
 
     def on_log_opened(self, message: LogOpened) -> None:
         if message.gate is None:
@@ -645,13 +646,14 @@ class BedsideApp(App[int]):
             self.notify(f"setup log not open: {message.error}", severity="error", timeout=10)
             return
         self.recorder = message.gate  # the Log view watches it: its status line and file name, now
-        if self.profile is not None:
-            message.gate.submit("set_profile", (self.profile.name, self.profile.sha256), self._log_done("profile"))
-        if self.plan is not None:
-            message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
+        profile, plan, taped = self.profile, self.plan, self.taped
+        if profile is not None:
+            message.gate.submit(lambda r: r.set_profile(profile.name, profile.sha256), self._log_done("profile"))
+        if plan is not None:
+            message.gate.submit(lambda r: r.set_plan(plan, taped), self._log_done("marks"))
         if self.connection is not None:
             conn = self.connection
-            message.gate.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+            message.gate.submit(lambda r: r.set_stream(conn.identity, conn.channels), self._log_done("stream"))
 
     def _log_done(self, what: str) -> Any:
         def done(ok: bool, text: str, status: Any) -> None:
@@ -671,7 +673,7 @@ class BedsideApp(App[int]):
         if log_screen is not None and log_screen.is_mounted:
             log_screen.action_save()
         else:
-            self.recorder.submit("save_now", (), self._log_done("save"))
+            self.recorder.submit(lambda r: r.save_now(), self._log_done("save"))
             self.notify("log saved", timeout=2)
 
     # --- department profile and impedances --------------------------------------------
@@ -708,7 +710,7 @@ class BedsideApp(App[int]):
         before = self.profile
         self.profile = profile
         if self.recorder is not None and (before is None or (before.name, before.sha256) != (profile.name, profile.sha256)):
-            self.recorder.submit("set_profile", (profile.name, profile.sha256), self._log_done("profile"))
+            self.recorder.submit(lambda r: r.set_profile(profile.name, profile.sha256), self._log_done("profile"))
 
     def open_profiles(self) -> None:
         """The department profile picker (Watch: d); the list is read in a worker."""

@@ -19,12 +19,12 @@ if TYPE_CHECKING:
     from bedside.checks.types import QualityFrame
     from bedside.placement.types import PlacementPlan
     from bedside.record.log import TapedMeasurements
+    from bedside.record.worker import LogWorker
     from bedside.stream.types import StreamIdentity
     from bedside.ui.config import AppConfig
     from bedside.ui.live import Connection, MapPlaces
     from bedside.ui.progress import Progress
     from bedside.ui.services import Services
-    from bedside.ui.session import RecorderGate
     from bedside.ui.widgets.impedance_line import ImpedanceView
 
 
@@ -41,7 +41,7 @@ class BedsideHost(Protocol):
     def connection(self) -> Connection | None: ...
 
     @property
-    def recorder(self) -> RecorderGate | None: ...
+    def recorder(self) -> LogWorker[Any] | None: ...
 
     @property
     def identity(self) -> StreamIdentity | None: ...

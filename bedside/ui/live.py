@@ -46,7 +46,8 @@ class DisplaySource(Source, Protocol):
     """The source as the monitor reads it, keeping a display copy (``buffer``) of what
     passes (bedside.ui.feed.TeeSource)."""
 
-    buffer: Any
+    @property
+    def buffer(self) -> Any: ...
 
     def other_candidates(self) -> tuple[StreamIdentity, ...]: ...
 
