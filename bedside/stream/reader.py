@@ -305,8 +305,10 @@ class LslSource:
 
     def other_candidates(self) -> tuple[StreamIdentity, ...]:
         """Streams with this stream's name but another source_id or shape, seen since
-        opening. They are never used by this source; open a new LslSource to trust one."""
-        return tuple(self._others.values())
+        opening. They are never used by this source; open a new LslSource to trust one.
+        Safe from any thread: read under the lock the reading thread updates them under."""
+        with self._watch_lock:
+            return tuple(self._others.values())
 
     def close(self) -> None:
         """Release the inlet (idempotent; safe from another thread: waits for a pull in

@@ -41,12 +41,7 @@ class PassThrough:
     def other_candidates(self) -> tuple[StreamIdentity, ...]:
         """Streams with the pinned stream's name but another source_id (never used unasked)."""
         others = getattr(self._inner, "other_candidates", None)
-        if others is None:
-            return ()
-        try:
-            return tuple(others())
-        except RuntimeError:  # read while the monitor's thread updates it: ask next time
-            return ()
+        return tuple(others()) if others is not None else ()
 
     def close(self) -> None:
         self._inner.close()

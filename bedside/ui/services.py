@@ -9,7 +9,7 @@ import or a missing liblsl never blocks the screen.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Protocol
 
@@ -335,7 +335,6 @@ class Services:
     chain_partner: Callable[[str, Sequence[str]], str | None] = _chain_partner
     plan_montage: Callable[[Sequence[str], Sequence[bool], str], Any] = _plan_montage
     derive_montage: Callable[[Any, Any, Sequence[bool]], Any] = _derive_montage
-    extra: dict[str, Any] = field(default_factory=dict)
 
 
 def default_services() -> Services:

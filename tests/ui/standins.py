@@ -18,8 +18,9 @@ from typing import Any
 import numpy as np
 
 from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
-from bedside.errors import InputError, MeasurementError
+from bedside.errors import BedsideError, InputError, MeasurementError, StreamNotFound
 from bedside.placement.types import HeadMeasurements, Mark, PlacementPlan
+from bedside.stream.tee import PassThrough
 from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
 from bedside.ui.services import Services
 
@@ -425,3 +426,89 @@ async def edit_channel(pilot: Any, row: int, *, name: str | None = None, kind: s
         await pilot.press("home", "ctrl+k", *kind.lower())
     await pilot.press("enter")
     await pilot.pause(0.1)
+
+
+# --- the live session's stand-ins (tests/ui/test_live_session.py, test_quick_picks.py) ---
+class CountingMonitor:
+    """Sends a frame every 20 ms; counts the monitors running at once (class-wide)."""
+
+    lock = threading.Lock()
+    running = 0
+    most = 0
+    made: list[CountingMonitor] = []
+
+    def __init__(self, source: Any, engine: Any, on_frame: Callable[[QualityFrame], None], hz: float,
+                 fail_after: int | None = None) -> None:
+        self.source, self.on_frame, self.fail_after = source, on_frame, fail_after
+        self.error: BedsideError | None = None
+        self.sent = 0
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._run, daemon=True)
+        self.started = self.stopped = False
+        with CountingMonitor.lock:
+            CountingMonitor.made.append(self)
+
+    def wall_time(self) -> float:
+        """This monitor's frames carry its number in the thousands (1000 + 1000·n + k)."""
+        return 1000.0 + 1000.0 * CountingMonitor.made.index(self) + self.sent
+
+    @classmethod
+    def reset(cls) -> None:
+        with cls.lock:
+            cls.running, cls.most, cls.made = 0, 0, []
+
+    def start(self) -> None:
+        with CountingMonitor.lock:
+            CountingMonitor.running += 1
+            CountingMonitor.most = max(CountingMonitor.most, CountingMonitor.running)
+        self.started = True
+        self._thread.start()
+
+    def stop(self) -> None:
+        self._stop.set()
+        self._thread.join(timeout=2)
+        if self.started and not self.stopped:
+            with CountingMonitor.lock:
+                CountingMonitor.running -= 1
+        self.stopped = True
+
+    def _run(self) -> None:
+        while not self._stop.is_set():
+            self.source.pull(0.0)
+            if self.fail_after is not None and self.sent >= self.fail_after:
+                # As bedside.checks.monitor.Monitor does: the error is set, then a last frame.
+                self.error = BedsideError("the stream's channel count changed")
+                self.on_frame(frame(state="lost"))
+                return
+            self.sent += 1
+            self.on_frame(frame(wall_time=self.wall_time()))
+            self._stop.wait(0.02)
+
+
+class Display(PassThrough):
+    """The display copy stand-in: passes through, holds nothing (no Textual)."""
+
+    def __init__(self, inner: Any, seconds: float) -> None:
+        super().__init__(inner)
+        self.buffer = None
+
+
+class Opener:
+    """open_source that takes ``delay_s`` (an LSL inlet being resolved) and names each
+    source by the stream; ``refuse`` raises for the named streams."""
+
+    def __init__(self, delay_s: float = 0.0) -> None:
+        self.delay_s = delay_s
+        self.opened: list[Any] = []
+        self.refuse: set[str] = set()
+        self.lock = threading.Lock()
+
+    def __call__(self, ident: StreamIdentity, choices: Any) -> Any:
+        time.sleep(self.delay_s)
+        if ident.name in self.refuse:
+            raise StreamNotFound(f"stream {ident.name!r} is gone")
+        src = FixedSource()
+        src._identity = ident  # noqa: SLF001 - a stand-in named after the stream opened
+        with self.lock:
+            self.opened.append(src)
+        return src

@@ -299,7 +299,7 @@ async def test_the_app_engine_gets_the_same_options_as_check(state_home: Path) -
     ``bedside check``'s (one function, ``bedside.engine_setup.engine_options``)."""
     from bedside.checks.settings import load_quality
     from bedside.engine_setup import engine_options
-    from bedside.ui.session import engine_neighbours
+    from bedside.ui.live import engine_neighbours
 
     src = AmplifierLikeSource("amp-7", ChannelOptions(amplifier="ac-passive"))
     engine, note = Services().make_engine(load_quality(), src)

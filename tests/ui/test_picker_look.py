@@ -121,7 +121,7 @@ async def test_real_outlets_fill_the_picker_long_before_the_look_ends() -> None:
             assert await _until(pilot, lambda: listed(names | {late.info.name()}), tries=patience)
             assert app.connection is None
             await pilot.press("escape")
-            assert await _until(pilot, lambda: app._look is None)
+            assert await _until(pilot, lambda: not app.live.looking)
     finally:
         for f in made:
             f.close()

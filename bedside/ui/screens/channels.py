@@ -13,7 +13,7 @@ it was.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, cast
+from typing import TYPE_CHECKING
 
 from rich.text import Text
 from textual import work
@@ -27,11 +27,11 @@ from textual.widgets import DataTable, Input, Label, Static
 
 from bedside.errors import BedsideError
 from bedside.stream.types import ChannelInfo
+from bedside.ui.host import HostedScreen
 from bedside.ui.services import ChannelPreview
 
 if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
-    from bedside.ui.session import Connection
+    from bedside.ui.live import Connection
 
 #: What decided a channel's type (ChannelInfo.evidence), in the technologist's words.
 EVIDENCE_WORDS = {
@@ -82,7 +82,7 @@ class ChoicesChecked(Message):
         self.generation, self.preview, self.error, self.apply = generation, preview, error, apply
 
 
-class ChannelsScreen(ModalScreen[ChannelPreview | None]):
+class ChannelsScreen(HostedScreen, ModalScreen[ChannelPreview | None]):
     """Dismissed with the checked new set (a ChannelPreview), or None when cancelled."""
 
     BINDINGS = [
@@ -102,10 +102,6 @@ class ChannelsScreen(ModalScreen[ChannelPreview | None]):
         self.message = ""
         self._generation = 0
         self._checked: ChannelPreview | None = None  # the last set the core accepted
-
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
 
     def compose(self) -> ComposeResult:
         ident = self.connection.identity

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable
-from typing import TYPE_CHECKING, Any, cast
+from typing import Any
 
 from rich.text import Text
 from textual import work
@@ -25,10 +25,8 @@ from textual.widgets import Button, DataTable, Footer, Header, Input, Label, Sta
 from bedside.checks.impedance import over_limit
 from bedside.checks.ready import Accepted, not_good_electrodes
 from bedside.errors import BedsideError
+from bedside.ui.host import HostedScreen
 from bedside.ui.screens.sign_off import SignOffReasons
-
-if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
 
 
 class LogResult(Message):
@@ -91,7 +89,7 @@ def file_words(path: Any, kept: bool = True) -> Text:
     return out
 
 
-class LogScreen(Screen[None]):
+class LogScreen(HostedScreen, Screen[None]):
     BINDINGS = [
         Binding("ctrl+s", "save", "Save"),
         Binding("ctrl+o", "sign_off", "Sign off"),
@@ -103,10 +101,6 @@ class LogScreen(Screen[None]):
         self.notes: list[tuple[str, str]] = []
         self.impedances: dict[str, float] = {}
         self.signed = ""  # "JM at 20:16:52" once the log accepted the sign-off
-
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
 
     def compose(self) -> ComposeResult:
         cfg = self.bedside.config
@@ -145,7 +139,12 @@ class LogScreen(Screen[None]):
         notes.add_column("at", key="at", width=8)
         notes.add_column("note", key="text", width=60)
         self.query_one("#tech", Input).focus()
+        # The autosave runs on its own thread and says nothing: its status is asked every
+        # 2 s; a log that opens (or closes) is shown at once.
         self.set_interval(2.0, self.refresh_status)
+        self.watch(self.app, "recorder", self._recorder_changed)
+
+    def _recorder_changed(self) -> None:
         self.refresh_status()
 
     # --- talking to the log (worker threads) ----------------------------------

@@ -6,7 +6,6 @@ Validation and planning run in a worker thread; results come back as messages.
 from __future__ import annotations
 
 import re
-from typing import TYPE_CHECKING, cast
 
 from rich.text import Text
 from textual import events, work
@@ -22,10 +21,9 @@ from bedside.placement.sheet import as_taped, grouped, in_unit
 from bedside.placement.types import Mark, PlacementPlan
 from bedside.record.log import TapedMeasurements
 from bedside.ui.export import plan_as_text, short_line
+from bedside.ui.host import HostedScreen
 from bedside.ui.widgets.head_map import HeadMap
 
-if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
 
 def in_app_terms(text: str) -> str:
     """A placement message worded for the command line, in this form's terms."""
@@ -118,7 +116,7 @@ class MeasureInvalid(Message):
         self.generation = generation
 
 
-class MeasureScreen(Screen[None]):
+class MeasureScreen(HostedScreen, Screen[None]):
     BINDINGS = [
         Binding("f5", "export", "Save sheet"),
         Binding("f6", "copy_sheet", "Copy"),
@@ -135,10 +133,6 @@ class MeasureScreen(Screen[None]):
         # Every edit starts a new generation; a worker's answer for an older one is dropped,
         # so marks computed from what was typed before never reappear (one owner: the UI thread).
         self._generation = 0
-
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
 
     def compose(self) -> ComposeResult:
         cfg = self.bedside.config

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import threading
 import time
-from typing import TYPE_CHECKING, Any, cast
+from typing import Any
 
 from rich.text import Text
 from textual import work
@@ -26,9 +26,7 @@ from textual.widgets import DataTable, Footer, Header, Static
 
 from bedside.cautions import TAP_CAUTION
 from bedside.errors import BedsideError
-
-if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
+from bedside.ui.host import HostedScreen
 
 #: How often the worker reads the new samples (s of wall clock).
 POLL_S = 0.1
@@ -50,7 +48,7 @@ class TapSteps(Message):
         self.finished, self.problems, self.stopped = finished, problems, stopped
 
 
-class TapTestScreen(Screen[None]):
+class TapTestScreen(HostedScreen, Screen[None]):
     DEFAULT_CSS = """
     TapTestScreen #tap-caution { color: $text-muted; padding: 0 1; }
     TapTestScreen #tap-prompt { height: 3; content-align: center middle; text-style: bold; }
@@ -67,15 +65,14 @@ class TapTestScreen(Screen[None]):
         super().__init__(name="tap-test")
         self._run = 0
         self._stop = threading.Event()
+        #: Set when the app watches another connection than the walk's (UI thread sets it).
+        self._switched = threading.Event()
+        self._walk_conn: Any = None
         self._prompt: Any = None
         self._results: list[Any] = []
         self.finished = False
         self.problems: tuple[Any, ...] = ()
         self.timeout_s = 0.0
-
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
 
     def compose(self) -> ComposeResult:
         yield Header(show_clock=False)
@@ -88,7 +85,12 @@ class TapTestScreen(Screen[None]):
     def on_mount(self) -> None:
         table = self.query_one(DataTable)
         table.add_columns("electrode", "result", "shows on", "size", "× others", "said")
+        self.watch(self.app, "connection", self._connection_changed, init=False)
         self._begin()
+
+    def _connection_changed(self, conn: Any) -> None:
+        if self._walk_conn is not None and conn is not self._walk_conn:
+            self._switched.set()
 
     def on_unmount(self) -> None:
         self._stop.set()
@@ -102,20 +104,20 @@ class TapTestScreen(Screen[None]):
 
     def _begin(self) -> None:
         self._stop.set()
-        self._stop = threading.Event()
+        self._stop, self._switched = threading.Event(), threading.Event()
         self._run += 1
         self._results, self._prompt, self.finished, self.problems = [], None, False, ()
         self.query_one(DataTable).clear()
         self.query_one("#tap-summary", Static).update("")
-        conn = self.bedside.connection
+        conn = self._walk_conn = self.bedside.connection
         if conn is None:
             self._say_prompt(Text("no stream yet — connect on Watch (F3) first", style="bold yellow"))
             return
         self._say_prompt(Text("getting ready…"))
-        self._walk(conn, self._run, self._stop)
+        self._walk(conn, self._run, self._stop, self._switched)
 
     @work(thread=True, exclusive=True, group="tap-walk", exit_on_error=False)
-    def _walk(self, conn: Any, run: int, stop: threading.Event) -> None:
+    def _walk(self, conn: Any, run: int, stop: threading.Event, switched: threading.Event) -> None:
         app = self.bedside
         buffer = conn.tee.buffer
         names = [c.name for c in conn.channels]
@@ -136,8 +138,8 @@ class TapTestScreen(Screen[None]):
             if new.shape[0]:
                 last_data = time.monotonic()
                 self.post_message(TapSteps(run, walk.feed(new), walk.detector.now_s))
-            elif time.monotonic() - last_data > max(5.0, walk.timeout_s) or app.connection is not conn:
-                why = "the stream stopped" if app.connection is conn else "the stream was switched"
+            elif time.monotonic() - last_data > max(5.0, walk.timeout_s) or switched.is_set():
+                why = "the stream was switched" if switched.is_set() else "the stream stopped"
                 walk.stop(why)
                 self.post_message(TapSteps(run, [], walk.detector.now_s, stopped=why))
                 return

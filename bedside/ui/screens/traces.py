@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, cast
+from typing import Any, cast
 
 from rich.text import Text
 from textual import work
@@ -28,10 +28,8 @@ from textual.screen import Screen
 from textual.widgets import Footer, Header, Static
 
 from bedside.checks.types import NO_DATA_COLOUR, NO_DATA_SYMBOL, NO_DATA_WORD, Level
+from bedside.ui.host import HostedScreen
 from bedside.ui.plots import lane_lines
-
-if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
 
 #: The montages the page offers, in the order ``m`` cycles them (bedside.montage.MONTAGES).
 MONTAGES = ("recorded", "average", "longitudinal", "transverse")
@@ -79,7 +77,7 @@ class PageReady(Message):
         return isinstance(message, PageReady)
 
 
-class TracesScreen(Screen[str | None]):
+class TracesScreen(HostedScreen, Screen[str | None]):
     BINDINGS = [
         Binding("escape", "back", "Watch"),
         Binding("m", "montage", "Montage"),
@@ -102,10 +100,6 @@ class TracesScreen(Screen[str | None]):
         self._page: PageReady | None = None
         self._generation = 0
         self.uv_per_row = 50.0
-
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
 
     def compose(self) -> ComposeResult:
         yield Header(show_clock=False)

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import functools
 from collections.abc import Callable
-from typing import TYPE_CHECKING, Any, TypeVar, cast
+from typing import Any, TypeVar, cast
 
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -19,6 +19,8 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header
 
 from bedside.checks.types import Level, QualityFrame
+from bedside.ui.host import HostedScreen
+from bedside.ui.live import MapPlaces
 from bedside.ui.plots import DERIVATIONS, Derivation
 from bedside.ui.progress import Progress
 from bedside.ui.screens.traces import TracesScreen
@@ -29,9 +31,6 @@ from bedside.ui.widgets.impedance_line import ImpedanceLine
 from bedside.ui.widgets.ready_line import ReadyLine
 from bedside.ui.widgets.stream_status import StreamStatus
 from bedside.ui.widgets.trace_view import TraceRequest, TraceView
-
-if TYPE_CHECKING:
-    from bedside.ui.app import BedsideApp
 
 F = TypeVar("F", bound=Callable[..., None])
 
@@ -51,7 +50,7 @@ def while_mounted(method: F) -> F:
     return cast(F, wrapper)
 
 
-class WatchScreen(Screen[None]):
+class WatchScreen(HostedScreen, Screen[None]):
     BINDINGS = [
         Binding("t", "toggle_trace", "Trace"),
         # Shown in the footer: what fits 80 columns beside the views' keys; the rest is
@@ -76,10 +75,6 @@ class WatchScreen(Screen[None]):
         self._ready = False  # set once the widgets are mounted (frames may come sooner)
         self._trace_wanted: bool | None = None  # None: decided by the terminal's height
 
-    @property
-    def bedside(self) -> BedsideApp:
-        return cast("BedsideApp", self.app)
-
     def compose(self) -> ComposeResult:
         yield Header(show_clock=False)
         yield StreamStatus(id="stream-status")
@@ -95,12 +90,14 @@ class WatchScreen(Screen[None]):
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.query_one(HeadMap).set_points(self.bedside.points, self.bedside.unplaced)
         self.query_one(ChannelTable).focus()
         self.set_interval(0.5, self._request_trace)
         self.query_one(TraceView).clear("select a channel (↑/↓) to see its trace")
         self._ready = True
-        self.refresh_status()
+        # The app's state this screen follows (bedside.ui.host): set now, then on each change.
+        self.watch(self.app, "places", self._places_changed)
+        self.watch(self.app, "status_note", lambda: self.refresh_status())
+        self.watch(self.app, "impedance_verdicts", lambda: self.show_impedances())
         if self.bedside.latest_frame is not None:
             self.show_frame(self.bedside.latest_frame, self.bedside.progress, live=self.bedside.is_live())
 
@@ -123,15 +120,18 @@ class WatchScreen(Screen[None]):
 
     def on_screen_resume(self) -> None:
         self.bedside.open_pending_confirm()  # a new stream's channels, if they wait
-        self.set_points(self.bedside.points, self.bedside.unplaced)
         self.refresh_status()
         app = self.bedside
         if app.latest_frame is not None:
             self.show_frame(app.latest_frame, app.progress, live=app.is_live())
 
     # --- fed by the app -------------------------------------------------------
+    def _places_changed(self, places: MapPlaces) -> None:
+        self.set_points(places.points, places.unplaced)
+
     @while_mounted
     def set_points(self, points: dict[str, tuple[float, float]], unplaced: tuple[str, ...] = ()) -> None:
+        """Where the head map draws (the app's ``places``; ``bedside bench`` sets its own)."""
         self.query_one(HeadMap).set_points(points, unplaced)
 
     @while_mounted
