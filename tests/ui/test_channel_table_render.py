@@ -144,6 +144,7 @@ async def test_draws_what_datatable_draws() -> None:
     app = PairApp()
     async with app.run_test(size=(240, 30)) as pilot:
         ours = app.query_one(ChannelTable)
+        assert await compare(app, pilot) == 0  # before any frame: nothing drawn
         ours.show(frame(0), True, {"E3": 12.0})
         await pilot.pause()
         # E4 has no level in this frame: grey '?' from the very first frame on
@@ -187,13 +188,17 @@ async def test_keys_and_clicks_do_what_they_do_in_datatable() -> None:
             ("ctrl+end",), ("pageup", "pageup"), ("ctrl+home",), ("end",), ("home",),
             ("enter",), ("up",), ("pagedown", "enter"),
         ]
+        kinds: set[str] = set()
         for keys in steps:
             app.messages.clear()
             await both(pilot, app, *keys)
             assert ours.cursor_row == stock.cursor_row, keys
             assert ours.scroll_offset == stock.scroll_offset, keys
-            by_table = {w: [m[0::2] for m in app.messages if m[1] == w] for w in ("ours", "stock")}
+            by_table = {w: [(m[0], m[2], m[3]) for m in app.messages if m[1] == w] for w in ("ours", "stock")}
             assert by_table["ours"] == by_table["stock"], keys
+            kinds.update(m[0] for m in by_table["ours"])
+        assert kinds == {"highlighted", "selected"}  # both kinds of message were compared
+        assert ours.scroll_offset.y > 0
         # A click moves the cursor; a click on the cursor row selects it.
         for offset in ((5, 3), (5, 3), (5, 6)):
             app.messages.clear()
@@ -201,8 +206,17 @@ async def test_keys_and_clicks_do_what_they_do_in_datatable() -> None:
                 await pilot.click(widget, offset=offset)
                 await pilot.pause()
             assert ours.cursor_row == stock.cursor_row
-            by_table = {w: [m[0::2] for m in app.messages if m[1] == w] for w in ("ours", "stock")}
+            by_table = {w: [(m[0], m[2], m[3]) for m in app.messages if m[1] == w] for w in ("ours", "stock")}
             assert by_table["ours"] == by_table["stock"], offset
+        await compare(app, pilot)
+        # Other channels: the table is rebuilt, the cursor goes back to the first row.
+        app.messages.clear()
+        fewer = frame(2)
+        ours.show(QualityFrame(2.0, 2.0, fewer.channels[5:30], (), si.health(), 4.0, {}), True, {})
+        mirror(ours, stock)
+        await pilot.pause()
+        by_table = {w: [(m[0], m[2], m[3]) for m in app.messages if m[1] == w] for w in ("ours", "stock")}
+        assert by_table["ours"] == by_table["stock"] == [("highlighted", 0, "E6")]
         await compare(app, pilot)
 
 

@@ -208,7 +208,6 @@ class RowTable(ScrollView, can_focus=True):
         self._hover = 0
         self._hover_shown = False
         self._layout_pending = False
-        self.virtual_size = Size(0, HEADER_HEIGHT)  # the header line, before any rows
 
     # --- content ------------------------------------------------------------------
     @property
