@@ -70,7 +70,9 @@ class _Look:
         if styles is None:
             pre = self.pre + Style.from_meta({"column": column})
             blank = pre + self.post
-            styles = self.cells[(column, own)] = (blank, blank if own is None else pre + own + self.post)
+            text = blank if own is None else pre + own + self.post
+            # The same object when they look alike, so the row joins them (see _draw_row).
+            styles = self.cells[(column, own)] = (blank, blank if text == blank else text)
         return styles
 
 
@@ -326,28 +328,37 @@ class RowTable(ScrollView, can_focus=True):
     def _draw_row(self, index: int, cursor: bool, hover: bool, width: int, scroll_x: int) -> Strip:
         """One row as DataTable draws it: each cell padded and cut to its column, each
         cell its own segments (a cell's parts of one style joined), then the row's look
-        out to the widget's width."""
+        out to the widget's width. Cells right of the view are left out."""
         look = self._look(index, hover, cursor)
         segments: list[Segment] = []
         cells = self._header if index < 0 else self._rows[index]
+        right = scroll_x + width
+        length = 0
         for c, ((text, own), column) in enumerate(zip(cells, self._columns, strict=True)):
+            if length >= right:
+                break
             inner = column.width
             used = cell_len(text)
-            if used > inner:
-                text, used = set_cell_size(text, inner), inner
+            if used > inner:  # cut at the column (a plain slice when every character is one cell)
+                text = text[:inner] if used == len(text) else set_cell_size(text, inner)
+                used = inner
             rest = " " * (inner - used + PAD)
             blank, styled = look.cell(c, own if text else None)
-            if styled == blank:
+            if styled is blank:
                 segments.append(Segment(" " * PAD + text + rest, blank))
             else:
                 segments += (Segment(" " * PAD, blank), Segment(text, styled), Segment(rest, blank))
-        length = self._table_width
-        fill = max(0, width - length)
-        segments.append(Segment(" " * fill, look.fill))
-        strip = Strip(segments, length + fill)
-        if scroll_x or length + fill != width:
-            strip = strip.crop(scroll_x, scroll_x + width)
-        return strip.adjust_cell_length(width, self.rich_style)
+            length += inner + 2 * PAD
+        if length < right:
+            fill = max(0, width - self._table_width)
+            segments.append(Segment(" " * fill, look.fill))
+            length += fill
+        strip = Strip(segments, length)
+        if scroll_x or length != width:
+            strip = strip.crop(scroll_x, right)
+        if strip.cell_length != width:  # scrolled past the end
+            strip = strip.adjust_cell_length(width, self.rich_style)
+        return strip
 
     def _refresh_rows(self, indices: Sequence[int]) -> None:
         """Repaint the visible lines of these rows (runs of neighbours as one region)."""
