@@ -6,9 +6,9 @@ widget the channel table replaced, holding the same columns (labels, widths) and
 style (the style's mouse metadata left out: DataTable tags each cell with its row and
 column, the channel table finds the row from the mouse position), after frames with
 long reasons (cut at the column), no-data rows, a moved cursor, a scrolled view, the
-mouse over a row and over the header, without focus and at a narrower terminal. The
-same keys and clicks go to both, and the cursor, the scroll position and the messages
-they post must agree.
+mouse over a row and over the header, without focus, at a narrower terminal and in a
+light theme. The same keys and clicks go to both, and the cursor, the scroll position
+and the messages they post must agree.
 """
 
 from __future__ import annotations
@@ -172,6 +172,9 @@ async def test_draws_what_datatable_draws() -> None:
         await compare(app, pilot)
         await both(pilot, app, "right", "right", "right")
         assert ours.scroll_offset.x > 0
+        await compare(app, pilot)
+        app.theme = "textual-light"  # another theme, not dark: every style drawn anew
+        await pilot.pause()
         await compare(app, pilot)
 
 
