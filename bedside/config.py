@@ -21,6 +21,7 @@ import stat
 import types
 import typing
 from collections.abc import Callable, Mapping
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, TypeVar
 
@@ -71,28 +72,67 @@ _LineLoader.add_constructor(
 )
 
 
-def read_yaml(path: Path | str) -> Any:
-    """Parse a YAML file safely; errors name the file and line."""
+@dataclass(frozen=True)
+class FileKind:
+    """What :func:`read_guarded` expected to find, and how its refusals say so: each
+    message follows ``<path>: `` (``too_large`` is given the size in bytes)."""
+
+    error: type[BedsideError]
+    max_bytes: int
+    missing: str
+    folder: str
+    not_regular: str
+    too_large: Callable[[int], str]
+
+
+#: A settings file (``configs/*.yaml``, a profile, a scenario): ConfigError.
+SETTINGS_FILE = FileKind(
+    error=ConfigError,
+    max_bytes=MAX_CONFIG_BYTES,
+    missing="file not found",
+    folder="a folder; a YAML settings file is needed",
+    not_regular="not a regular file; a YAML settings file is needed",
+    too_large=lambda size: (
+        f"{size} bytes is too large for a settings file (at most {MAX_CONFIG_BYTES} bytes accepted)"
+    ),
+)
+
+
+def read_guarded(path: Path | str, kind: FileKind) -> bytes:
+    """The bytes of a file bedside reads whole (a settings file, a setup log), refused
+    with ``kind.error`` and a message naming the path before anything is read when it
+    is missing, a folder, not a regular file (a device such as /dev/zero, which would
+    be read without end; a pipe), larger than ``kind.max_bytes``, unreadable, or named
+    with a NUL byte (which no file can have). The one guarded read: the config loader
+    and the setup log both read through it."""
     path = Path(path)
     try:
         info = path.stat()
+        if stat.S_ISDIR(info.st_mode):
+            raise kind.error(f"{path}: {kind.folder}")
         if not stat.S_ISREG(info.st_mode):
-            kind = "a folder" if stat.S_ISDIR(info.st_mode) else "not a regular file"
-            raise ConfigError(f"{path}: {kind}; a YAML settings file is needed")
-        if info.st_size > MAX_CONFIG_BYTES:
-            raise ConfigError(
-                f"{path}: {info.st_size} bytes is too large for a settings file "
-                f"(at most {MAX_CONFIG_BYTES} bytes accepted)"
-            )
-        text = path.read_text(encoding="utf-8")
+            raise kind.error(f"{path}: {kind.not_regular}")
+        if info.st_size > kind.max_bytes:
+            raise kind.error(f"{path}: {kind.too_large(info.st_size)}")
+        return path.read_bytes()
     except FileNotFoundError as exc:
-        raise ConfigError(f"{path}: file not found") from exc
+        raise kind.error(f"{path}: {kind.missing}") from exc
+    except IsADirectoryError as exc:
+        raise kind.error(f"{path}: {kind.folder}") from exc
     except OSError as exc:
-        raise ConfigError(f"{path}: cannot read ({exc.strerror})") from exc
+        raise kind.error(f"{path}: cannot read ({exc.strerror})") from exc
+    except ValueError as exc:  # a path with a NUL byte in it
+        raise kind.error(f"{str(path)!r}: not a usable file name ({exc})") from exc
+
+
+def read_yaml(path: Path | str) -> Any:
+    """Parse a YAML file safely; errors name the file and line."""
+    path = Path(path)
+    raw = read_guarded(path, SETTINGS_FILE)
+    try:
+        text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise ConfigError(f"{path}: not UTF-8 text ({exc.reason})") from exc
-    except ValueError as exc:  # a path with a NUL byte in it, which no file can have
-        raise ConfigError(f"{str(path)!r}: not a usable file name ({exc})") from exc
     try:
         return yaml.load(text, Loader=_LineLoader)  # noqa: S506 - _LineLoader is a SafeLoader
     except ConfigError as exc:

@@ -2,7 +2,7 @@
 
 Run from the repository: ``.venv/bin/python -m bench.latency [scenario-or-yaml]``.
 Without an argument it uses the built-in invented scenario with one fault of each
-kind (bedside.checks.benchmark.LATENCY_SCENARIO). ``bedside bench`` prints the same.
+kind (bedside.bench.engine.LATENCY_SCENARIO). ``bedside bench`` prints the same.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ import sys
 import tempfile
 from pathlib import Path
 
-from bedside.checks.benchmark import fault_latency, latency_scenario_path
+from bedside.bench.engine import fault_latency, latency_scenario_path
 
 
 def main(argv: list[str]) -> int:

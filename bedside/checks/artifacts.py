@@ -23,7 +23,17 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import BAD, CHECK, GOOD, CheckResult, Context, levels_from, robust_z
+from bedside.checks.base import (
+    BAD,
+    CHECK,
+    GOOD,
+    Check,
+    CheckResult,
+    Context,
+    Shared,
+    levels_from,
+    robust_z,
+)
 from bedside.checks.line_noise import MAINS_CANDIDATES_HZ, band_power
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum
@@ -133,3 +143,22 @@ def amplitude(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Ch
             f"{what} amplitude: {rms[i]:.0f} µV RMS — poor contact? re-seat or re-prepare the electrode"
         )
     return CheckResult("amplitude", {"rms_uv": rms, "amplitude_z": z}, level, reasons)
+
+
+_REFERENCE_FIRST = "check the reference electrode first (contact, gel)"
+POPS = Check(
+    "pops", "stats", lambda i, ctx, s: pops(i.stats, ctx, s), headline="pops", settings="artifacts",
+    shared=Shared("reference", "pops", _REFERENCE_FIRST, "covariance"), faults=("pop",),
+)
+CLIPPING = Check(
+    "clipping", "stats", lambda i, ctx, s: clipping(i.stats, ctx, s), headline="clip_fraction",
+    settings="artifacts", faults=("clipping",),
+)
+MUSCLE = Check(
+    "muscle", "spectrum", lambda i, ctx, s: muscle(i.spectrum, ctx, s), headline="muscle_ratio",
+    settings="artifacts", faults=("muscle",),
+)
+AMPLITUDE = Check(
+    "amplitude", "stats", lambda i, ctx, s: amplitude(i.stats, ctx, s), headline="rms_uv", settings="artifacts",
+    shared=Shared("reference", "high amplitude", _REFERENCE_FIRST, "covariance"), faults=("drift",),
+)

@@ -1,19 +1,29 @@
-"""What every check receives and returns.
+"""What every check receives and returns, and the one protocol every check declares.
 
-A check is a pure function ``evaluate(stats, spectrum, ctx, settings) -> CheckResult``
-over arrays shaped per channel (n_channels,), vectorised across channels. Levels are
-integers 0 (good), 1 (check), 2 (bad); the engine turns them into
+A check is a pure function over arrays shaped per channel (n_channels,), vectorised
+across channels, declared as a :class:`Check` (its name, what it reads, its headline
+metric, the remedy when its fault is shared through the reference, its settings
+section); ``bedside.checks.registry.CHECKS`` lists them and the engine runs that list.
+Levels are integers 0 (good), 1 (check), 2 (bad); the engine turns them into
 :class:`~bedside.checks.types.Level` and applies the hold.
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Literal, NamedTuple
 
 import numpy as np
 
 from bedside.checks.types import Finding
+
+if TYPE_CHECKING:
+    from bedside.checks.bridging import BridgeDetector
+    from bedside.checks.correlation import History
+    from bedside.checks.settings import QualitySettings
+    from bedside.checks.spectrum import Spectrum
+    from bedside.checks.window_stats import WindowStats
 
 GOOD, CHECK, BAD = 0, 1, 2
 
@@ -59,6 +69,75 @@ class CheckResult:
     level: np.ndarray
     reasons: dict[int, str] = field(default_factory=dict)
     findings: tuple[Finding, ...] = ()
+
+
+@dataclass(frozen=True)
+class Inputs:
+    """What the engine hands every check at one evaluation (read, never change in place).
+
+    stats: the window's statistics (analysis copy; flat, drift, pops, clipping,
+    amplitude); spectrum: the window's one shared spectrum, recent: its newest
+    ``line_noise.recent_s``; bridge: the bridging detector (its in-band epochs and
+    covariance per hop); correlation: the correlation check's history over those hops;
+    results: the verdicts of the checks the engine has run before this one (in
+    ``CHECKS`` order, the check that decides validity first)."""
+
+    stats: WindowStats
+    spectrum: Spectrum
+    recent: Spectrum
+    bridge: BridgeDetector
+    correlation: History
+    results: Mapping[str, CheckResult]
+
+
+#: The finding kinds of a fault most channels share through the reference or ground.
+SHARED_KINDS = ("reference", "ground")
+
+
+class Shared(NamedTuple):
+    """How a check's fault, on most scalp channels at once, is put on the reference or
+    ground (bedside.checks.reference): the finding's kind ("reference", "ground"), what
+    is shared ("drift"), the usual remedy, and the evidence that shows one shared
+    waveform — "block_means" (the window's block means), "covariance" (the window's
+    covariance), "mains_phasors" (the complex spectrum at the mains per segment) or
+    "majority" (no waveform to compare: the majority alone decides)."""
+
+    kind: Literal["reference", "ground"]
+    what: str
+    remedy: str
+    evidence: Literal["block_means", "covariance", "mains_phasors", "majority"]
+
+
+#: What a check reads: the window's statistics, the spectrum only (the engine reuses
+#: its result until a spectral segment completes or the valid channels or mains
+#: change), or the bridging state (the detector's epochs; its own memo).
+Reads = Literal["stats", "spectrum", "bridging"]
+
+
+@dataclass(frozen=True)
+class Check:
+    """One check, as the engine, the reference, the benchmark and the app see it.
+
+    name: its key in ``ChannelQuality.checks``; reads: see :data:`Reads`; evaluate:
+    ``(inputs, ctx, settings) -> CheckResult`` (pure; never change an input array in
+    place); headline: the metric the app's Watch table shows for it (None: no column);
+    settings: its section of ``QualitySettings`` and of ``configs/quality.yaml``;
+    shared: how its fault is put on the reference/ground when most channels share it
+    (None: never); faults: the simulator's fault kinds it shows (``bedside bench``'s
+    latency and the simulator tests); sets_valid: it decides which channels are fit for
+    the others (flat) — run first, on every channel (valid: finite), and a channel it
+    calls bad is not valid for the rest; findings_only: it judges the setup, not the
+    channels — only its findings are kept, after the reference's."""
+
+    name: str
+    reads: Reads
+    evaluate: Callable[[Inputs, Context, QualitySettings], CheckResult]
+    headline: str | None
+    settings: str
+    shared: Shared | None = None
+    faults: tuple[str, ...] = ()
+    sets_valid: bool = False
+    findings_only: bool = False
 
 
 class Margins:

@@ -32,8 +32,6 @@ Bridges are reported for the neighbour pairs. Guards of our own: both channels m
 valid (finite, not flat: the engine's flat check) and carry at least ``min_rms_uv`` in
 band, so two dead leads are no bridge.
 
-:func:`pair_metrics` (ED and correlation from any covariance matrix) is kept for
-callers that have one.
 """
 
 from __future__ import annotations
@@ -43,14 +41,19 @@ from collections import deque
 
 import numpy as np
 from scipy.optimize import minimize_scalar
-from scipy.signal import butter, ellip, ellipord, sosfilt, sosfilt_zi
+from scipy.signal import butter, ellip, ellipord
 from scipy.stats import gaussian_kde
 
-from bedside.checks.base import BAD, CheckResult, Context
+from bedside.checks.base import BAD, Check, CheckResult, Context
+from bedside.checks.blockfilter import BlockIIR
+from bedside.checks.gram import add_gram, symmetrize
 from bedside.checks.settings import BridgingSettings
 from bedside.checks.types import Finding, Level
 
 NAME = "bridging"
+#: The check as the engine runs it (registry.CHECKS): the detector is the engine's (its epochs, its memo).
+ENTRY = Check(NAME, "bridging", lambda i, ctx, s: i.bridge.evaluate(ctx), headline="bridge_corr",
+              settings="bridging", faults=("bridge",))
 
 #: Up to this many ED values the density is summed over the values themselves (as
 #: MNE-Python's gaussian_kde); beyond, over a histogram of HISTOGRAM_BINS bins.
@@ -59,18 +62,6 @@ EXACT_KDE_MAX = 8192
 #: (exp(−½·9.5²) ≈ 2e-20 of a kernel's peak is what one further off adds).
 KERNEL_REACH = 9.5
 HISTOGRAM_BINS = 4096
-
-
-def pair_metrics(cov_uv2: np.ndarray, pairs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(ED µV², correlation) for index pairs (P, 2) from a covariance matrix (C, C)."""
-    if len(pairs) == 0:
-        return np.zeros(0), np.zeros(0)
-    i, j = pairs[:, 0], pairs[:, 1]
-    cii, cjj, cij = cov_uv2[i, i], cov_uv2[j, j], cov_uv2[i, j]
-    ed = np.maximum(cii + cjj - 2.0 * cij, 0.0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        r = cij / np.sqrt(cii * cjj)
-    return ed, np.nan_to_num(r, nan=0.0)
 
 
 def design_band(rate_hz: float, l_freq_hz: float, h_freq_hz: float) -> np.ndarray:
@@ -180,6 +171,7 @@ class BridgeDetector:
         p = np.asarray(pairs, dtype=np.int64).reshape(-1, 2)
         self.pairs = np.sort(p, axis=1)
         self._sos = design_band(self.rate_hz, s.l_freq_hz, s.h_freq_hz)
+        self._iir = BlockIIR(self._sos, c)
         self._hop = max(1, round(s.hop_s * self.rate_hz))
         self._hops_per_epoch = max(1, round(s.epoch_s / s.hop_s))
         self._iu = np.triu_indices(c, 1)
@@ -191,8 +183,7 @@ class BridgeDetector:
     def reset(self) -> None:
         """Forget everything (the filter state too): after a gap or a reconnect."""
         c = self.n_channels
-        self._gram = np.zeros((c, c))  # work array of one block's product
-        self._zi: np.ndarray | None = None
+        self._iir.reset()
         self._acc = np.zeros((c, c))
         self._acc_sum = np.zeros(c)
         self._acc_n = 0
@@ -220,18 +211,19 @@ class BridgeDetector:
         x = np.asarray(x, dtype=np.float64)
         if x.shape[0] == 0:
             return
-        if self._zi is None:  # start in the steady state of the first sample (no DC step)
-            self._zi = sosfilt_zi(self._sos)[:, :, None] * x[0][None, None, :]
-        y, self._zi = sosfilt(self._sos, x, axis=0, zi=self._zi)
+        if self._iir.state is None:  # start in the steady state of the first sample (no DC step)
+            self._iir.start_at(x[0])
+        y = self._iir.filter(x)  # sosfilt's result, as two matrix products (checks/blockfilter.py)
         pos = 0
         while pos < y.shape[0]:
             take = min(self._hop - self._acc_n, y.shape[0] - pos)
             seg = y[pos : pos + take]
-            self._acc += np.matmul(seg.T, seg, out=self._gram)
+            add_gram(self._acc, seg, accumulate=True)  # its lower triangle (checks/gram.py)
             self._acc_sum += seg.sum(axis=0)
             self._acc_n += take
             pos += take
             if self._acc_n == self._hop:
+                symmetrize(self._acc)
                 self._hops.append((self._acc, self._acc_sum, self._acc_n))
                 # The hop about its own mean, for the correlation check's covariance
                 # (the newest CORR_HOPS hops): what is slower than a hop is left out.

@@ -18,11 +18,12 @@ the level is judged on).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 
-from bedside.checks.base import BAD, GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import BAD, GOOD, Check, CheckResult, Context, Inputs, levels_from
+from bedside.checks.bridging import CORR_HOPS, BridgeDetector
 from bedside.checks.settings import QualitySettings
 
 NAME = "correlation"
@@ -85,3 +86,68 @@ def evaluate(history: Sequence[np.ndarray], ctx: Context, settings: QualitySetti
         for i in np.flatnonzero(level)
     }
     return CheckResult(NAME, {"corr_98": current, "corr_98_lowest": lowest}, level, reasons)
+
+
+class History:
+    """corr_98 per bridging hop (1 s) for the newest ``correlation.windows`` hops, with
+    today's valid channels (each computed once per hop and valid set), kept per engine.
+
+    A lead another check flags (:data:`SPEAKS_FIRST`, flat at bad) is left out (NaN)
+    while it is flagged and for the hops its fault still sits in the pooled covariance
+    (``bridging.CORR_HOPS``). A hop in which a lead's own in-band power jumps (a pop, a
+    movement: ``correlation.artifact_ratio`` times its median over these hops) says
+    nothing about whether it carries EEG: that lead's value there is left out too."""
+
+    def __init__(self, bridge: BridgeDetector, settings: QualitySettings) -> None:
+        self.bridge, self.settings = bridge, settings
+        self._cache: dict[tuple[int, bytes], np.ndarray] = {}
+        self._taint_hop = np.full(bridge.n_channels, -(10**9), dtype=np.int64)  # last hop flagged
+        self._memo: tuple[tuple[int, bytes, bytes], list[np.ndarray]] | None = None
+
+    def reset(self) -> None:
+        self._cache.clear()
+        self._memo = None
+        self._taint_hop[:] = -(10**9)
+
+    def flag(self, results: Mapping[str, CheckResult]) -> None:
+        """Note the leads the checks that speak first flag at this hop."""
+        taint = results["flat"].level >= BAD
+        for name in SPEAKS_FIRST:
+            taint |= results[name].level > GOOD
+        self._taint_hop[taint] = self.bridge.hops_done
+
+    def values(self, valid: np.ndarray) -> list[np.ndarray]:
+        mask = valid.tobytes()
+        # The same hops, channels and flagged leads as last time: the same answer (a hop
+        # completes every fourth update).
+        memo = (self.bridge.hops_done, mask, self._taint_hop.tobytes())
+        if self._memo is not None and self._memo[0] == memo:
+            return self._memo[1]
+        out, cache = [], {}
+        covs = list(self.bridge.recent_covs)
+        for hop, cov in covs:
+            key = (hop, mask)
+            got = self._cache.get(key)
+            if got is None:
+                got = corr_98(cov, valid, self.settings)
+            cache[key] = got
+            out.append(got)
+        self._cache = cache
+        clean_from = self._taint_hop + CORR_HOPS  # first hop whose pool is clear of it
+        out = [np.where(hop >= clean_from, v, np.nan) for (hop, _cov), v in zip(covs, out, strict=True)]
+        if len(covs) >= 3:
+            power = np.vstack([np.diag(cov) for _hop, cov in covs])
+            jump = power > self.settings.correlation.artifact_ratio * np.median(power, axis=0)
+            if jump.any():
+                out = [np.where(j, np.nan, v) for j, v in zip(jump, out, strict=True)]
+        self._memo = (memo, out)
+        return out
+
+
+def _run(inputs: Inputs, ctx: Context, settings: QualitySettings) -> CheckResult:
+    inputs.correlation.flag(inputs.results)
+    return evaluate(inputs.correlation.values(ctx.valid), ctx, settings)
+
+
+#: Runs after the checks of SPEAKS_FIRST (registry.CHECKS keeps it after them).
+ENTRY = Check(NAME, "bridging", _run, headline=None, settings="correlation")

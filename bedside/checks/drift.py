@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import GOOD, Check, CheckResult, Context, Shared, levels_from
 from bedside.checks.settings import QualitySettings
 from bedside.checks.window_stats import WindowStats
 
@@ -73,3 +73,10 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
             "; ".join(parts) + " — let the electrode settle; re-prepare the skin or refresh the gel if it persists"
         )
     return CheckResult(NAME, metrics, level, reasons)
+
+
+ENTRY = Check(
+    NAME, "stats", lambda i, ctx, s: evaluate(i.stats, ctx, s), headline="drift_uv_per_s", settings="drift",
+    shared=Shared("reference", "drift", "check the reference electrode first (contact, gel)", "block_means"),
+    faults=("drift",),
+)

@@ -16,9 +16,10 @@ costs about what the new samples require, not a recompute of the window:
   correlation check reads too) — so these verdicts and their cost do not depend
   on the amplifier's rate.
 
- ``evaluate`` combines the window's statistics and its one shared spectrum,
-runs every check vectorised across channels, decides reference/ground findings,
-applies the hold and returns the frame.
+``evaluate`` combines the window's statistics and its one shared spectrum, runs
+every check of ``registry.CHECKS`` vectorised across channels (reusing what reads the
+spectrum only until a segment completes), decides reference/ground findings, applies
+the hold and returns the frame (its channels built by ``frames.ChannelBuilder``).
 """
 
 from __future__ import annotations
@@ -26,106 +27,26 @@ from __future__ import annotations
 import logging
 import math
 import time
-from collections.abc import Callable, Iterable, Mapping, Sequence
-from dataclasses import dataclass
-from itertools import repeat
+from collections.abc import Iterable, Mapping, Sequence
 from types import MappingProxyType
 
 import numpy as np
 
-from bedside.checks import (
-    analysis,
-    artifacts,
-    bridging,
-    correlation,
-    drift,
-    flat,
-    line_noise,
-    placement_sanity,
-    reference,
-)
+from bedside.checks import analysis, bridging, correlation, line_noise, reference
 from bedside.checks.analysis import AnalysisCopy
-from bedside.checks.base import BAD, GOOD, CheckResult, Context, Margins
+from bedside.checks.base import BAD, GOOD, CheckResult, Context, Inputs, Margins
+from bedside.checks.blocks import BlockCutter, Geometry
+from bedside.checks.frames import ChannelBuilder
 from bedside.checks.levels import FindingHold, LevelHold, combine
+from bedside.checks.registry import CHECKS, VALIDITY
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import SpectralAccumulator, Spectrum
-from bedside.checks.types import ChannelQuality, Finding, Level, MetricRow, QualityFrame
+from bedside.checks.types import ChannelQuality, Finding, QualityFrame
 from bedside.checks.window_stats import BlockStats, RawStats, WindowStats
 from bedside.errors import InputError, StreamFormatError
 from bedside.stream.types import ChannelInfo, StreamHealth
 
 log = logging.getLogger("bedside")
-
-_LEVELS = (Level.GOOD, Level.CHECK, Level.BAD)
-
-
-@dataclass(frozen=True)
-class Geometry:
-    """Sizes in samples derived from the settings and the rate."""
-
-    block: int
-    n_blocks: int
-    segment: int
-    n_segments: int
-    refresh_blocks: int
-
-    @classmethod
-    def of(cls, settings: QualitySettings, rate_hz: float) -> Geometry:
-        block = max(1, round(rate_hz * settings.block_s))
-        per_segment = round(settings.segment_s / settings.block_s)
-        n_blocks = round(settings.window_s / settings.block_s)
-        n_segments = (n_blocks - per_segment) // (per_segment // 2) + 1
-        refresh = max(1, round(settings.refresh_s / settings.block_s))
-        return cls(block, n_blocks, block * per_segment, n_segments, refresh)
-
-
-_new = object.__new__
-_set = object.__setattr__
-
-
-class _BlockCutter:
-    """Cuts samples (n, C) arriving in any count into whole blocks of ``block`` rows and
-    hands each to ``sink`` (a full block straight from the input, no copy; the rest is
-    gathered in one buffer). Used for the stream's blocks and the analysis copy's."""
-
-    def __init__(self, block: int, n_channels: int, sink: Callable[[np.ndarray], None]) -> None:
-        self.block = block
-        self._buf = np.zeros((block, n_channels))
-        self._n = 0
-        self._sink = sink
-
-    def reset(self) -> None:
-        self._n = 0
-
-    def feed(self, x: np.ndarray) -> None:
-        b, pos, n = self.block, 0, x.shape[0]
-        while pos < n:
-            take = min(b - self._n, n - pos)
-            if self._n == 0 and take == b:
-                self._sink(x[pos : pos + b])
-            else:
-                self._buf[self._n : self._n + take] = x[pos : pos + take]
-                self._n += take
-                if self._n == b:
-                    self._sink(self._buf)
-                    self._n = 0
-            pos += take
-
-
-def _channel(name: str, level: Level, metrics: MetricRow, reasons: tuple[str, ...],
-             scalp: bool, checks: Mapping[str, str]) -> ChannelQuality:
-    """ChannelQuality(name, level, metrics, reasons, scalp, checks), built without the
-    frozen dataclass's checks (the same object; 256 of them every update). Slots, not a
-    __dict__: one object per channel for the garbage collector to follow, not two."""
-    cq = _new(ChannelQuality)
-    _set(cq, "name", name)
-    _set(cq, "level", level)
-    _set(cq, "metrics", metrics)
-    _set(cq, "reasons", reasons)
-    _set(cq, "is_scalp", scalp)
-    _set(cq, "checks", checks)
-    return cq
-
 
 def default_neighbours(names: Sequence[str]) -> list[tuple[str, str]]:
     """The placement's neighbour graph for these names; all pairs when it gives none."""
@@ -207,36 +128,34 @@ class Engine:
         self._blocks = self._new_blocks()
         self._raw = self._new_raw()
         self._a_samples = 0
-        self._a_cutter = _BlockCutter(ga.block, c, self._add_analysis_block)
+        self._a_cutter = BlockCutter(ga.block, c, self._add_analysis_block)
         self._spec = SpectralAccumulator(
             c, self.spectrum_rate_hz, gs.segment, gs.n_segments,
             max(1, round(settings.refresh_s / (settings.segment_s / 2))), settings.spectrum_max_hz,
         )
-        self._cutter = _BlockCutter(g.block, c, self._add_block)
+        self._cutter = BlockCutter(g.block, c, self._add_block)
         self._samples = 0
         self._last_time = float("nan")
         self.neighbours = self._neighbour_index(neighbours)
         # Bridging judges the analysis copy (250–500 Hz): the same band, less work.
         self._bridge = bridging.BridgeDetector(c, self.analysis_rate_hz, self.neighbours, settings.bridging,
                                                keep_covs=settings.correlation.windows)
-        self._corr_cache: dict[tuple[int, bytes], np.ndarray] = {}
-        self._taint_hop = np.full(c, -(10**9), dtype=np.int64)  # last hop another check flagged
+        self._correlation = correlation.History(self._bridge, settings)
         self._hold = LevelHold(c, settings.hold.hold_s, settings.hold.confirm_updates,
                                settings.hold.relapse_window_s, settings.hold.relapse_hold_s)
         self._fhold = FindingHold(settings.hold.hold_s)
         self._mains_hz: float | None = (
             None if settings.line_noise.mains == "auto" else float(settings.line_noise.mains)
         )
-        self._check_proto: dict[tuple[str, ...], dict[int, Mapping[str, str]]] = {}
-        self._metric_index: dict[tuple[str, ...], dict[str, int]] = {}
+        self._builder = ChannelBuilder(self.names, self._scalp_list)
         self._margins = Margins(settings.hold.margin_fraction, settings.hold.margin_db)
-        self._channel_range = range(c)
-        self._corr_hist: tuple[tuple[int, bytes, bytes], list[np.ndarray]] | None = None
         self._spec_gen = 0  # bumped by reset(): segment counts restart
         self._detect_key: tuple[int, int, bytes] | None = None
-        self._spectral: tuple[tuple[object, ...], CheckResult, CheckResult, tuple[Finding, ...]] | None = None
+        # Results of the checks that read the spectrum only, and the inputs they had.
+        self._spectral_key: tuple[object, ...] | None = None
+        self._spectral: dict[str, CheckResult] = {}
         self._cache_key = -1
-        self._cache: tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]] | None = None
+        self._cache: _Computed | None = None
 
     # ------------------------------------------------------------------ input
     def _neighbour_index(self, neighbours: Iterable[tuple[str, str]] | None) -> np.ndarray:
@@ -313,15 +232,14 @@ class Engine:
         )
         self._cutter.reset()
         self._bridge.reset()
-        self._corr_cache.clear()
-        self._corr_hist = None
+        self._correlation.reset()
         self._margins.reset()
-        self._taint_hop[:] = -(10**9)
         self._hold.reset()
         self._fhold.reset()
         self._spec_gen += 1
         self._detect_key = None
-        self._spectral = None
+        self._spectral_key = None
+        self._spectral = {}
         self._cache_key = -1
         self._cache = None
 
@@ -363,10 +281,8 @@ class Engine:
         chans = tuple(
             ChannelQuality(n, None, {}, (why,), bool(s)) for n, s in zip(self.names, self.scalp, strict=True)
         )
-        return QualityFrame(
-            self._last_time, time.time(), chans, (), health, self.settings.window_s,
-            {"mains_hz": self._mains_hz, "data_s": self.data_time_s},
-        )
+        return QualityFrame(self._last_time, time.time(), chans, (), health, self.settings.window_s,
+                            mains_hz=self._mains_hz, data_s=self.data_time_s)
 
     def evaluate(self, health: StreamHealth | None = None) -> QualityFrame:
         """The verdicts for the current window (level None when there is no live data)."""
@@ -385,103 +301,40 @@ class Engine:
             self._cache = self._compute(self._blocks.stats(recent_blocks, self._raw), spec, recent)
             self._margins.commit()
             self._cache_key = key
-        raw, reasons, per_check, metrics, findings = self._cache
+        raw, reasons, per_check, metrics, findings, _results = self._cache
         now = self.data_time_s
         shown, shown_reasons = self._hold.apply(raw, reasons, now)
         findings = self._fhold.apply(findings, now)
-        names = list(metrics)
-        columns = [metrics[k].tolist() for k in names]  # one list per metric, not per channel
-        index = self._metric_index.get(tuple(names))
-        if index is None:
-            index = self._metric_index[tuple(names)] = {k: i for i, k in enumerate(names)}
-        check_names = tuple(per_check)
-        check_dicts = self._check_dicts(check_names, per_check)
-        shown_levels = [_LEVELS[v] for v in shown.tolist()]
-        # map() over the columns: the same objects as a comprehension, less interpreter work.
-        chans = tuple(map(
-            _channel, self.names, shown_levels, map(MetricRow, repeat(index), repeat(columns), self._channel_range),
-            map(tuple, shown_reasons), self._scalp_list, check_dicts,
-        ))
-        return QualityFrame(
-            self._last_time, time.time(), chans, findings, health, self.settings.window_s,
-            {"mains_hz": self._mains_hz, "data_s": now, "neighbour_pairs": int(len(self.neighbours))},
-        )
+        chans = self._builder.channels(shown, shown_reasons, per_check, metrics)
+        return QualityFrame(self._last_time, time.time(), chans, findings, health, self.settings.window_s,
+                            mains_hz=self._mains_hz, data_s=now, neighbour_pairs=int(len(self.neighbours)))
 
-    def _correlation_history(self, valid: np.ndarray) -> list[np.ndarray]:
-        """corr_98 per bridging hop (1 s) for the newest correlation.windows hops, with
-        today's valid channels (each computed once per hop and valid set). A hop in which
-        a lead's own in-band power jumps (a pop, a movement: correlation.artifact_ratio
-        times its median over these hops) says nothing about whether it carries EEG:
-        that lead's value there is left out (NaN)."""
-        mask = valid.tobytes()
-        # The same hops, channels and flagged leads as last time: the same answer (a hop
-        # completes every fourth update).
-        memo = (self._bridge.hops_done, mask, self._taint_hop.tobytes())
-        if self._corr_hist is not None and self._corr_hist[0] == memo:
-            return self._corr_hist[1]
-        out, cache = [], {}
-        covs = list(self._bridge.recent_covs)
-        for hop, cov in covs:
-            key = (hop, mask)
-            got = self._corr_cache.get(key)
-            if got is None:
-                got = correlation.corr_98(cov, valid, self.settings)
-            cache[key] = got
-            out.append(got)
-        self._corr_cache = cache
-        clean_from = self._taint_hop + bridging.CORR_HOPS  # first hop whose pool is clear of it
-        out = [np.where(hop >= clean_from, v, np.nan) for (hop, _cov), v in zip(covs, out, strict=True)]
-        if len(covs) >= 3:
-            power = np.vstack([np.diag(cov) for _hop, cov in covs])
-            jump = power > self.settings.correlation.artifact_ratio * np.median(power, axis=0)
-            if jump.any():
-                out = [np.where(j, np.nan, v) for j, v in zip(jump, out, strict=True)]
-        self._corr_hist = (memo, out)
-        return out
+    def check_results(self) -> Mapping[str, CheckResult]:
+        """Each check's own result at the last evaluation with verdicts, before the
+        reference/ground decision and the hold (for tests and tools: which check said
+        what); empty before the first."""
+        return MappingProxyType(self._cache[5] if self._cache is not None else {})
 
     def _recent_segments(self) -> int:
         """Spectral segments in the newest line_noise.recent_s (the fast-reacting spectrum)."""
         hop_s = self.settings.segment_s / 2
         return max(1, round((self.settings.line_noise.recent_s - self.settings.segment_s) / hop_s) + 1)
 
-    def _check_dicts(self, check_names: tuple[str, ...], per_check: dict[str, np.ndarray]) -> list[Mapping[str, str]]:
-        """Per channel, its {check: level key}: read-only prototypes shared by channels.
-
-        Channels are grouped by the combination of their checks' levels (one integer
-        code each, base 3), so a dict is built once per combination, not per channel."""
-        n = self.n_channels
-        if not check_names:
-            return [{} for _ in range(n)]
-        code = np.zeros(n, dtype=np.int64)
-        for k in reversed(check_names):
-            code *= 3
-            code += per_check[k]
-        cache = self._check_proto.get(check_names)
-        if cache is None:
-            cache = self._check_proto[check_names] = {}
-        out = []
-        for c in code.tolist():
-            proto = cache.get(c)
-            if proto is None:
-                lv, rest = {}, c
-                for k in check_names:
-                    rest, v = divmod(rest, 3)
-                    lv[k] = _LEVELS[v].key
-                proto = cache[c] = MappingProxyType(lv)
-            out.append(proto)
-        return out
-
-    def _compute(self, stats: WindowStats, spec: Spectrum, recent: Spectrum) -> tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray], tuple[Finding, ...]]:
+    def _context(self, scalp: np.ndarray, valid: np.ndarray) -> Context:
         s = self.settings
-        n = self.n_channels
+        return Context(self.names, scalp, valid, self.neighbours, self.analysis_rate_hz, s.window_s,
+                       self.amplifier_range_uv, self._mains_hz, self.coupling, self._margins)
+
+    def _compute(self, stats: WindowStats, spec: Spectrum, recent: Spectrum) -> _Computed:
+        """Every check of registry.CHECKS in its order (the one that decides validity
+        first), the reference/ground decision, the channels whose samples are not numbers."""
+        s, n = self.settings, self.n_channels
         finite = stats.nonfinite == 0
+        results: dict[str, CheckResult] = {}
+        inputs = Inputs(stats, spec, recent, self._bridge, self._correlation, results)
         # Flat first, evaluated on every channel (non-scalp ones too: the light check).
-        all_ctx = Context(
-            self.names, np.ones(n, dtype=bool), finite, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling, self._margins,
-        )
-        flat_res = flat.evaluate(stats, all_ctx, s)
-        valid = self.scalp & finite & (flat_res.level < BAD)
+        results[VALIDITY.name] = first = VALIDITY.evaluate(inputs, self._context(np.ones(n, dtype=bool), finite), s)
+        valid = self.scalp & finite & (first.level < BAD)
         # The spectra change only when a segment completes (every other update at the
         # default sizes): what depends on them alone is reused until then, for the
         # same channels (valid) and mains — the same inputs give the same results.
@@ -492,69 +345,65 @@ class Engine:
             if found is not None:
                 self._mains_hz = found
                 log.info("mains frequency detected: %g Hz", found)
-        ctx = Context(
-            self.names, self.scalp, valid, self.neighbours, self.analysis_rate_hz,
-            s.window_s, self.amplifier_range_uv, self._mains_hz, self.coupling, self._margins,
-        )
-        memo_key = (*spec_key, self._mains_hz)
-        if self._spectral is None or self._spectral[0] != memo_key:
-            self._spectral = (
-                memo_key,
-                line_noise.evaluate(recent, ctx, s, spec),
-                artifacts.muscle(spec, ctx, s),
-                placement_sanity.evaluate(spec, self.names, valid, s),
-            )
-        _key, line_res, muscle_res, placement_findings = self._spectral
-        results: dict[str, CheckResult] = {
-            "flat": flat_res,
-            "line_noise": line_res,
-            "drift": drift.evaluate(stats, ctx, s),
-            "bridging": self._bridge.evaluate(ctx),
-            "pops": artifacts.pops(stats, ctx, s),
-            "clipping": artifacts.clipping(stats, ctx, s),
-            "muscle": muscle_res,
-            "amplitude": artifacts.amplitude(stats, ctx, s),
-        }
-        # A lead another check flags has that check's reason; while it does, and for the
-        # hops its fault still sits in the pooled covariance, the correlation says nothing
-        # of it (a pop or a dead stretch makes any lead unlike the others for a while).
-        hop = self._bridge.hops_done
-        taint = results["flat"].level >= BAD
-        for name in correlation.SPEAKS_FIRST:
-            taint |= results[name].level > GOOD
-        self._taint_hop[taint] = hop
-        results["correlation"] = correlation.evaluate(self._correlation_history(valid), ctx, s)
+        ctx = self._context(self.scalp, valid)
+        if self._spectral_key != (*spec_key, self._mains_hz):
+            self._spectral_key, self._spectral = (*spec_key, self._mains_hz), {}
+        advisory: list[Finding] = []
+        for check in CHECKS:
+            if check is VALIDITY:
+                continue
+            if check.reads == "spectrum":
+                res = self._spectral.get(check.name)
+                if res is None:
+                    res = self._spectral[check.name] = check.evaluate(inputs, ctx, s)
+            else:
+                res = check.evaluate(inputs, ctx, s)
+            if check.findings_only:
+                advisory.extend(res.findings)
+            else:
+                results[check.name] = res
         phasors = None
         if self._mains_hz is not None:
             phasors = self._spec.phasors(self._mains_hz, self._recent_segments())
-        results, shared = reference.evaluate(results, ctx, finite, s, stats, phasors,
-                                             average=(self.reference or "").casefold() == "average")
-        # Samples that are not numbers: flag the channel clearly, drop its other verdicts
-        # (they were computed on zero-filled data) and keep it out of everything shared.
-        bad_nf = ~finite
-        nf_level = np.where(bad_nf, BAD, GOOD).astype(np.int8)
-        nf_reasons = {
-            int(i): (
-                f"{int(stats.nonfinite[i])} samples are not numbers (NaN/Inf) or beyond any EEG"
-                f" value in the last {s.window_s:g} s — check the amplifier channel and its cable"
-            )
-            for i in np.flatnonzero(bad_nf)
-        }
-        if bad_nf.any():
-            for name, res in list(results.items()):
-                lv = res.level.copy()
-                lv[bad_nf] = GOOD
-                rs = {i: t for i, t in res.reasons.items() if not bad_nf[i]}
-                results[name] = CheckResult(res.name, res.metrics, lv, rs, res.findings)
-        results["finite"] = CheckResult(
-            "finite", {"nonfinite_samples": stats.nonfinite.astype(float)}, nf_level, nf_reasons
-        )
-        level, reasons, per_check = combine(list(results.values()), n)
+        judged, shared = reference.evaluate(results, ctx, finite, s, stats, phasors,
+                                            average=(self.reference or "").casefold() == "average")
+        judged = _not_numbers(judged, stats, finite, s.window_s)
+        level, reasons, per_check = combine(list(judged.values()), n)
         metrics: dict[str, np.ndarray] = {}
-        for res in results.values():
+        for res in judged.values():
             for k, v in res.metrics.items():
                 metrics.setdefault(k, np.asarray(v, dtype=float))
-        findings = [f for res in results.values() for f in res.findings]
+        findings = [f for res in judged.values() for f in res.findings]
         findings.extend(shared)
-        findings.extend(placement_findings)
-        return level, reasons, per_check, metrics, tuple(findings)
+        findings.extend(advisory)
+        return level, reasons, per_check, metrics, tuple(findings), results
+
+
+#: What one evaluation computes: raw levels, reasons per channel, per-check levels,
+#: metrics, findings, and each check's own result.
+_Computed = tuple[np.ndarray, list[list[str]], dict[str, np.ndarray], dict[str, np.ndarray],
+                  tuple[Finding, ...], dict[str, CheckResult]]
+
+
+def _not_numbers(results: dict[str, CheckResult], stats: WindowStats, finite: np.ndarray,
+                 window_s: float) -> dict[str, CheckResult]:
+    """Samples that are not numbers: flag the channel clearly (the "finite" check, last),
+    drop its other verdicts (they were computed on zero-filled data)."""
+    bad_nf = ~finite
+    nf_level = np.where(bad_nf, BAD, GOOD).astype(np.int8)
+    nf_reasons = {
+        int(i): (
+            f"{int(stats.nonfinite[i])} samples are not numbers (NaN/Inf) or beyond any EEG"
+            f" value in the last {window_s:g} s — check the amplifier channel and its cable"
+        )
+        for i in np.flatnonzero(bad_nf)
+    }
+    out = dict(results)
+    if bad_nf.any():
+        for name, res in results.items():
+            lv = res.level.copy()
+            lv[bad_nf] = GOOD
+            rs = {i: t for i, t in res.reasons.items() if not bad_nf[i]}
+            out[name] = CheckResult(res.name, res.metrics, lv, rs, res.findings)
+    out["finite"] = CheckResult("finite", {"nonfinite_samples": stats.nonfinite.astype(float)}, nf_level, nf_reasons)
+    return out

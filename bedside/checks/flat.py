@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import BAD, CHECK, GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import BAD, CHECK, GOOD, Check, CheckResult, Context, Shared, levels_from
 from bedside.checks.settings import QualitySettings
 from bedside.checks.window_stats import WindowStats
 
@@ -60,3 +60,10 @@ def evaluate(stats: WindowStats, ctx: Context, settings: QualitySettings) -> Che
         "zero_diff_fraction": zero,
     }
     return CheckResult(NAME, metrics, level, reasons)
+
+
+ENTRY = Check(
+    NAME, "stats", lambda i, ctx, s: evaluate(i.stats, ctx, s), headline="ptp_uv", settings="flat",
+    shared=Shared("reference", "flat signal", "check the reference and ground leads are plugged in", "majority"),
+    faults=("flat", "clipping"), sets_valid=True,
+)

@@ -17,8 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import BAD, CHECK, CheckResult
-from bedside.checks.reference import SHARED
+from bedside.checks.base import BAD, CHECK, SHARED_KINDS, CheckResult
 from bedside.checks.types import Finding
 
 
@@ -106,7 +105,8 @@ class LevelHold:
 
 #: Kinds of the whole-head findings (bedside.checks.reference): most channels share one
 #: fault through the reference or ground, so the set of channels moves with every update.
-WHOLE_HEAD_KINDS = frozenset(kind for kind, _, _ in SHARED.values())
+#: (Not read from the registry: ready.py and the log import this module light.)
+WHOLE_HEAD_KINDS = frozenset(SHARED_KINDS)
 
 
 def finding_key(f: Finding) -> tuple[str, tuple[str, ...]]:

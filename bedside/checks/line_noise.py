@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from bedside.checks.base import GOOD, CheckResult, Context, levels_from
+from bedside.checks.base import GOOD, Check, CheckResult, Context, Shared, levels_from
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum, band_index
 
@@ -159,3 +159,14 @@ def window_word(spec: Spectrum | None) -> str:
     if spec is None or spec.nyquist <= 0:
         return "the window"
     return f"the last {spec.span[1] / (2.0 * spec.nyquist):.0f} s"
+
+
+ENTRY = Check(
+    NAME, "spectrum", lambda i, ctx, s: evaluate(i.recent, ctx, s, i.spectrum), headline="mains_uv",
+    settings="line_noise",
+    shared=Shared(
+        "ground", "mains noise",
+        "check the ground (and reference) electrode first; move mains cables and chargers away", "mains_phasors",
+    ),
+    faults=("line_noise",),
+)

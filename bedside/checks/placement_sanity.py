@@ -13,6 +13,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from bedside.checks.base import Check, CheckResult
 from bedside.checks.settings import QualitySettings
 from bedside.checks.spectrum import Spectrum
 from bedside.checks.types import Finding, Level
@@ -69,3 +70,12 @@ def evaluate(spec: Spectrum, names: tuple[str, ...], valid: np.ndarray, settings
             )
         )
     return tuple(findings)
+
+
+#: Advisory, on the spectrum alone: findings only (no per-channel verdict).
+ENTRY = Check(
+    NAME, "spectrum",
+    lambda i, ctx, s: CheckResult(NAME, {}, np.zeros(len(ctx.names), dtype=np.int8), {},
+                                  evaluate(i.spectrum, ctx.names, ctx.valid, s)),
+    headline=None, settings="placement", findings_only=True,
+)

@@ -11,15 +11,18 @@ scalp channels) explains at least ``shared_min`` of the fault's variance, with o
 sign. Independent faults — drifts of random sign on 15 of 19 electrodes, mains
 picked up lead by lead with scattered phases — stay each electrode's own.
 
-What is compared, per kind:
+Which checks take part, with their finding's kind, remedy and evidence, is each
+check's own ``shared`` declaration (``registry.SHARED``, in ``registry.CHECKS`` order).
+What is compared, per kind of evidence:
 
-* drift: the block means (what is slower than a 0.25-s block), analysis copy;
-* pops and high amplitude: the window's covariance, analysis copy;
-* mains: the complex spectrum at the mains frequency per spectral segment
-  (SpectralAccumulator.phasors), so phase and sign are known;
-* flat: most channels flat at once have no waveform to compare; their one shared
-  cause is the reference or ground lead (or the amplifier), so the majority alone
-  decides.
+* "block_means" (drift): the block means (what is slower than a 0.25-s block),
+  analysis copy;
+* "covariance" (pops and high amplitude): the window's covariance, analysis copy;
+* "mains_phasors" (mains): the complex spectrum at the mains frequency per spectral
+  segment (SpectralAccumulator.phasors), so phase and sign are known;
+* "majority" (flat): most channels flat at once have no waveform to compare; their
+  one shared cause is the reference or ground lead (or the amplifier), so the
+  majority alone decides.
 
 The share is r² between a channel and the common signal (for mains: cos² of the
 phase difference to the common phasor); "one sign" is a positive covariance (for
@@ -36,23 +39,10 @@ from collections.abc import Callable, Mapping
 import numpy as np
 
 from bedside.checks.base import BAD, CHECK, CheckResult, Context, fmt_names
+from bedside.checks.registry import SHARED
 from bedside.checks.settings import QualitySettings
 from bedside.checks.types import Finding, Level
 from bedside.checks.window_stats import WindowStats
-
-#: check name → (finding kind, what is shared, the usual remedy)
-SHARED = {
-    "line_noise": (
-        "ground",
-        "mains noise",
-        "check the ground (and reference) electrode first; move mains cables and chargers away",
-    ),
-    "drift": ("reference", "drift", "check the reference electrode first (contact, gel)"),
-    "flat": ("reference", "flat signal", "check the reference and ground leads are plugged in"),
-    "pops": ("reference", "pops", "check the reference electrode first (contact, gel)"),
-    "amplitude": ("reference", "high amplitude", "check the reference electrode first (contact, gel)"),
-}
-
 
 #: The common signal's variance, as a share of the channels' mean variance, under which
 #: it is taken to be none (rounding of data whose channels sum to zero is about 1e-30).
@@ -106,25 +96,24 @@ def evaluate(
         return results, ()
     # The evidence, computed only for a kind that a majority shows (most updates: none).
     covs: Mapping[str, Callable[[], np.ndarray | None]] = {
-        "drift": lambda: None if stats is None else stats.block_dev_uv.T @ stats.block_dev_uv,
-        "pops": lambda: None if stats is None else stats.cov_uv2,
-        "amplitude": lambda: None if stats is None else stats.cov_uv2,
-        "line_noise": lambda: None if mains_phasors is None else _phasor_cov(mains_phasors),
+        "block_means": lambda: None if stats is None else stats.block_dev_uv.T @ stats.block_dev_uv,
+        "covariance": lambda: None if stats is None else stats.cov_uv2,
+        "mains_phasors": lambda: None if mains_phasors is None else _phasor_cov(mains_phasors),
     }
     out = dict(results)
     findings = []
     need = rs.majority_fraction * n_pool
-    for name, (kind, what, remedy) in SHARED.items():
+    for name, (kind, what, remedy, evidence) in SHARED.items():
         res = results.get(name)
         if res is None:
             continue
         hit = pool & (res.level > 0)
         if int(hit.sum()) < need:
             continue
-        if name == "flat":
+        if evidence == "majority":
             shared = hit
         else:
-            make = covs.get(name)
+            make = covs.get(evidence)
             cov = make() if make is not None else None
             if cov is None:
                 continue
@@ -135,7 +124,7 @@ def evaluate(
         n_hit = int(shared.sum())
         worst = Level.BAD if (res.level[shared] >= BAD).any() else Level.CHECK
         names = [ctx.names[i] for i in np.flatnonzero(shared)]
-        how = "at once" if name == "flat" else "one shared waveform"
+        how = "at once" if evidence == "majority" else "one shared waveform"
         findings.append(
             Finding(
                 kind,

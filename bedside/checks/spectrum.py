@@ -52,10 +52,6 @@ class Spectrum:
         """Power in µV² over the bins whose centre lies in [lo_hz, hi_hz], per channel (C,)."""
         return self.band_powers(((lo_hz, hi_hz),))[:, 0]
 
-    def bins_in(self, lo_hz: float, hi_hz: float) -> int:
-        i0, i1 = band_index(len(self.freqs_hz), self.df_hz, ((lo_hz, hi_hz),))
-        return int(i1[0] - i0[0])
-
 
 @lru_cache(maxsize=512)
 def band_index(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...]) -> tuple[np.ndarray, np.ndarray]:
@@ -83,42 +79,6 @@ def band_table(n_freqs: int, df_hz: float, bands: tuple[tuple[float, float], ...
 def periodogram_scale(window: np.ndarray, rate_hz: float) -> float:
     """Density scaling of scipy.signal.welch: 1 / (fs · Σw²)."""
     return 1.0 / (rate_hz * float(np.sum(window**2)))
-
-
-def welch_psd(x_uv: np.ndarray, rate_hz: float, segment: int) -> tuple[np.ndarray, np.ndarray]:
-    """Plain (non-incremental) Welch PSD of x (n_samples, C) µV, 50 % overlap.
-
-    Returns (freqs_hz (F,), psd (F, C) µV²/Hz). Same definition as the streaming
-    accumulator; used by the benchmark and to refresh from raw data.
-    """
-    hop = segment // 2
-    w = get_window("hann", segment)
-    scale = periodogram_scale(w, rate_hz)
-    n_seg = (x_uv.shape[0] - segment) // hop + 1
-    acc = np.zeros((segment // 2 + 1, x_uv.shape[1]))
-    for k in range(n_seg):
-        seg = x_uv[k * hop : k * hop + segment]
-        acc += _periodogram(seg, w, scale)
-    return np.fft.rfftfreq(segment, 1.0 / rate_hz), acc / max(n_seg, 1)
-
-
-def _periodogram(seg: np.ndarray, w: np.ndarray, scale: float) -> np.ndarray:
-    """One-sided density periodogram of seg (n, C) → (F, C), as scipy.signal.welch scales it."""
-    return _periodogram_cm(np.ascontiguousarray(seg.T), w, scale).T
-
-
-def _periodogram_cm(seg_cm: np.ndarray, w: np.ndarray, scale: float) -> np.ndarray:
-    """Channel-major version: seg_cm (C, n) → (C, F). FFT along the contiguous axis (faster)."""
-    seg_cm = seg_cm - seg_cm.mean(axis=1, keepdims=True)
-    seg_cm *= w
-    spec = sp_fft.rfft(seg_cm, axis=1)
-    p = spec.real**2
-    p += spec.imag**2
-    p *= 2.0 * scale
-    p[:, 0] /= 2.0
-    if seg_cm.shape[1] % 2 == 0:
-        p[:, -1] /= 2.0
-    return p
 
 
 #: Mains candidates whose complex spectrum is kept per segment (50 and 60 Hz).

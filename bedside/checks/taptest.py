@@ -37,6 +37,12 @@ chunked and however fast they are replayed.
   other's channels are **swapped**; a longer cycle is **rotated**; a touch that shows on
   another channel alone is **elsewhere** (that lead is in the other input, or the
   other label is wrong).
+
+Why one module of about 550 lines, over the usual 400: these four parts are one
+procedure, read top to bottom, on one set of thresholds (``TapSettings``, the one file
+``configs/taptest.yaml``) — the detector's *size* is what ``judge_transient``'s ratios
+are about, and the walk's decisions are made of both — so a split would scatter each
+threshold's meaning over several modules; much of the length is the rules in words.
 """
 
 from __future__ import annotations

@@ -151,7 +151,10 @@ class QualityFrame:
     """One update of the engine: what the UI shows and the log records.
 
     time: LSL time of the newest sample in the window (s); wall_time: time.time()
-    when the frame was made.
+    when the frame was made; mains_hz: the mains frequency in use (50 or 60; None
+    while not yet detected); data_s: seconds of data the engine has taken in (its
+    sample clock); neighbour_pairs: the neighbour pairs bridging compares (None in a
+    frame without verdicts).
     """
 
     time: float
@@ -160,7 +163,9 @@ class QualityFrame:
     findings: tuple[Finding, ...]
     stream_health: StreamHealth | None = None
     window_s: float = 0.0
-    extras: dict[str, object] = field(default_factory=dict)
+    mains_hz: float | None = None
+    data_s: float = 0.0
+    neighbour_pairs: int | None = None
 
     @property
     def live(self) -> bool:

@@ -22,6 +22,8 @@ from functools import cached_property
 
 import numpy as np
 
+from bedside.checks.gram import add_gram, symmetrize
+
 
 @dataclass(frozen=True)
 class WindowStats:
@@ -33,7 +35,8 @@ class WindowStats:
 
     n_samples: samples in the window; block_means_uv: (n_blocks, C), oldest first;
     block_times_s: (n_blocks,) centre time of each block on the engine's sample
-    clock; within_uv2: (C, C) sum of the blocks' scatter about their own means;
+    clock; within_lower_uv2: (C, C) sum of the blocks' scatter about their own means,
+    its lower triangle only (checks/gram.py; cov_uv2 is the whole matrix);
     block_dev_uv: (n_blocks, C) block means minus the window mean; block: samples
     per block (cov_uv2 combines these); mean_uv, var_uv2, ptp_uv,
     max_abs_uv: (C,); zero_diff_fraction: share of consecutive samples with no
@@ -48,7 +51,7 @@ class WindowStats:
     n_samples: int
     block_means_uv: np.ndarray
     block_times_s: np.ndarray
-    within_uv2: np.ndarray
+    within_lower_uv2: np.ndarray
     block_dev_uv: np.ndarray
     block: int
     mean_uv: np.ndarray
@@ -69,10 +72,11 @@ class WindowStats:
     @cached_property
     def cov_uv2(self) -> np.ndarray:
         """(C, C) covariance over the window (ddof=1), combined from the blocks on demand."""
-        return np.asarray(
-            (self.within_uv2 + self.block * (self.block_dev_uv.T @ self.block_dev_uv))
-            / max(self.n_samples - 1, 1)
-        )
+        cov = self.block_dev_uv.T @ self.block_dev_uv
+        cov *= self.block
+        cov += self.within_lower_uv2
+        cov /= max(self.n_samples - 1, 1)
+        return symmetrize(cov)  # the lower triangle is right; copy it over the upper
 
     @property
     def rms_uv(self) -> np.ndarray:
@@ -115,7 +119,7 @@ class BlockStats:
         self.lag = max(1, min(int(lag), block))
         self.refresh_blocks = max(1, refresh_blocks)
         self.means = np.zeros((n_blocks, c))
-        self.m2 = np.zeros((n_blocks, c, c))
+        self.m2 = np.zeros((n_blocks, c, c))  # lower triangles only: see checks/gram.py
         self.maxs = np.zeros((n_blocks, c))
         self.mins = np.zeros((n_blocks, c))
         self.step_max = np.zeros((n_blocks, c))
@@ -144,7 +148,8 @@ class BlockStats:
             self.m2_sum -= self.m2[slot]
         mean = total / x.shape[0]
         xc = np.subtract(x, mean, out=self._xc)
-        m2 = np.matmul(xc.T, xc, out=self.m2[slot])
+        m2 = self.m2[slot]
+        add_gram(m2, xc, accumulate=False)  # its lower triangle (checks/gram.py)
         self.m2_sum += m2
         mx, mn = x.max(axis=0), x.min(axis=0)
         # Steps between consecutive samples; the very first sample of a stream has none.
@@ -222,7 +227,7 @@ class BlockStats:
             n_samples=n,
             block_means_uv=means,
             block_times_s=times,
-            within_uv2=self.m2_sum.copy(),
+            within_lower_uv2=self.m2_sum.copy(),
             block_dev_uv=d,
             block=b,
             mean_uv=mean,

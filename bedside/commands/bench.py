@@ -81,7 +81,7 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
 
     The real app (make_app, Watch view) runs under Textual's headless test driver at
     ``size``; frames come from the real engine at ``n_channels`` (benchmark data with
-    faults that come and go, bedside.checks.benchmark.engine_frames) and are handed
+    faults that come and go, bedside.bench.engine.engine_frames) and are handed
     to the app's own frame handler (what a FrameArrived message runs), then the app
     is left to settle: every widget handles what the frame posted, then the screen's
     update runs (layout when needed, render, repaint to the driver), twice over, so
@@ -101,7 +101,7 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
     import statistics
     import time
 
-    from bedside.checks.benchmark import engine_frames
+    from bedside.bench.engine import engine_frames
     from bedside.ui.app import make_app
     from bedside.ui.config import AppConfig
     from bedside.ui.feed import FrameArrived
@@ -166,7 +166,7 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
 def measure(quick: bool) -> dict[str, Any]:
     import numpy as np
 
-    from bedside.checks.benchmark import (
+    from bedside.bench.engine import (
         TARGETS,
         fault_latency,
         latency_scenario_path,
@@ -276,7 +276,7 @@ def run(args: argparse.Namespace) -> int:
         raise BedsideError(f"--hours {args.hours:g}: a soak needs at least 2 simulated hours (a first and a last)")
     if os.environ.get(_CHILD_FLAG) == "1":
         if args.soak:
-            from bedside.checks.benchmark import soak_run
+            from bedside.bench.engine import soak_run
 
             report = {"soak": soak_run(hours=args.hours), "targets": SOAK_TARGETS, "machine": machine()}
         else:

@@ -1,6 +1,7 @@
 """``bedside measure``: every 10-20 / 10-10 marking distance from three tape measurements.
 
-Output formats: ``table`` (default; grouped by measuring line in walking order),
+Output formats: ``table`` (default: the marking sheet, :mod:`bedside.placement.sheet`,
+the same the app saves with F5; grouped by measuring line in walking order),
 ``json`` (one object: measurements, system, names, marks, positions_mm, neighbours,
 model) and ``csv`` (one row per mark). ``--bids-dir DIR`` also writes BIDS
 ``electrodes.tsv`` and ``coordsystem.json`` into DIR. Bad input: ``error: ...``, exit 2.
@@ -11,19 +12,19 @@ from __future__ import annotations
 import argparse
 import csv
 import io
-import json
 import sys
-import textwrap
 from pathlib import Path
 
 from bedside.cautions import CAUTIONS
 from bedside.errors import InputError
 from bedside.placement import systems
 from bedside.placement.bids import write_coordsystem_json, write_electrodes_tsv
-from bedside.placement.calculator import line_title, plan_placement
+from bedside.placement.calculator import plan_placement
 from bedside.placement.model import HeadModel
+from bedside.placement.sheet import as_taped, marking_sheet
 from bedside.placement.types import Mark, PlacementPlan
 from bedside.placement.validate import UNITS, parse_inferior_circumference, parse_measurements
+from bedside.record.plain import json_text
 
 NAME = "measure"
 ORDER = 10
@@ -116,11 +117,11 @@ def run(args: argparse.Namespace) -> int:
         measurements, system=args.system, names=args.names, inferior_circumference_cm=inferior
     )
     if args.format == "json":
-        out = json.dumps(plan_to_dict(plan, args.unit), indent=2, ensure_ascii=False)
+        out = json_text(plan_to_dict(plan, args.unit))
     elif args.format == "csv":
         out = plan_to_csv(plan)
     else:
-        out = plan_to_table(plan, args.unit)
+        out = marking_sheet(plan, args.unit, as_taped(measurements, args.unit))
     if args.bids_dir is not None:
         written = write_bids(plan, Path(args.bids_dir))
         print("wrote " + " and ".join(str(p) for p in written), file=sys.stderr)
@@ -192,92 +193,6 @@ def plan_to_csv(plan: PlacementPlan) -> str:
                 row.append("" if v is None else v)
         writer.writerow(row)
     return buf.getvalue()
-
-
-def _num(x: float, unit: str) -> str:
-    if unit == "mm":
-        return f"{x * 10:.0f}"
-    if unit == "in":
-        return f"{x / UNITS['in']:.2f}"
-    return f"{x:.1f}"
-
-
-def plan_to_table(plan: PlacementPlan, unit: str = "cm") -> str:
-    """Plain-text plan: one block per measuring line, in walking order."""
-    m = plan.measurements
-    naming = (
-        "modern names, classic in brackets"
-        if plan.names == "modern"
-        else ("classic names, modern in brackets")
-    )
-    lines = [
-        f"{plan.system} marks ({naming})",
-        f"head: nasion–inion {m.nasion_inion_cm:.1f} cm, preauricular {m.preauricular_cm:.1f} cm, "
-        f"circumference {m.circumference_cm:.1f} cm"
-        + (
-            f", inferior circumference {plan.inferior_circumference_cm:.1f} cm"
-            if plan.inferior_circumference_cm is not None
-            else ""
-        ),
-    ]
-    lengths = {
-        "midline": f"from the nasion (Nz) over the vertex to the inion, {m.nasion_inion_cm:.1f} cm",
-        "coronal": f"from the left preauricular point (LPA) over Cz, {m.preauricular_cm:.1f} cm",
-        "circumference-left": f"from Fpz round the left side to Oz, {m.circumference_cm / 2:.1f} cm",
-        "circumference-right": f"from Fpz round the right side to Oz, {m.circumference_cm / 2:.1f} cm",
-    }
-    extra_unit = unit != "cm"
-    groups: list[tuple[str, list[Mark]]] = []
-    for mark in plan.marks:
-        if not groups or groups[-1][0] != mark.line:
-            groups.append((mark.line, []))
-        groups[-1][1].append(mark)
-    for n, (line, marks) in enumerate(groups, start=1):
-        lines.append("")
-        title = f"{n}. {line_title(line)}"
-        if line in lengths:
-            title += f" — {lengths[line]}"
-        elif line.startswith("inferior") and marks[0].arc_cm is not None:
-            if plan.inferior_circumference_cm is not None:
-                title += (
-                    f" — from Nz through T9/T10 level to Iz "
-                    f"(your tape: {marks[0].arc_cm:.1f} cm round)"
-                )
-            else:
-                title += (
-                    f" — from Nz through T9/T10 level to Iz (model estimate: "
-                    f"{marks[0].arc_cm:.1f} cm round; tape it and give --inferior-circumference)"
-                )
-        lines.append(title)
-        if line == "reference":
-            for k in marks:
-                lines.append(f"   {k.name:<9} {k.how}")
-            continue
-        head = f"   {'site':<9} {'from':<5} {'at cm':>6} {'step':>6} {'%':>5}"
-        if extra_unit:
-            head += f" {'at ' + unit:>7}"
-        lines.append(head)
-        for k in marks:
-            site = k.name + (f" ({k.other_name})" if k.other_name else "")
-            row = (
-                f"   {site:<9} {k.start:<5} {k.distance_cm:>6.1f} {k.step_cm:>6.1f} {k.percent:>5g}"
-            )
-            if extra_unit:
-                row += f" {_num(k.distance_cm, unit):>7}"
-            lines.append(row)
-            if line == "derived" and k.how:
-                # keep "10.3 cm" together on one line
-                text = k.how.replace(" cm", "\u00a0cm")
-                wrapped = textwrap.wrap(
-                    text, width=92, initial_indent=" " * 13, subsequent_indent=" " * 13
-                )
-                lines.extend(w.replace("\u00a0", " ") for w in wrapped)
-    lines.append("")
-    lines.append(
-        "Distances on the measured lines are the published percentages of your tape "
-        "measurements; positions and the lengths of unmeasured arcs are model estimates."
-    )
-    return "\n".join(lines) + "\n"
 
 
 def write_bids(plan: PlacementPlan, folder: Path) -> tuple[Path, Path]:

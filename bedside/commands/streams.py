@@ -8,10 +8,10 @@ of objects with name, type, source_id, hostname, n_channels, nominal_rate_hz.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 
 from bedside.commands._common import positive_float
+from bedside.record.plain import json_text
 
 NAME = "streams"
 ORDER = 20
@@ -57,7 +57,7 @@ def run(args: argparse.Namespace) -> int:
     found = [s for s in everything if args.all or s.type.strip().casefold() == "eeg"]
     rows = [s.as_dict() for s in found]
     if args.format == "json":
-        print(json.dumps(rows, indent=2, ensure_ascii=False))
+        print(json_text(rows))
     elif rows:
         print(_table(rows))
     if not rows:

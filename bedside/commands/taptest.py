@@ -30,7 +30,6 @@ ended early (the stream was lost), else null.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import time
 from typing import TYPE_CHECKING, Any
@@ -44,6 +43,7 @@ from bedside.commands._common import (
     remember_choices,
 )
 from bedside.errors import InputError
+from bedside.record.plain import json_text
 
 if TYPE_CHECKING:
     from bedside.checks.taptest import TapProblem, TapWalk, WalkStep
@@ -225,7 +225,7 @@ def run(args: argparse.Namespace) -> int:
         ident = source.identity
     report = as_json(ident, walk, problems, stopped)
     if args.format == "json":
-        print(json.dumps(report, indent=2, ensure_ascii=False))
+        print(json_text(report))
     else:
         print(as_table(report))
     return EXIT_OK if report["passed"] else EXIT_ATTENTION

@@ -12,12 +12,12 @@ bed needs attention, was lost or refused, or no bed is visible; 2 on bad input.
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import time
 
 from bedside.commands._common import positive_float
 from bedside.commands.watch import add_app_options
+from bedside.record.plain import json_text
 
 NAME = "ward"
 ORDER = 36
@@ -85,7 +85,7 @@ def run(args: argparse.Namespace) -> int:
     finally:
         ward.close()
     if args.format == "json":
-        print(json.dumps({"streams": rows}, indent=2, ensure_ascii=False))
+        print(json_text({"streams": rows}))
     elif rows:
         print(table(rows))
     if not rows:

@@ -6,22 +6,22 @@ BIDS specification 1.11 (EEG): electrodes.tsv needs ``name``, ``x``, ``y``, ``z`
 ``EEGCoordinateSystem`` (here ``Other``, with ``EEGCoordinateSystemDescription``) and
 ``EEGCoordinateUnits`` (here ``mm``).
 
-Both files are written atomically (temporary file in the same folder, fsync, rename),
-so a crash leaves the old file or the new one, never half of one. The record package
+Both files are written atomically (``bedside.record.atomic``: temporary file in the
+same folder, fsync, rename, owner-only), so a crash leaves the old file or the new one,
+never half of one. The record package
 uses these writers too.
 """
 
 from __future__ import annotations
 
-import contextlib
 import json
 import math
 import os
-import tempfile
 from collections.abc import Mapping
 from pathlib import Path
 
 from bedside.errors import RecordError
+from bedside.record.atomic import atomic_write_text
 
 #: The frame the head model uses, in words for coordsystem.json.
 COORDINATE_DESCRIPTION = (
@@ -33,28 +33,7 @@ COORDINATE_DESCRIPTION = (
 
 
 def _atomic_write_text(path: Path, text: str) -> None:
-    path = Path(path)
-    folder = path.parent if str(path.parent) else Path(".")
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    except OSError as exc:
-        raise RecordError(f"cannot write {path}: {exc.strerror or exc}") from exc
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except OSError as exc:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise RecordError(f"cannot write {path}: {exc.strerror or exc}") from exc
-    with contextlib.suppress(OSError):
-        dfd = os.open(folder, os.O_RDONLY)
-        try:
-            os.fsync(dfd)
-        finally:
-            os.close(dfd)
+    atomic_write_text(path, text, error=RecordError)
 
 
 def _cell(value: object) -> str:

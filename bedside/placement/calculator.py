@@ -345,12 +345,3 @@ def _second_rule_points(b: _Builder) -> dict[str, tuple[FloatArray, float]]:
             arc = b.model.plane_arc(p[k1], p[k2])
             out[site] = (arc.point_at_mm(0.5 * arc.length_mm), arc.length_mm)
     return out
-
-
-def arc_lengths_cm(model: HeadModel) -> tuple[float, float, float]:
-    """The model's own nasion–inion, preauricular and circumference arcs (cm)."""
-    return (
-        model.nasion_inion_mm() / 10.0,
-        model.preauricular_mm() / 10.0,
-        model.circumference_mm() / 10.0,
-    )

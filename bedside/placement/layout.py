@@ -9,10 +9,16 @@ and women (57.2 and 55.2 cm, Bushby et al. 1992); the arcs are typical adult val
 
 from __future__ import annotations
 
+import csv
+import json
 import math
 from collections.abc import Iterable, Mapping, Sequence
 from functools import lru_cache
+from pathlib import Path
 
+import numpy as np
+
+from bedside.errors import InputError
 from bedside.placement import systems
 from bedside.placement.calculator import plan_placement
 from bedside.placement.model import HeadModel
@@ -24,6 +30,9 @@ AVERAGE_ADULT = HeadMeasurements(nasion_inion_cm=36.0, preauricular_cm=35.0, cir
 #: Angle from the vertex that maps to the rim of the 2-D map: 120° holds the
 #: references just below the nasion–preauricular–inion level (which sits at 90°).
 MAP_RIM_DEG = 120.0
+#: Where the nasion–preauricular–inion level (90° from the vertex) falls on the map:
+#: the radius a drawing gives its head outline.
+EQUATOR_ON_MAP = 90.0 / MAP_RIM_DEG
 
 
 @lru_cache(maxsize=2)
@@ -107,6 +116,9 @@ def project_2d(
 ) -> tuple[float, float]:
     """Map a position to the 2-D head map: azimuthal equidistant from the vertex.
 
+    The one head projection: the app's head map (Measure and Watch) and the HTML
+    report's map both place every named site with it.
+
     Returns (x, y) in [-1, 1]: +y towards the nose (up on the map), +x to the right;
     the radius grows with the angle from the vertex, reaching 1 at ``MAP_RIM_DEG``
     (the nasion–preauricular–inion level lies at 0.75). Positions are first scaled by
@@ -139,7 +151,6 @@ def fit_sphere(points_mm: Sequence[Sequence[float]]) -> tuple[tuple[float, float
     """Centre and radius (mm) of the sphere nearest the points (linear least squares:
     |p|² = 2 c·p + (r² − |c|²)), or None with fewer than 4 points, points on one plane,
     or a radius no head has (see ``_FIT_RADIUS_MM``)."""
-    import numpy as np
 
     p = np.asarray(points_mm, dtype=float).reshape(-1, 3)
     p = p[np.all(np.isfinite(p), axis=1)]
@@ -188,11 +199,6 @@ def read_electrodes_tsv(path: str) -> dict[str, tuple[float, float, float]]:
     or mm); without one, from the size of the head (a median distance from the
     centre below 1 is metres, below 30 centimetres, else millimetres). Rows whose
     x/y/z are "n/a" are left out. Problems are InputErrors naming the file."""
-    import csv
-    import json
-    from pathlib import Path
-
-    from bedside.errors import InputError
 
     p = Path(path)
     try:
@@ -235,7 +241,6 @@ def read_electrodes_tsv(path: str) -> dict[str, tuple[float, float, float]]:
 
 def _guess_mm_factor(points: Sequence[tuple[float, float, float]]) -> float:
     """mm per unit from the size of a head (radius about 0.09 m)."""
-    import numpy as np
 
     p = np.asarray(points, dtype=float)
     r = float(np.median(np.linalg.norm(p - p.mean(axis=0), axis=1))) if len(p) > 1 else 0.0
@@ -257,7 +262,6 @@ def geometry_neighbours(
     the neonatal Fp3 → AF3, configs/labels.yaml)."""
     placed = {n: positions_mm[n] for n in names if n in positions_mm}
     if len(placed) >= 3:
-        import numpy as np
 
         p = np.asarray(list(placed.values()), dtype=float)
         radius = float(np.median(np.linalg.norm(p - p.mean(axis=0), axis=1)))

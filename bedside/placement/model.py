@@ -33,7 +33,6 @@ from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy.optimize import brentq
 
 from bedside.errors import MeasurementError
 
@@ -65,6 +64,8 @@ def quarter_perimeter(p: float | FloatArray, c: float | FloatArray) -> FloatArra
 
 def _axis_for_quarter(quarter: float, c: float) -> float:
     """The half-axis p with quarter_perimeter(p, c) == quarter (needs quarter > c)."""
+    from scipy.optimize import brentq  # lazy: see fit_head
+
     return float(
         brentq(lambda p: float(quarter_perimeter(p, c)) - quarter, 0.0, quarter, xtol=1e-9)
     )
@@ -307,6 +308,11 @@ def _fit_mm(ni: float, pa: float, circ: float) -> HeadModel:
             f"must lie between {hi_cm:.1f} and {lo_cm:.1f} cm, got {circ / 10:.1f} cm "
             f"(too {too}); re-measure, and check all three are in the same unit"
         )
+    # Lazy, measured: scipy.optimize costs about 0.7 s to import (python -X importtime;
+    # half of a cold `bedside --help`), and every command imports placement to build
+    # its parser or draw a map; only fitting a head needs it.
+    from scipy.optimize import brentq
+
     c = float(brentq(gap, lo, hi, xtol=1e-6))
     a, b = axes(c)
     return HeadModel(a_mm=a, b_mm=b, c_mm=c)

@@ -30,6 +30,7 @@ from bedside.checks.types import (
 )
 from bedside.errors import BedsideError
 from bedside.metric_labels import METRIC_LABELS, metric_label, report_metrics
+from bedside.placement.layout import EQUATOR_ON_MAP, project_2d
 from bedside.record.log import SetupLog, TapedMeasurements
 from bedside.record.trends import TrendBin
 
@@ -113,16 +114,13 @@ def _positions(log_: SetupLog, names: list[str]) -> tuple[dict[str, tuple[float,
 
 
 def _project(xyz: tuple[float, float, float], radius_px: float) -> tuple[float, float]:
-    """Azimuthal equidistant projection from the vertex: the polar angle from +z maps to the
-    distance from the centre (90° on the head outline), front up, left on the left."""
-    x, y, z = xyz
-    norm = math.sqrt(x * x + y * y + z * z)
-    if norm == 0:
-        return 0.0, 0.0
-    polar = math.acos(max(-1.0, min(1.0, z / norm)))
-    r = polar / (math.pi / 2) * radius_px
-    azimuth = math.atan2(y, x)
-    return r * math.cos(azimuth), -r * math.sin(azimuth)
+    """A site's place on the page: :func:`bedside.placement.layout.project_2d`, the
+    projection the app's head map uses (azimuthal equidistant from the vertex, front up,
+    left on the left), scaled so that 90° from the vertex falls on the head outline of
+    ``radius_px``; the page's y grows downwards."""
+    x, y = project_2d(xyz)
+    scale = radius_px / EQUATOR_ON_MAP
+    return x * scale, -y * scale
 
 
 def _marker(key: str, cx: float, cy: float, size: float) -> str:

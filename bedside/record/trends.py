@@ -18,7 +18,10 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from bedside.checks.types import QualityFrame
 
 #: Shown and logged with every reminder: the caution, deferring to local policy.
 SKIN_CAUTION = (
@@ -62,7 +65,7 @@ class TrendKeeper:
         self._last_t: float | None = None
         self._acc: dict[str, list[float]] = {}  # name → [judged_s, good_s, mains_sum, mains_n, drift_sum, drift_n]
 
-    def feed(self, frame: Any, t_s: float) -> list[TrendBin]:
+    def feed(self, frame: QualityFrame, t_s: float) -> list[TrendBin]:
         if self._t0 is None:
             self._t0 = t_s
         out: list[TrendBin] = []
@@ -125,7 +128,7 @@ class AlertKeeper:
         self._since: dict[str, float] = {}
         self._raised: set[str] = set()
 
-    def feed(self, frame: Any, t_s: float) -> list[Alert]:
+    def feed(self, frame: QualityFrame, t_s: float) -> list[Alert]:
         out: list[Alert] = []
         for ch in frame.channels:
             if not ch.is_scalp or ch.level is None:

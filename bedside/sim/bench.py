@@ -16,6 +16,7 @@ import time
 import uuid
 
 from bedside.sim.generator import SignalGenerator
+from bedside.sim.publish import Publisher
 from bedside.sim.scenario import load_scenario
 
 
@@ -33,8 +34,6 @@ def bench_generate(name: str, seconds: float = 60.0, chunk_s: float = 0.02) -> f
 
 def bench_publish(name: str, seconds: float = 8.0) -> float:
     """CPU % of one core for this process while publishing ``name`` in real time."""
-    from bedside.sim.publish import Publisher
-
     pub = Publisher(name, name=f"bedside-bench-{uuid.uuid4().hex[:6]}", duration_s=seconds + 1.0)
     pub.start()
     time.sleep(1.0)  # leave out opening the outlet and the first noise segments

@@ -22,6 +22,11 @@ seeded generator and cross-faded with power-complementary windows (sin² + cos²
 so the noise is stationary and the same wherever a chunk starts. Events (heart beats,
 blinks, muscle bursts, pops) sit on a jittered grid whose jitter comes from a hash of
 the event's number.
+
+Why one module of about 570 lines: nearly all of it is :class:`SignalGenerator`, whose
+parts (background, physiology, electrode and reference faults, mains) share one
+seeded segment cache, one time base and the per-channel geometry; taken apart, each
+piece would need that state passed in and would be called from ``_compute`` only.
 """
 
 from __future__ import annotations

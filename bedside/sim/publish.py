@@ -44,7 +44,7 @@ UNIT_FROM_UV = {"microvolts": 1.0, "millivolts": 1e-3, "volts": 1e-6, "nanovolts
 def import_pylsl() -> Any:
     """pylsl, or a clear error: liblsl missing makes pylsl raise RuntimeError (pylsl 1.18 behaviour)."""
     try:
-        import pylsl
+        import pylsl  # lazy: loading liblsl can fail; that becomes LSLUnavailable here
     except ImportError as exc:
         raise LSLUnavailable("pylsl is not installed; install bedside's dependencies") from exc
     except RuntimeError as exc:

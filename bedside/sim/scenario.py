@@ -32,6 +32,10 @@ Two pseudo-electrodes stand for the shared electrodes of the montage:
 
 ``end_s`` left out means "until the end of the scenario". Times are seconds from the
 start of the scenario; a looping scenario repeats its timeline every ``duration_s``.
+
+Why one module of about 400 lines: it is the scenario file format — its dataclasses
+check themselves as they are read, so each rule a file must follow sits beside the
+field it governs, and the loader is a few lines at the end.
 """
 
 from __future__ import annotations

@@ -7,9 +7,12 @@ Modules (only :mod:`bedside.stream.lsl` imports pylsl, lazily):
 * ``discovery`` — ``find_streams``, ``select_stream``, ``resolve_one``; ``StreamLook`` (a
   look that answers as streams reply, for the app's picker).
 * ``reader`` — ``LslSource(identity, settings=None)`` (the Source protocol) and
-  ``open_stream(name, source_id, host, wait_s)``.
+  ``open_stream(name, source_id, host, wait_s)``; ``metadata`` reads a full info's
+  channel, reference and acquisition description for it.
 * ``labels`` / ``units`` / ``channels`` — metadata to :class:`ChannelInfo`.
 * ``health`` — ``HealthTracker`` (rate, gaps, clock jumps, stale/lost, reconnects).
-* ``ring`` — ``RingBuffer(capacity_samples, n_channels)``.
+* ``ring`` — ``RingBuffer(capacity_samples, n_channels)``, the one buffer of recent
+  samples; ``tee.KeepRecent`` keeps a stream's newest seconds in one (``check --clip``,
+  the app's display copy).
 * ``settings`` — ``StreamSettings`` from ``configs/stream.yaml``.
 """

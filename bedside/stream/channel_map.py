@@ -24,7 +24,8 @@ from pathlib import Path
 import yaml
 
 from bedside.config import read_yaml
-from bedside.errors import ConfigError, InputError
+from bedside.errors import ConfigError, InputError, LogSaveError
+from bedside.record.atomic import atomic_write_text
 from bedside.stream.channels import ChannelChoice
 from bedside.stream.labels import KINDS
 
@@ -77,9 +78,6 @@ def _store_path(source_id: str) -> Path:
 def save_choices(source_id: str, choices: Mapping[str, ChannelChoice]) -> Path | None:
     """Remember ``choices`` for this source_id (atomic write); None when it cannot be saved
     (logged: the choice still holds for this session)."""
-    from bedside.errors import LogSaveError
-    from bedside.record.atomic import atomic_write_text
-
     entries = {label: {k: v for k, v in (("type", c.type), ("name", c.name)) if v is not None}
                for label, c in choices.items()}
     text = yaml.safe_dump({"source_id": source_id, "channels": entries}, allow_unicode=True, sort_keys=False)

@@ -5,6 +5,12 @@ them may be missing, or list more or fewer channels than the stream carries), an
 what the technologist said (a channel map, a reference, a scale). Output: one
 :class:`ChannelInfo` per channel the stream carries, with unique names, a BIDS type
 each, plus plain-language notes on everything that had to be assumed.
+
+Why one module of about 430 lines: :func:`setup_channels` is the one place where a
+stream's channels are decided (types and names, the technologist's choices, the
+reference, positions, the amplifier profile), and its steps are small pure functions
+read here top to bottom in the order it calls them; split, each piece would be called
+from this one function only and the order of the decisions would no longer be on one page.
 """
 
 from __future__ import annotations

@@ -125,6 +125,8 @@ def _load() -> ModuleType:
     global _module
     if _module is None:
         try:
+            # Lazy on purpose: importing pylsl loads liblsl (a missing one raises here and
+            # becomes LSLUnavailable, a clear message), and only after prepare_lsl.
             import pylsl as mod
         except RuntimeError as exc:  # pylsl raises RuntimeError when liblsl is missing
             raise LSLUnavailable(HOW_TO_GET_LIBLSL) from exc

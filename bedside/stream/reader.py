@@ -3,8 +3,9 @@
 Opening: the identity is looked up again on the network by its source_id (and name and
 host), a ``StreamInlet(recover=True)`` is opened with LSL clock synchronisation (so
 timestamps are on this computer's LSL clock), and the full metadata is read from
-``inlet.info(timeout)`` (resolved infos carry no channel description). Labels, types and
-units become :class:`ChannelInfo` (see :mod:`bedside.stream.channels`).
+``inlet.info(timeout)`` (resolved infos carry no channel description) by
+:mod:`bedside.stream.metadata`. Labels, types and units become :class:`ChannelInfo`
+(see :mod:`bedside.stream.channels`).
 
 Reading: :meth:`LslSource.pull` takes whatever arrived into a buffer allocated once and
 returns a :class:`Chunk` of **new** arrays, (n_samples, n_channels) in µV, that the
@@ -31,17 +32,12 @@ import numpy as np
 
 from bedside.errors import BedsideError, StreamError, StreamFormatError, StreamNotFound
 from bedside.stream.amplifier import AmplifierProfile
-from bedside.stream.channels import (
-    ChannelMetadata,
-    ChannelOptions,
-    Reference,
-    StreamMetadata,
-    setup_channels,
-)
-from bedside.stream.discovery import describe, identity_of
+from bedside.stream.channels import ChannelOptions, Reference, setup_channels
+from bedside.stream.discovery import describe, identity_of, resolve_one
 from bedside.stream.health import HealthTracker
 from bedside.stream.labels import LabelRules, load_labels
 from bedside.stream.lsl import local_clock, pylsl, translate
+from bedside.stream.metadata import read_stream_metadata
 from bedside.stream.settings import StreamSettings, load_stream_settings
 from bedside.stream.types import ChannelInfo, Chunk, StreamHealth, StreamIdentity
 from bedside.stream.units import is_counts, unit_suspicion
@@ -96,74 +92,6 @@ def check_channel_count(identity: StreamIdentity, settings: StreamSettings) -> N
             f"{describe(identity)} carries {n} channels; bedside reads at most "
             f"{settings.max_channels} (max_channels in configs/stream.yaml)"
         )
-
-
-def read_channel_metadata(info: Any) -> tuple[list[str] | None, list[str], list[str]]:
-    """``(labels or None, types, units)`` from ``desc/channels/channel/*`` of a full info.
-
-    Walks the XML itself (pylsl's getters print to stdout when counts disagree).
-    """
-    channels = info.desc().child("channels")
-    if channels.empty():
-        return None, [], []
-    labels: list[str] = []
-    types: list[str] = []
-    units: list[str] = []
-    ch = channels.child("channel")
-    while not ch.empty():
-        labels.append(ch.child_value("label"))
-        types.append(ch.child_value("type"))
-        units.append(ch.child_value("unit"))
-        ch = ch.next_sibling("channel")
-    return (labels if labels else None), types, units
-
-
-def _location(ch: Any) -> tuple[float, float, float] | None:
-    loc = ch.child("location")
-    if loc.empty():
-        return None
-    try:
-        xyz = tuple(float(loc.child_value(k)) for k in ("X", "Y", "Z"))
-    except ValueError:
-        return None
-    if not all(math.isfinite(v) for v in xyz) or xyz == (0.0, 0.0, 0.0):
-        return None
-    return (xyz[0], xyz[1], xyz[2])
-
-
-def _children(node: Any) -> dict[str, str]:
-    out: dict[str, str] = {}
-    if node.empty():
-        return out
-    child = node.first_child()
-    while not child.empty():
-        out.setdefault(child.name(), child.child_value())
-        child = child.next_sibling()
-    return out
-
-
-def read_stream_metadata(info: Any) -> StreamMetadata:
-    """The channel, reference and acquisition description of a full info (XDF EEG
-    meta-data convention: ``desc/channels/channel/{label, unit, type, location/{X,Y,Z}}``
-    with locations in mm, ``desc/reference/{label, subtracted, common_average}``,
-    ``desc/acquisition/*``). A per-channel ``scaling_factor`` is read as µV per count, a
-    per-channel ``impedance`` as kΩ (the convention's unit)."""
-    labels, types, units = read_channel_metadata(info)
-    scales: list[str] = []
-    locations: list[tuple[float, float, float] | None] = []
-    impedances: list[str] = []
-    channels = info.desc().child("channels")
-    ch = channels.child("channel") if not channels.empty() else channels
-    while not ch.empty():
-        scales.append(ch.child_value("scaling_factor"))
-        locations.append(_location(ch))
-        impedances.append(ch.child_value("impedance"))
-        ch = ch.next_sibling("channel")
-    return StreamMetadata(
-        ChannelMetadata(labels, types, units, scales, locations, impedances),
-        _children(info.desc().child("reference")),
-        _children(info.desc().child("acquisition")),
-    )
 
 
 class LslSource:
@@ -452,8 +380,6 @@ def open_stream(
 ) -> LslSource:
     """Select one EEG stream the way every command does (``--stream``, ``--source-id``,
     ``--host``, ``--wait``; see :func:`bedside.stream.discovery.resolve_one`) and open it."""
-    from bedside.stream.discovery import resolve_one
-
     s = settings or load_stream_settings()
     identity = resolve_one(name=name, source_id=source_id, host=host, wait_s=wait_s, settings=s)
     return LslSource(identity, s, labels, options)

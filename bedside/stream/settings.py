@@ -20,7 +20,6 @@ STREAM_CONFIG = CONFIG_DIR / "stream.yaml"
 class StreamSettings:
     """How bedside reads and judges an LSL stream (times in seconds, rates in Hz)."""
 
-    buffer_s: float = field(default=60.0, metadata={"min": 5.0, "max": 600.0})
     stale_after_s: float = field(default=2.0, metadata={"min": 0.2, "max": 30.0})
     forget_after_s: float = field(default=1.0, metadata={"min": 0.2, "max": 30.0})
     lost_after_s: float = field(default=5.0, metadata={"min": 0.5, "max": 300.0})
@@ -58,9 +57,6 @@ class StreamSettings:
                 f"min_rate_hz ({self.min_rate_hz}) must be below max_rate_hz ({self.max_rate_hz})"
             )
 
-    def buffer_samples(self, rate_hz: float) -> int:
-        """Ring-buffer length, in samples, for a stream at ``rate_hz``."""
-        return max(1, int(round(self.buffer_s * rate_hz)))
 
 
 def load_stream_settings(path: Path | str = STREAM_CONFIG) -> StreamSettings:

@@ -1,7 +1,8 @@
 """A Source wrapper that passes every chunk through and lets its owner see it.
 
 Used where a consumer besides the checks needs the raw samples: the app's trace view
-(a display copy) and ``bedside check --clip`` (the newest seconds for an EDF+ clip).
+(a display copy, ``bedside.ui.feed.TeeSource``) and ``bedside check --clip`` (the newest
+seconds for an EDF+ clip); both keep them in a :class:`KeepRecent`.
 """
 
 from __future__ import annotations
@@ -57,14 +58,20 @@ class PassThrough:
         self.close()
 
 
+#: The rate assumed for a stream that declares none (irregular), so seconds still mean
+#: samples; LslSource refuses such streams, replays and tests may not.
+FALLBACK_RATE_HZ = 250.0
+
+
 class KeepRecent(PassThrough):
-    """Keeps the newest ``seconds`` of samples (µV, (n_samples, n_channels)) in a RingBuffer."""
+    """Keeps the newest ``seconds`` of samples (µV, (n_samples, n_channels)) with their
+    timestamps in :attr:`ring`, the one :class:`~bedside.stream.ring.RingBuffer`."""
 
     def __init__(self, inner: Source, seconds: float) -> None:
         super().__init__(inner)
         rate = inner.identity.nominal_rate_hz
-        self.rate_hz = rate if rate > 0 else 250.0
-        self.ring = RingBuffer(max(1, int(round(seconds * self.rate_hz))), len(inner.channels))
+        self.rate_hz = rate if rate > 0 else FALLBACK_RATE_HZ
+        self.ring = RingBuffer.for_seconds(seconds, self.rate_hz, len(inner.channels))
 
     def on_chunk(self, chunk: Chunk) -> None:
         self.ring.extend(chunk.samples_uv, chunk.timestamps)

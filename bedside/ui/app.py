@@ -7,6 +7,7 @@ thread-safe). The UI never computes a quality metric.
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import logging
 import math
@@ -29,6 +30,7 @@ from bedside.errors import AmbiguousStream, BedsideError, IndistinguishableStrea
 from bedside.placement.types import PlacementPlan
 from bedside.record.log import TapedMeasurements
 from bedside.record.trends import AlertKeeper, SkinReminder
+from bedside.record.worker import LogWorker
 from bedside.stream.source import Source
 from bedside.stream.types import StreamIdentity
 from bedside.ui.config import VIEWS, AppConfig, View
@@ -44,7 +46,7 @@ from bedside.ui.screens.profiles import ProfilePicker
 from bedside.ui.screens.ward import WardScreen
 from bedside.ui.screens.watch import WatchScreen
 from bedside.ui.services import ChannelPreview, Services, StreamLookLike, default_services
-from bedside.ui.session import Connection, RecorderGate, connect
+from bedside.ui.session import Connection, connect
 from bedside.ui.widgets.impedance_line import ImpedanceView
 from bedside.ui.widgets.stream_status import STATE_LOOK
 
@@ -116,7 +118,7 @@ class MapPlaces:
 
 
 class LogOpened(Message):
-    def __init__(self, gate: RecorderGate | None, error: str = "") -> None:
+    def __init__(self, gate: LogWorker[Any] | None, error: str = "") -> None:
         super().__init__()
         self.gate, self.error = gate, error
 
@@ -166,7 +168,7 @@ class BedsideApp(App[int]):
         self.identity: StreamIdentity | None = source.identity if source is not None else None
         self._ward_screen: WardScreen | None = None  # bedside ward: the list of beds
         self.connection: Connection | None = None
-        self.recorder: RecorderGate | None = None
+        self.recorder: LogWorker[Any] | None = None
         self._log_error = "" if config.log_path else "no setup log is kept in this session (it was started without one)"
         self.latest_frame: QualityFrame | None = None
         self.progress: Progress | None = None
@@ -301,12 +303,12 @@ class BedsideApp(App[int]):
             self.recorder = None
         self.post_message(ShutdownDone(problems))
 
-    def _close_log(self, gate: RecorderGate) -> None:
-        gate.call("save_now")
+    def _close_log(self, gate: LogWorker[Any]) -> None:
+        gate.call(lambda r: r.save_now())
         if self.config.discard_empty_log:
-            gate.call("close", True)
+            gate.call(lambda r: r.close(True))
         else:
-            gate.call("close")
+            gate.call(lambda r: r.close())
         if getattr(gate.recorder, "discarded", False):
             self.log_outcome = "nothing was recorded, so no setup log was kept"
         else:
@@ -610,7 +612,7 @@ class BedsideApp(App[int]):
 
     def _frame_recorder(self) -> tuple[Any, Any] | None:
         gate = self.recorder
-        return (gate.recorder.on_frame, gate.lock) if gate is not None else None
+        return (gate.recorder.on_frame, contextlib.nullcontext()) if gate is not None else None
 
     def _points_for(self, conn: Connection) -> MapPlaces:
         """Map places for the stream's scalp channels: the geometry the stream gives (its
@@ -658,7 +660,7 @@ class BedsideApp(App[int]):
         self.status_note = ""
         if self.recorder is not None:
             conn = message.connection
-            self.recorder.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+            self.recorder.submit(lambda r: r.set_stream(conn.identity, conn.channels), self._log_done("stream"))
         if self._watch_ready():
             self.views["watch"].set_points(self.points, self.unplaced)
         self._refresh_watch_status()
@@ -694,7 +696,7 @@ class BedsideApp(App[int]):
         was = self.ready_gate.ready_at_s
         state = self.ready_state = self.ready_gate.update(frame, t)
         if was is None and state.ready and self.recorder is not None:
-            self.recorder.submit("set_ready", (state.hold_s, state.accepted, "app"), self._log_done("ready"))
+            self.recorder.submit(lambda r: r.set_ready(state.hold_s, state.accepted, "app"), self._log_done("ready"))
         if self.cues.update(frame, state) and self.bell_on:
             self.bell()
         # Long recordings: an electrode that degraded and stayed so, and skin checks.
@@ -767,7 +769,7 @@ class BedsideApp(App[int]):
 
     def mains_hz(self) -> tuple[float, ...]:
         frame = self.latest_frame
-        value = frame.extras.get("mains_hz") if frame is not None else None
+        value = frame.mains_hz if frame is not None else None
         if isinstance(value, int | float) and math.isfinite(value) and value > 0:
             return (float(value),)
         return ()  # not detected (yet, or none there): the spectrum marks nothing
@@ -786,7 +788,7 @@ class BedsideApp(App[int]):
         self.plan = plan
         self.taped = taped
         if self.recorder is not None:
-            self.recorder.submit("set_plan", (plan, taped), self._log_done("marks"))
+            self.recorder.submit(lambda r: r.set_plan(plan, taped), self._log_done("marks"))
         if self.connection is not None:
             self._remap(self.connection)
 
@@ -827,7 +829,7 @@ class BedsideApp(App[int]):
         except BedsideError as exc:
             self.post_message(LogOpened(None, str(exc)))
             return
-        self.post_message(LogOpened(RecorderGate(recorder)))
+        self.post_message(LogOpened(LogWorker(recorder)))
 
     def on_log_opened(self, message: LogOpened) -> None:
         if message.gate is None:
@@ -838,13 +840,14 @@ class BedsideApp(App[int]):
         log_screen = self.views.get("log")
         if log_screen is not None and log_screen.is_mounted:
             log_screen.refresh_status()  # its status line and file name, now, not at the next tick
-        if self.profile is not None:
-            message.gate.submit("set_profile", (self.profile.name, self.profile.sha256), self._log_done("profile"))
-        if self.plan is not None:
-            message.gate.submit("set_plan", (self.plan, self.taped), self._log_done("marks"))
+        profile, plan, taped = self.profile, self.plan, self.taped
+        if profile is not None:
+            message.gate.submit(lambda r: r.set_profile(profile.name, profile.sha256), self._log_done("profile"))
+        if plan is not None:
+            message.gate.submit(lambda r: r.set_plan(plan, taped), self._log_done("marks"))
         if self.connection is not None:
             conn = self.connection
-            message.gate.submit("set_stream", (conn.identity, conn.channels), self._log_done("stream"))
+            message.gate.submit(lambda r: r.set_stream(conn.identity, conn.channels), self._log_done("stream"))
 
     def _log_done(self, what: str) -> Any:
         def done(ok: bool, text: str, status: Any) -> None:
@@ -864,7 +867,7 @@ class BedsideApp(App[int]):
         if log_screen is not None and log_screen.is_mounted:
             log_screen.action_save()
         else:
-            self.recorder.submit("save_now", (), self._log_done("save"))
+            self.recorder.submit(lambda r: r.save_now(), self._log_done("save"))
             self.notify("log saved", timeout=2)
 
     # --- department profile and impedances --------------------------------------------
@@ -901,7 +904,7 @@ class BedsideApp(App[int]):
         before = self.profile
         self.profile = profile
         if self.recorder is not None and (before is None or (before.name, before.sha256) != (profile.name, profile.sha256)):
-            self.recorder.submit("set_profile", (profile.name, profile.sha256), self._log_done("profile"))
+            self.recorder.submit(lambda r: r.set_profile(profile.name, profile.sha256), self._log_done("profile"))
 
     def open_profiles(self) -> None:
         """The department profile picker (Watch: d); the list is read in a worker."""

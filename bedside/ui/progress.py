@@ -8,14 +8,15 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from bedside.checks.types import Level, QualityFrame
+from bedside.record.time_to_good import TimeToGood
 
 
 @dataclass(frozen=True)
 class Progress:
     """not_good: scalp electrodes whose level is not GOOD (or has no data), in stream order.
     time_to_good_s: electrode → seconds from its own first verdict (not "no data") to its
-    first GOOD — the setup log's definition (``SetupLog.time_to_good_s``), so the screen
-    and the log agree (0 for an electrode good from its first verdict). The table shows it
+    first GOOD — ``bedside.record.time_to_good.TimeToGood``, the one definition the setup
+    log uses too (0 for an electrode good from its first verdict). The table shows it
     only beside an electrode that is good now. latest_good: the electrode that most
     recently became good after being not good, and its time."""
 
@@ -30,13 +31,11 @@ class GoodTracker:
     """Follows frames; times are the frames' own wall_time, so replays are exact."""
 
     def __init__(self) -> None:
-        self._first_verdict: dict[str, float] = {}
-        self._first_good: dict[str, float] = {}
+        self._clock = TimeToGood()
         self._latest: tuple[str, float] | None = None
 
     def reset(self) -> None:
-        self._first_verdict.clear()
-        self._first_good.clear()
+        self._clock = TimeToGood()
         self._latest = None
 
     def update(self, frame: QualityFrame) -> Progress:
@@ -46,19 +45,16 @@ class GoodTracker:
             for ch in scalp:
                 if ch.level is None:
                     continue
-                start = self._first_verdict.setdefault(ch.name, frame.wall_time)
-                if ch.level is Level.GOOD and ch.name not in self._first_good:
-                    seconds = round(max(0.0, frame.wall_time - start), 3)
-                    self._first_good[ch.name] = seconds
-                    if seconds > 0:
-                        self._latest = (ch.name, seconds)
+                seconds = self._clock.update(ch.name, ch.level_key, frame.wall_time)
+                if seconds is not None and seconds > 0:
+                    self._latest = (ch.name, seconds)
         not_good = tuple(
             ch.name for ch in scalp if not live or ch.level is not Level.GOOD
         )
         return Progress(
             total=len(scalp),
             not_good=not_good,
-            time_to_good_s=dict(self._first_good),
+            time_to_good_s=self._clock.reached(),
             live=live,
             latest_good=self._latest,
         )

@@ -16,7 +16,7 @@ import pytest
 from mne.preprocessing import compute_bridged_electrodes
 from scipy.signal import sosfilt, sosfilt_zi, sosfreqz
 
-from bedside.checks.bridging import BridgeDetector, design_band, local_minimum, pair_metrics
+from bedside.checks.bridging import BridgeDetector, design_band, local_minimum
 from bedside.checks.settings import load_quality
 
 from .helpers import TEN_TWENTY, eeg_like, feed, make_engine
@@ -65,16 +65,6 @@ def test_placement_neighbours_find_the_same_pairs() -> None:
     x = _bridged_recording(20.0, seed=9)
     frames = feed(make_engine(), x)
     assert _pairs_from_frame(frames[-1]) == {tuple(sorted(p)) for p in BRIDGES}
-
-
-def test_pair_metrics_is_variance_of_difference() -> None:
-    """ED_ij = numpy.var(x_i − x_j) (Tenke & Kayser 2001); r = numpy.corrcoef."""
-    x = _bridged_recording(4.0, seed=3)
-    x[:, 5] += 400.0  # a DC offset must not matter
-    pairs = np.array([(3, 4), (0, 18), (5, 6), (15, 18)])
-    ed, r = pair_metrics(np.cov(x.T), pairs)
-    np.testing.assert_allclose(ed, [np.var(x[:, i] - x[:, j], ddof=1) for i, j in pairs], rtol=1e-8)
-    np.testing.assert_allclose(r, [np.corrcoef(x[:, i], x[:, j])[0, 1] for i, j in pairs], rtol=1e-8)
 
 
 def test_epoch_distance_is_variance_of_the_filtered_difference() -> None:

@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from bedside.bench.simrun import run_scenario
 from bedside.checks.ready import (
     Accepted,
     Cues,
@@ -22,7 +23,6 @@ from bedside.checks.ready import (
     not_good_electrodes,
     parse_accept,
 )
-from bedside.checks.simrun import run_scenario
 from bedside.checks.types import ChannelQuality, Finding, Level, QualityFrame
 from bedside.errors import InputError
 from bedside.sim.scenario import DEMO_DIR, load_scenario

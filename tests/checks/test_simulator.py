@@ -14,8 +14,8 @@ from pathlib import Path
 
 import pytest
 
-from bedside.checks.benchmark import KIND_CHECKS, fault_latency, latency_scenario_path
-from bedside.checks.simrun import run_scenario
+from bedside.bench.engine import KIND_CHECKS, fault_latency, latency_scenario_path
+from bedside.bench.simrun import run_scenario
 
 DETECT_WITHIN_S = {
     "line_noise": 2.0, "flat": 2.0, "pop": 2.0, "clipping": 2.0, "muscle": 2.0,

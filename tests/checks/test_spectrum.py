@@ -13,7 +13,7 @@ from scipy.signal import welch
 
 from bedside.checks import line_noise
 from bedside.checks.settings import load_quality
-from bedside.checks.spectrum import Spectrum, welch_psd
+from bedside.checks.spectrum import Spectrum
 
 from .helpers import feed, make_engine, spectral_copy
 
@@ -43,14 +43,6 @@ def test_streaming_psd_equals_scipy_welch(seconds: float) -> None:
     f_ref, p_ref = welch(x[first : first + n], fs=RATE, nperseg=int(RATE), noverlap=int(RATE) // 2, axis=0)
     np.testing.assert_allclose(spec.freqs_hz, f_ref)
     np.testing.assert_allclose(spec.psd_uv2_per_hz, p_ref, rtol=1e-9, atol=1e-12)
-
-
-def test_plain_welch_helper_equals_scipy() -> None:
-    x, _ = _signal(8.0)
-    f, p = welch_psd(x, RATE, int(RATE))
-    f_ref, p_ref = welch(x, fs=RATE, nperseg=int(RATE), axis=0)
-    np.testing.assert_allclose(f, f_ref)
-    np.testing.assert_allclose(p, p_ref, rtol=1e-9)
 
 
 def test_line_noise_metrics_from_scipy_psd() -> None:

@@ -89,7 +89,7 @@ def test_a_torn_last_record_is_left_out_with_a_note_and_nothing_before_is_lost(t
     j.write_bytes(j.read_bytes() + b'{"add": "notes", "v": {"at": "2026-12-0')
     shutil.copy(path, tmp_path / "copy.yaml")
     shutil.copy(j, journal_path(tmp_path / "copy.yaml"))
-    rec._stop.set()  # leave the first session as a crash would (no close)
+    rec._autosave.stop()  # leave the first session as a crash would (no close)
     copy = tmp_path / "copy.yaml"
     got = load_log(copy)
     assert len(got.timeline) == kept and [n.text for n in got.notes] == ["cap on"]

@@ -234,7 +234,7 @@ def test_an_absurdly_large_file_is_refused_before_reading(
 ) -> None:
     from bedside.record import log as log_module
 
-    monkeypatch.setattr(log_module, "MAX_LOG_BYTES", 1000)
+    monkeypatch.setattr(log_module, "LOG_FILE", dataclasses.replace(log_module.LOG_FILE, max_bytes=1000))
     big = tmp_path / "big.yaml"
     big.write_bytes(b"#" * 2000)
     with pytest.raises(RecordError, match="far larger than any setup log"):

@@ -307,10 +307,10 @@ def test_mains_frequency_found_by_the_engine_is_kept(tmp_path: Path, clock: Fake
 
     with SessionRecorder.open(tmp_path / "m.yaml", subject_id="W3-017", clock=clock) as rec:
         frame = make_frame(clock.now, {"Cz": Level.GOOD})
-        rec.on_frame(dataclasses.replace(frame, extras={"mains_hz": None}))
+        rec.on_frame(dataclasses.replace(frame, mains_hz=None))
         assert rec.snapshot().power_line_hz is None
-        rec.on_frame(dataclasses.replace(frame, extras={"mains_hz": np.float64(60.0)}))
-        rec.on_frame(dataclasses.replace(frame, extras={"mains_hz": 57.0}))  # not a mains value
+        rec.on_frame(dataclasses.replace(frame, mains_hz=np.float64(60.0)))
+        rec.on_frame(dataclasses.replace(frame, mains_hz=57.0))  # not a mains value
     assert load_log(tmp_path / "m.yaml").power_line_hz == 60.0
 
 

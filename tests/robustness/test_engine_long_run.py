@@ -33,9 +33,9 @@ import numpy as np
 import psutil
 import pytest
 
+from bedside.bench.simrun import scenario_channels
 from bedside.checks.engine import Engine
 from bedside.checks.settings import load_quality
-from bedside.checks.simrun import scenario_channels
 from bedside.sim.generator import SignalGenerator
 from bedside.sim.scenario import load_scenario
 

@@ -19,7 +19,7 @@ def test_shipped_file_matches_the_defaults() -> None:
     ("text", "message"),
     [
         ("stream:\n  stale_after: 2\n", r"line 2: 'stream.stale_after' is not a known setting; did you mean 'stale_after_s'"),
-        ("stream:\n  buffer_s: 1\n", r"'stream.buffer_s' is 1.0; accepted: 5.0 to 600.0"),
+        ("stream:\n  stale_after_s: 0.1\n", r"'stream.stale_after_s' is 0.1; accepted: 0.2 to 30.0"),
         ("stream:\n  max_pull_samples: lots\n", r"'stream.max_pull_samples' must be a whole number"),
         ("stream:\n  min_rate_hz: 500\n  max_rate_hz: 400\n", r"min_rate_hz \(500.0\) must be below max_rate_hz"),
         ("stream:\n  lost_after_s: 1\n", r"lost_after_s \(1.0\) must not be below stale_after_s"),

@@ -42,7 +42,7 @@ def frames(k: int) -> list[QualityFrame]:
                            ("mains 12 dB over EEG band — re-seat",), True,
                            {"line_noise": "bad" if (i + j) % 3 == 2 else "good"})
             for i, n in enumerate(names))
-        out.append(QualityFrame(float(j), float(j), chans, (), si.health(), 4.0, {}))
+        out.append(QualityFrame(float(j), float(j), chans, (), si.health(), 4.0))
     return out
 
 

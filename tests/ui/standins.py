@@ -114,7 +114,7 @@ def frame(
     findings: tuple[Finding, ...] = ()
     if bridge is not None and state == "live":
         findings = (Finding("bridge", bridge, Level.BAD, "F3 and C3 look bridged — check for gel between them"),)
-    return QualityFrame(wall_time, wall_time, tuple(out), findings, health(state), 4.0, {"mains_hz": 50.0})
+    return QualityFrame(wall_time, wall_time, tuple(out), findings, health(state), 4.0, mains_hz=50.0)
 
 
 class FixedSource:

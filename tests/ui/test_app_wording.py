@@ -73,7 +73,7 @@ async def test_spectrum_marks_mains_only_once_detected() -> None:
         assert app.mains_hz() == (50.0,)  # the stand-in frame says 50 Hz
         frame = app.latest_frame
         assert frame is not None
-        app.latest_frame = dataclasses.replace(frame, extras={})
+        app.latest_frame = dataclasses.replace(frame, mains_hz=None)
         assert app.mains_hz() == ()
 
 

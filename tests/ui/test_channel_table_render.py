@@ -51,7 +51,7 @@ def frame(j: int, live: bool = True) -> QualityFrame:
         )
         for i in range(N)
     )
-    return QualityFrame(float(j), float(j), chans, (), si.health(), 4.0, {})
+    return QualityFrame(float(j), float(j), chans, (), si.health(), 4.0)
 
 
 class PairApp(App[None]):
@@ -215,7 +215,7 @@ async def test_keys_and_clicks_do_what_they_do_in_datatable() -> None:
         # Other channels: the table is rebuilt, the cursor goes back to the first row.
         app.messages.clear()
         fewer = frame(2)
-        ours.show(QualityFrame(2.0, 2.0, fewer.channels[5:30], (), si.health(), 4.0, {}), True, {})
+        ours.show(QualityFrame(2.0, 2.0, fewer.channels[5:30], (), si.health(), 4.0), True, {})
         mirror(ours, stock)
         await pilot.pause()
         by_table = {w: [(m[0], m[2], m[3]) for m in app.messages if m[1] == w] for w in ("ours", "stock")}

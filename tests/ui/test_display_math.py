@@ -4,7 +4,8 @@
   (Hann window, 'spectrum' scaling: amplitude = sqrt(2 · power) for one-sided bins).
 - Average-reference and bipolar derivations against MNE-Python's
   ``set_eeg_reference(ref_channels="average")`` and ``set_bipolar_reference``.
-- The ring buffer and the time-to-good bookkeeping against values worked by hand.
+- The time-to-good bookkeeping against values worked by hand (the display copy is the
+  stream package's ring buffer, tested in tests/stream/test_ring.py).
 """
 
 from __future__ import annotations
@@ -15,7 +16,6 @@ import scipy.signal
 import standins as si
 
 from bedside.checks.types import ChannelQuality, Level, QualityFrame
-from bedside.ui.feed import DisplayBuffer
 from bedside.ui.plots import amplitude_spectrum_db, derive, spectrum_lines, trace_lines
 from bedside.ui.progress import GoodTracker
 from bedside.ui.screens.log import parse_kohm
@@ -88,19 +88,9 @@ def test_spectrum_marks_land_on_their_columns() -> None:
     assert pic.rows[0][25] == "█"  # the 50 Hz peak is full height, by hand: column 50/100·50
 
 
-def test_display_buffer_keeps_the_latest_samples_in_order() -> None:
-    buf = DisplayBuffer(n_channels=2, rate_hz=10.0, seconds=1.0)  # 10 samples
-    data = np.arange(46.0).reshape(23, 2)
-    for start in range(0, 23, 4):
-        buf.append(data[start:start + 4])
-    np.testing.assert_array_equal(buf.window(), data[-10:])
-    buf.append(np.zeros((3, 5)))  # wrong shape: ignored, never mixed in
-    np.testing.assert_array_equal(buf.window(), data[-10:])
-
-
 def _frame(t: float, levels: dict[str, Level | None], state: str = "live") -> QualityFrame:
     chans = tuple(ChannelQuality(n, lv, {}, (), True) for n, lv in levels.items())
-    return QualityFrame(t, t, chans, (), si.health(state), 4.0, {})
+    return QualityFrame(t, t, chans, (), si.health(state), 4.0)
 
 
 def test_time_to_good_by_hand() -> None:

@@ -41,7 +41,7 @@ def _frame() -> QualityFrame:
     chans = tuple(ChannelQuality(n, Level.BAD if n == "FC2" else Level.GOOD, {}, (), True) for n in CAP_32)
     bridge = (Finding("bridge", ("CP1", "CP2"), Level.CHECK, "CP1 and CP2 look bridged"),
               Finding("bridge", ("F3", "FC1"), Level.BAD, "F3 and FC1 look bridged"))
-    return QualityFrame(1.0, 1.0, chans, bridge, si.health(), 4.0, {})
+    return QualityFrame(1.0, 1.0, chans, bridge, si.health(), 4.0)
 
 
 def _real_places() -> Services:

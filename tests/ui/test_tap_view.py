@@ -120,25 +120,3 @@ async def test_without_a_stream_it_says_so(tmp_path: Path) -> None:
         await pilot.press("k")
         assert await _until(pilot, lambda: isinstance(app.screen, TapTestScreen), 2)
         assert await _until(pilot, lambda: "no stream yet" in si.screen_text(app), 2)
-
-
-def test_the_display_copy_hands_over_what_is_new_in_order() -> None:
-    """DisplayBuffer.since: the samples after a count, oldest first, across the wrap of
-    its ring; when more arrived than it holds, what it holds (the rest is gone)."""
-    import numpy as np
-
-    from bedside.ui.feed import DisplayBuffer
-
-    buf = DisplayBuffer(n_channels=2, rate_hz=10.0, seconds=1.0)  # 10 samples
-    x = np.arange(46, dtype=float).reshape(23, 2)  # sample k is (2k, 2k+1)
-    buf.append(x[:7])
-    got, total = buf.since(0)
-    assert total == 7 and np.array_equal(got, x[:7])
-    buf.append(x[7:12])  # wraps
-    got, total = buf.since(total)
-    assert total == 12 and np.array_equal(got, x[7:12])
-    got, total = buf.since(total)
-    assert total == 12 and got.shape == (0, 2)
-    buf.append(x[12:23])  # more than it holds
-    got, total = buf.since(12)
-    assert total == 23 and np.array_equal(got, x[13:23])

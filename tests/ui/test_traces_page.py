@@ -134,7 +134,7 @@ async def test_256_channels_are_paged() -> None:
     names = [f"E{i + 1}" for i in range(256)]
     chans = tuple(ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in names)
     frame = QualityFrame(1.0, 1.0, tuple(ChannelQuality(n, Level.GOOD, {}, (), True) for n in names),
-                         (), si.health(), 4.0, {})
+                         (), si.health(), 4.0)
     app = make_app(AppConfig(discover=False), source=_Alpha(chans), services=si.services(frames=[frame]))
     async with app.run_test(size=(100, 40)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)
@@ -157,7 +157,7 @@ async def test_at_80x24_the_page_scrolls() -> None:
     names = [f"E{i + 1}" for i in range(40)]
     chans = tuple(ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in names)
     frame = QualityFrame(1.0, 1.0, tuple(ChannelQuality(n, Level.GOOD, {}, (), True) for n in names),
-                         (), si.health(), 4.0, {})
+                         (), si.health(), 4.0)
     app = make_app(AppConfig(discover=False), source=_Alpha(chans), services=si.services(frames=[frame]))
     async with app.run_test(size=(80, 24)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)

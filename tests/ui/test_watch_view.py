@@ -140,7 +140,7 @@ def _many_channel_frame(n: int) -> tuple[tuple[ChannelInfo, ...], QualityFrame]:
     for i, nm in enumerate(names):
         level = (Level.GOOD, Level.CHECK, Level.BAD)[i % 3]
         out.append(ChannelQuality(nm, level, {"mains_uv": float(i), "rms_uv": 10.0}, ("r",), True))
-    return chans, QualityFrame(1.0, 1.0, tuple(out), (), si.health(), 4.0, {})
+    return chans, QualityFrame(1.0, 1.0, tuple(out), (), si.health(), 4.0)
 
 
 class _ManySource(si.FixedSource):

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import time
+from collections.abc import Callable
 from typing import TYPE_CHECKING, Any, cast
 
 from rich.text import Text
@@ -148,7 +149,7 @@ class LogScreen(Screen[None]):
         self.refresh_status()
 
     # --- talking to the log (worker threads) ----------------------------------
-    def _call(self, action: str, method: str, *args: Any) -> None:
+    def _call(self, action: str, call: Callable[[Any], object]) -> None:
         """Queue one call into the log (ordered, off the UI thread)."""
         gate = self.bedside.recorder
         if gate is None:
@@ -158,7 +159,7 @@ class LogScreen(Screen[None]):
         def done(ok: bool, text: str, status: Any) -> None:
             self.post_message(LogResult(action, ok, text, status))
 
-        gate.submit(method, args, done)
+        gate.submit(call, done)
 
     @work(thread=True, exclusive=True, group="log-status", exit_on_error=False)
     def refresh_status(self) -> None:
@@ -203,7 +204,7 @@ class LogScreen(Screen[None]):
         field = event.input.id
         value = event.value.strip()
         if field == "tech":
-            self._call("initials set", "set_technologist", value)
+            self._call("initials set", lambda r: r.set_technologist(value))
         elif field == "subject":
             self._set_subject(value)
         elif field == "note":
@@ -219,13 +220,14 @@ class LogScreen(Screen[None]):
 
     def _set_subject(self, subject: str) -> None:
         # A log bedside named after the subject is renamed with it (the new path is shown).
-        self._call("subject ID set", "set_subject", subject, self.bedside.config.rename_log_with_subject)
+        rename = self.bedside.config.rename_log_with_subject
+        self._call("subject ID set", lambda r: r.set_subject(subject, rename))
 
     def add_note(self, text: str) -> None:
         at = time.strftime("%H:%M:%S")
         self.notes.append((at, text))
         self.query_one("#note-table", DataTable).add_row(at, text)
-        self._call("note added", "add_note", text)
+        self._call("note added", lambda r: r.add_note(text))
 
     def _impedance(self) -> None:
         e_in, k_in = self.query_one("#imp-electrode", Input), self.query_one("#imp-kohm", Input)
@@ -258,7 +260,7 @@ class LogScreen(Screen[None]):
         else:
             table.add_row(electrode, f"{kohm:g}", at, key=electrode)
         self.impedances[electrode] = kohm
-        self._call(f"impedance {electrode} {kohm:g} kΩ", "set_impedance", electrode, kohm)
+        self._call(f"impedance {electrode} {kohm:g} kΩ", lambda r: r.set_impedance(electrode, kohm))
         if verdict is not None and verdict.level != "good":  # said, beside the log's "●"
             self.notify(f"{electrode}: {verdict.reason}", severity="warning", timeout=8)
         e_in.value, k_in.value = "", ""
@@ -268,7 +270,7 @@ class LogScreen(Screen[None]):
         tech = self.query_one("#tech", Input).value.strip()
         subject = self.query_one("#subject", Input).value.strip()
         if tech:
-            self._call("initials set", "set_technologist", tech)
+            self._call("initials set", lambda r: r.set_technologist(tech))
         if subject:
             self._set_subject(subject)
 
@@ -280,7 +282,7 @@ class LogScreen(Screen[None]):
 
     def action_save(self) -> None:
         self._push_identity()
-        self._call("saved", "save_now")
+        self._call("saved", lambda r: r.save_now())
 
     def action_sign_off(self) -> None:
         if not self.query_one("#tech", Input).value.strip():
@@ -306,8 +308,9 @@ class LogScreen(Screen[None]):
 
     def _sign_off(self, exceptions: tuple[Accepted, ...]) -> None:
         self._push_identity()
-        self._call("signed off", "sign_off", self.query_one("#tech", Input).value.strip(), exceptions)
-        self._call("saved", "save_now")
+        initials = self.query_one("#tech", Input).value.strip()
+        self._call("signed off", lambda r: r.sign_off(initials, exceptions))
+        self._call("saved", lambda r: r.save_now())
 
     def action_leave_field(self) -> None:
         self.query_one("#save", Button).focus()

@@ -18,10 +18,10 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Label, Select, Static
 
 from bedside.errors import BedsideError
+from bedside.placement.sheet import as_taped, grouped, in_unit
 from bedside.placement.types import Mark, PlacementPlan
-from bedside.placement.validate import UNITS as CM_PER_UNIT
 from bedside.record.log import TapedMeasurements
-from bedside.ui.export import grouped, short_line
+from bedside.ui.export import plan_as_text, short_line
 from bedside.ui.widgets.head_map import HeadMap
 
 if TYPE_CHECKING:
@@ -59,18 +59,9 @@ COLUMNS = (
 
 
 def taped_from(plan: PlacementPlan, unit: str) -> TapedMeasurements:
-    """The plan's measurements back in the unit they were typed in (the cm were
-    computed from them, so this gives the typed numbers, rounding noise aside)."""
-    factor = CM_PER_UNIT[unit]
-    m = plan.measurements
-    ni, pa, circ = (round(v / factor, 6) for v in (m.nasion_inion_cm, m.preauricular_cm, m.circumference_cm))
+    """The plan's measurements back in the unit they were typed in."""
+    ni, pa, circ = as_taped(plan.measurements, unit)
     return TapedMeasurements(unit=unit, nasion_inion=ni, preauricular=pa, circumference=circ)
-
-
-def in_unit(distance_cm: float, unit: str) -> str:
-    """A mark's distance (to 0.1 cm) in the taped unit: whole mm, or inches to 0.1 in
-    (finer would claim more than the 0.1 cm it is converted from)."""
-    return f"{distance_cm * 10:.0f}" if unit == "mm" else f"{distance_cm / CM_PER_UNIT[unit]:.1f}"
 
 
 #: What separates pasted measurements: tabs (a spreadsheet row), line breaks (a column),
@@ -352,8 +343,6 @@ class MeasureScreen(Screen[None]):
         if self.plan is None:
             self.notify(self._no_sheet_reason(), severity="warning")
             return
-        from bedside.ui.export import plan_as_text
-
         self.app.copy_to_clipboard(plan_as_text(self.plan, self.taped))
         self.notify("marking sheet copied (if the terminal allows clipboard access)")
 

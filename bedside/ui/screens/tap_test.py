@@ -200,8 +200,8 @@ class TapTestScreen(Screen[None]):
         self.query_one("#tap-summary", Static).update(summary)
         gate = self.bedside.recorder
         if gate is not None:
-            gate.submit("record_tap_test", (tuple(self._results), problems, "app", self.timeout_s),
-                        self._logged)
+            results, timeout_s = tuple(self._results), self.timeout_s
+            gate.submit(lambda r: r.record_tap_test(results, problems, "app", timeout_s), self._logged)
 
     def _logged(self, ok: bool, text: str, status: Any) -> None:
         """Called on the log's thread: a failure is said on screen."""

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from rich.style import Style
 
+from bedside.checks.registry import headlines
 from bedside.checks.types import (
     NO_DATA_COLOUR,
     NO_DATA_SYMBOL,
@@ -70,21 +71,11 @@ def format_seconds(seconds: float | None) -> str:
     return f"{int(seconds // 60)} m {int(seconds % 60):02d} s"
 
 
-#: One headline value per check, in the order a technologist reads them:
-#: (check name, metric key, column header, scale for display); heads and scales from
-#: bedside.metric_labels, the one table of metric words.
+#: One headline value per check, in the order a technologist reads them (the checks'
+#: registry, bedside.checks.registry): (check name, metric key, column header, scale for
+#: display); heads and scales from bedside.metric_labels, the one table of metric words.
 HEADLINES: tuple[tuple[str, str, str, float], ...] = tuple(
-    (check, key, METRIC_LABELS[key].short, METRIC_LABELS[key].scale)
-    for check, key in (
-        ("line_noise", "mains_uv"),
-        ("flat", "ptp_uv"),
-        ("drift", "drift_uv_per_s"),
-        ("bridging", "bridge_corr"),
-        ("pops", "pops"),
-        ("clipping", "clip_fraction"),
-        ("muscle", "muscle_ratio"),
-        ("amplitude", "rms_uv"),
-    )
+    (check, key, METRIC_LABELS[key].short, METRIC_LABELS[key].scale) for check, key in headlines()
 )
 
 

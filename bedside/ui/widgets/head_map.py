@@ -11,7 +11,8 @@ names; "?" in grey when there is no live data. A bridge gives both electrodes th
 small letter tag (``a``, ``b`` … in the bridge's level colour, reversed), the same
 letter the findings line names — no line is drawn between them. Positions come in
 as (x, y) in [-1, 1] with the nose up (``bedside.placement.project_2d`` for named
-sites, ``project_geometry`` for a cap's own positions). Electrodes the caller could
+sites — the projection the HTML report's map uses too — ``project_geometry`` for a
+cap's own positions). Electrodes the caller could
 not place (no position, no 10-20/10-10 name) are listed on the map's bottom line,
 never silently left out.
 """

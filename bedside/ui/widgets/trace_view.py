@@ -17,7 +17,7 @@ from textual.css.query import NoMatches
 from textual.message import Message
 from textual.widgets import Static
 
-from bedside.ui.feed import DisplayBuffer
+from bedside.stream.ring import RingBuffer
 from bedside.ui.plots import (
     DERIVATION_LABEL,
     Derivation,
@@ -99,7 +99,7 @@ class TraceView(Horizontal):
             panes[1].update("")
 
     @work(thread=True, exclusive=True, group="trace", exit_on_error=False)
-    def request(self, buffer: DisplayBuffer, req: TraceRequest) -> None:
+    def request(self, buffer: RingBuffer, req: TraceRequest) -> None:
         """Draw in a worker thread and post the result back."""
         # The trace's seconds and at least 4 s for the spectrum, not the page's 10 s.
         n = int(round(max(req.trace_s, 4.0) * buffer.rate_hz))

@@ -34,9 +34,10 @@ from typing import Any
 
 import numpy as np
 
+from bedside.bench.simrun import run_scenario, scenario_channels
 from bedside.checks.engine import Engine
+from bedside.checks.registry import fault_checks
 from bedside.checks.settings import QualitySettings, load_quality
-from bedside.checks.simrun import run_scenario, scenario_channels
 from bedside.checks.types import QualityFrame
 from bedside.stream.types import ChannelInfo
 
@@ -312,16 +313,8 @@ faults:
   - {electrode: REF, kind: reference, start_s: 150, end_s: 180}
 """
 
-#: Which per-check verdict shows each simulated fault kind.
-KIND_CHECKS = {
-    "line_noise": ("line_noise",),
-    "flat": ("flat",),
-    "drift": ("drift", "amplitude"),
-    "bridge": ("bridging",),
-    "pop": ("pops",),
-    "clipping": ("clipping", "flat"),
-    "muscle": ("muscle",),
-}
+#: Which per-check verdict shows each simulated fault kind (each check's ``faults``).
+KIND_CHECKS = fault_checks()
 
 
 def latency_scenario_path(folder: Path) -> Path:
@@ -464,7 +457,7 @@ def soak_run(hours: float = 24.0, n_channels: int = 32, seed: int = 11) -> dict[
                                    ("a fault of the soak (invented)",) if fault_until[i] > sim_s else ())
                     for i, n in enumerate(names)
                 )
-                rec.on_frame(QualityFrame(now[0], now[0], chans, (), health, 4.0, {}))
+                rec.on_frame(QualityFrame(now[0], now[0], chans, (), health, 4.0))
                 if k and k % 1800 == 0:
                     rec.add_note(f"hour {k // 1800}: skin checked at the electrode sites (invented)")
                 t = time.perf_counter()

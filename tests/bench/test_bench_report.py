@@ -10,8 +10,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from bedside.bench.engine import TARGETS
 from bedside.checks.artifacts import _median_rows
-from bedside.checks.benchmark import TARGETS
 from bedside.commands.bench import as_table
 
 ISSUE_KEYS = ("engine_ms", "floor_ms", "naive_ms", "reference_ms", "engine/floor", "naive/engine",
@@ -55,7 +55,7 @@ def test_benchmark_data_is_a_clean_cap_to_the_checks() -> None:
     "carrying no EEG" would time the formatting of 256 reasons no clean cap costs.
     Also its strongest correlation between channels is in the range of real EEG
     (about 0.95 in both recordings of tests/data; PREP's criterion needs ≥ 0.4)."""
-    from bedside.checks.benchmark import _eeg_like, _grid_neighbours
+    from bedside.bench.engine import _eeg_like, _grid_neighbours
     from bedside.checks.engine import Engine
     from bedside.checks.settings import load_quality
     from bedside.stream.types import ChannelInfo
@@ -81,7 +81,7 @@ def test_soak_reports_what_the_long_term_issue_asks_for() -> None:
     the real recorder and journal: the keys, and what follows from the design — the log
     while open (base + journal) is larger than the one file it is folded into at close,
     both far under 50 MB a day. Timing is printed by the bench, never asserted here."""
-    from bedside.checks.benchmark import soak_run
+    from bedside.bench.engine import soak_run
 
     s = soak_run(hours=2.0, n_channels=8)
     assert {"simulated_h", "autosave_ms_first_h", "autosave_ms_last_h", "rss_growth_mb", "log_mb"} <= set(s)
