@@ -1,10 +1,10 @@
 """Benchmark (prints figures; not a test): applying one frame at 256 channels.
 
 Run: .venv/bin/python tests/ui/bench_watch_256.py
-Measures, headless at 100×40: the time to apply a frame to the channel table (only
-the changed cells are written; drawing them is left to the screen update, which
-``bedside bench`` times with the rest), to render the head map, and the whole frame
-handler.
+Measures, headless at 100×40: the time to apply a frame to the channel table (every
+row's cells compared with its last ones, the changed rows marked for drawing; drawing
+them is left to the screen update, which ``bedside bench`` times with the rest), to
+render the head map, and the whole frame handler.
 """
 
 from __future__ import annotations
@@ -87,7 +87,7 @@ async def main() -> None:
             t_map.append(t2 - t1)
             t_all.append(t3 - t2)
         await pilot.pause(0.1)
-    for label, xs in (("channel table, one frame (changed cells written)", t_table),
+    for label, xs in (("channel table, one frame (changed rows marked)", t_table),
                       ("head map render", t_map), ("whole frame handler", t_all)):
         print(f"{label:48s} median {1000 * statistics.median(xs):6.1f} ms  "
               f"max {1000 * max(xs):6.1f} ms  ({N} channels, {len(xs)} frames)")
