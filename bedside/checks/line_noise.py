@@ -53,31 +53,51 @@ def band_power(spec: Spectrum, bands: list[tuple[float, float]]) -> np.ndarray:
 
 def family_metrics(spec: Spectrum, f0: float, settings: QualitySettings) -> dict[str, np.ndarray]:
     """line_noise_db, mains_uv, mains_peak_db for mains frequency f0 (per channel)."""
+    return families(spec, (f0,), settings)[0]
+
+
+def families(spec: Spectrum, f0s: tuple[float, ...], settings: QualitySettings) -> list[dict[str, np.ndarray]]:
+    """family_metrics for each mains frequency in f0s, their bands summed in one pass
+    over the spectrum (one product with one band table)."""
     ln = settings.line_noise
     nyq = spec.nyquist
-    bands = mains_bands(f0, ln.bandwidth_hz, ln.harmonics, nyq)
     n_ch = spec.psd_uv2_per_hz.shape[1]
-    if not bands:
-        nan = np.full(n_ch, np.nan)
-        return {"line_noise_db": nan, "mains_uv": nan, "mains_peak_db": nan.copy()}
-    flanks = flank_bands(f0, ln.bandwidth_hz)
-    table: tuple[tuple[float, float], ...] = (*bands, settings.eeg_band_hz, *flanks)
-    p = spec.band_powers(table)  # (C, harmonics + 1 + 2)
-    nh = len(bands)
-    i0, i1 = band_index(len(spec.freqs_hz), spec.df_hz, table)
-    bins = i1 - i0
-    n_fund = max(int(bins[0]), 1)
-    n_flank = max(int(bins[nh + 1 :].sum()), 1)
-    p_mains = p[:, :nh].sum(axis=1)
-    p_fund = p[:, 0]
-    p_eeg = p[:, nh]
-    p_flank = p[:, nh + 1 :].sum(axis=1)
-    p_line = np.maximum(p_fund - p_flank * (n_fund / n_flank), 0.0)
-    return {
-        "line_noise_db": 10 * np.log10((p_mains + _TINY) / (p_eeg + _TINY)),
-        "mains_uv": np.sqrt(2.0 * p_line),
-        "mains_peak_db": 10 * np.log10((p_fund / n_fund + _TINY) / (p_flank / n_flank + _TINY)),
-    }
+    layout: list[tuple[int, int] | None] = []  # per f0: (first column, harmonics) or None
+    table: list[tuple[float, float]] = []
+    for f0 in f0s:
+        bands = mains_bands(f0, ln.bandwidth_hz, ln.harmonics, nyq)
+        if not bands:
+            layout.append(None)
+            continue
+        layout.append((len(table), len(bands)))
+        table.extend((*bands, settings.eeg_band_hz, *flank_bands(f0, ln.bandwidth_hz)))
+    if table:
+        bands_t = tuple(table)
+        p_all = spec.band_powers(bands_t)  # (C, all families' bands)
+        i0, i1 = band_index(len(spec.freqs_hz), spec.df_hz, bands_t)
+        bins_all = i1 - i0
+    out = []
+    for place in layout:
+        if place is None:
+            nan = np.full(n_ch, np.nan)
+            out.append({"line_noise_db": nan, "mains_uv": nan, "mains_peak_db": nan.copy()})
+            continue
+        first, nh = place
+        p = p_all[:, first : first + nh + 3]  # harmonics, the EEG band, two flanks
+        bins = bins_all[first : first + nh + 3]
+        n_fund = max(int(bins[0]), 1)
+        n_flank = max(int(bins[nh + 1 :].sum()), 1)
+        p_mains = p[:, :nh].sum(axis=1)
+        p_fund = p[:, 0]
+        p_eeg = p[:, nh]
+        p_flank = p[:, nh + 1 :].sum(axis=1)
+        p_line = np.maximum(p_fund - p_flank * (n_fund / n_flank), 0.0)
+        out.append({
+            "line_noise_db": 10 * np.log10((p_mains + _TINY) / (p_eeg + _TINY)),
+            "mains_uv": np.sqrt(2.0 * p_line),
+            "mains_peak_db": 10 * np.log10((p_fund / n_fund + _TINY) / (p_flank / n_flank + _TINY)),
+        })
+    return out
 
 
 def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) -> float | None:
@@ -88,8 +108,8 @@ def detect_mains(spec: Spectrum, settings: QualitySettings, mask: np.ndarray) ->
     summed = Spectrum(spec.freqs_hz, (spec.psd_uv2_per_hz @ mask.astype(float))[:, None],
                       spec.n_segments, spec.span, spec.nyquist)
     best, best_db = None, settings.line_noise.detect_prominence_db
-    for f0 in MAINS_CANDIDATES_HZ:
-        db = float(family_metrics(summed, f0, settings)["mains_peak_db"][0])
+    for f0, m in zip(MAINS_CANDIDATES_HZ, families(summed, MAINS_CANDIDATES_HZ, settings), strict=True):
+        db = float(m["mains_peak_db"][0])
         if np.isfinite(db) and db >= best_db:
             best, best_db = f0, db
     return best
@@ -103,8 +123,7 @@ def _metrics(spec: Spectrum, ctx: Context, settings: QualitySettings) -> tuple[d
         m = family_metrics(spec, ctx.mains_hz, settings)
         f0s = np.full(len(ctx.names), ctx.mains_hz)
     else:
-        m50 = family_metrics(spec, 50.0, settings)
-        m60 = family_metrics(spec, 60.0, settings)
+        m50, m60 = families(spec, (50.0, 60.0), settings)
         a50, a60 = m50["mains_uv"], m60["mains_uv"]
         use60 = (a60 > a50) | (np.isnan(a50) & ~np.isnan(a60))  # NaN counts as the lower
         m = {k: np.where(use60, m60[k], m50[k]) for k in m50}
