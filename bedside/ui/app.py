@@ -18,11 +18,11 @@ out (``live.py``, ``vigil.py``, ``host.py``).
 
 from __future__ import annotations
 
-import contextlib
 import gc
 import logging
 import math
 import time
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -500,10 +500,10 @@ class BedsideApp(App[int]):
         return f"channels: {preview.summary} — saved for this amplifier (source_id {source_id!r})"
 
     # --- frames --------------------------------------------------------------------
-    def _frame_recorder(self) -> tuple[Any, Any] | None:
-        """The log's on_frame and its lock (read on the monitor's thread)."""
-        gate = self.recorder
-        return (gate.recorder.on_frame, contextlib.nullcontext()) if gate is not None else None
+    def _frame_recorder(self) -> Callable[[QualityFrame], None] | None:
+        """The log's on_frame (read on the monitor's thread; the recorder locks itself)."""
+        worker = self.recorder
+        return worker.recorder.on_frame if worker is not None else None
 
     def on_frame_arrived(self, message: FrameArrived) -> None:
         if not self.live.is_current(message.generation):

@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Callable
-from contextlib import AbstractContextManager
 from typing import Any
 
 from textual.message import Message
@@ -66,15 +65,16 @@ class TeeSource(KeepRecent):
 class FrameFeed:
     """The monitor's ``on_frame``: log the frame (off the UI thread), then post it.
 
-    ``post`` is the app's thread-safe ``post_message``; ``record`` is the log's
-    ``on_frame`` (or None); ``generation`` tags every frame with its connection. A failing log write never stops the frames: it is
+    ``post`` is the app's thread-safe ``post_message``; ``recorder`` gives the log's
+    ``on_frame`` (or None; the recorder takes its own lock, so the monitor's thread calls
+    it directly); ``generation`` tags every frame with its connection. A failing log write never stops the frames: it is
     reported once per distinct message.
     """
 
     def __init__(
         self,
         post: Callable[[Message], Any],
-        recorder: Callable[[], tuple[Callable[[QualityFrame], None], AbstractContextManager[Any]] | None],
+        recorder: Callable[[], Callable[[QualityFrame], None] | None],
         generation: int | None = None,
     ) -> None:
         self._post = post
@@ -83,12 +83,10 @@ class FrameFeed:
         self._last_problem = ""
 
     def __call__(self, frame: QualityFrame) -> None:
-        target = self._recorder()
-        if target is not None:
-            record, lock = target
+        record = self._recorder()
+        if record is not None:
             try:
-                with lock:
-                    record(frame)
+                record(frame)
             except BedsideError as exc:
                 text = f"setup log: {exc}"
                 if text != self._last_problem:
