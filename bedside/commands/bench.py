@@ -179,11 +179,11 @@ def ui_frame(quick: bool, n_channels: int = UI_CHANNELS, size: tuple[int, int] =
 def measure(quick: bool) -> dict[str, Any]:
     import numpy as np
 
+    from bedside.bench.endurance import memory_run
     from bedside.bench.engine import (
         TARGETS,
         fault_latency,
         latency_scenario_path,
-        memory_run,
         speed_table,
         ward_share,
     )
@@ -289,7 +289,7 @@ def run(args: argparse.Namespace) -> int:
         raise BedsideError(f"--hours {args.hours:g}: a soak needs at least 2 simulated hours (a first and a last)")
     if os.environ.get(_CHILD_FLAG) == "1":
         if args.soak:
-            from bedside.bench.engine import soak_run
+            from bedside.bench.endurance import soak_run
 
             report = {"soak": soak_run(hours=args.hours), "targets": SOAK_TARGETS, "machine": machine()}
         else:

@@ -31,6 +31,10 @@ session on the same file. What a frame changes is decided by
 it under its lock. Threads: any thread may call the recording methods (one ``RLock``
 guards the log); saves run one at a time (the autosave thread, ``save_now``, ``close``).
 The app reaches the recorder through :class:`~bedside.record.worker.LogWorker`.
+
+Why about 470 lines: what is left here is the file's life (open or resume, save, rename
+with the subject ID, close) under the one lock; the pure parts (changes, files, resume,
+saving, recording, lock file, autosave) are their own modules already.
 """
 
 from __future__ import annotations

@@ -21,6 +21,9 @@ Threads (DEVELOPERS.md, "Thread map"):
 Every request takes the next generation; frames and events carry it, and the UI
 drops what an older request sends (:meth:`accept`, :meth:`is_current`).
 :meth:`close` may be called from any thread and waits for the worker.
+
+Why about 430 lines: the connection, its events and the one worker that changes it
+belong together (every transition is checked against the same generation).
 """
 
 from __future__ import annotations

@@ -81,7 +81,7 @@ def test_soak_reports_what_the_long_term_issue_asks_for() -> None:
     the real recorder and journal: the keys, and what follows from the design — the log
     while open (base + journal) is larger than the one file it is folded into at close,
     both far under 50 MB a day. Timing is printed by the bench, never asserted here."""
-    from bedside.bench.engine import soak_run
+    from bedside.bench.endurance import soak_run
 
     s = soak_run(hours=2.0, n_channels=8)
     assert {"simulated_h", "autosave_ms_first_h", "autosave_ms_last_h", "rss_growth_mb", "log_mb"} <= set(s)

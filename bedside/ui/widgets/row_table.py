@@ -14,6 +14,10 @@ of those rows, so a frame that changes a few cells draws a few lines.
 
 Only Textual's public API is used (``tests/ui/test_channel_table_render.py`` scans this
 module for private members).
+
+Why one module of about 500 lines: it is one widget (drawing, the row cache, cursor,
+hover, scrolling, keys and its messages share the same row state); split, each part
+would reach into the others' state.
 """
 
 from __future__ import annotations
