@@ -424,6 +424,7 @@ class BedsideApp(App[int]):
             self._forget_frames()
         self.connection = conn
         self.identity = conn.identity
+        self.vigil.watch(conn.identity, conn.channels)
         if conn.profile is not None:
             self._use_profile(conn.profile)
         if any(c.impedance_kohm is not None for c in conn.channels):

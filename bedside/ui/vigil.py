@@ -20,7 +20,7 @@ from bedside.checks.impedance import ImpedanceLimits, Verdict, check_entry, judg
 from bedside.checks.ready import Cues, ReadyGate, ReadyState
 from bedside.checks.types import QualityFrame
 from bedside.record.trends import AlertKeeper, SkinReminder
-from bedside.stream.types import ChannelInfo
+from bedside.stream.types import ChannelInfo, StreamIdentity
 from bedside.ui.progress import GoodTracker, Progress
 
 
@@ -55,17 +55,29 @@ class FrameVigil:
         self.connected_at: float | None = None
         #: Watch was greyed out for this stall already.
         self.shown_stalled = False
+        #: The stream (identity, channels) whose times to good the tracker holds.
+        self.watched: tuple[StreamIdentity, tuple[ChannelInfo, ...]] | None = None
 
     def forget(self, blocked: Mapping[str, str]) -> None:
         """A new connection (or channel set): the old verdicts are void; the gate starts
-        again, holding the electrodes whose impedance is over the limit (``blocked``)."""
-        self.tracker.reset()
+        again, holding the electrodes whose impedance is over the limit (``blocked``).
+        Times to good are kept until :meth:`watch` names another stream."""
         self.ready_gate, self.ready_state, self.cues = ReadyGate(self.ready_hold_s), None, Cues()
         self.alert_keeper = AlertKeeper(self.alert_keeper.after_s)
         self.ready_gate.set_blocked(blocked)
         self.latest, self.progress = None, None
         self.last_frame_at = None
         self.connected_at = time.monotonic()
+
+    def watch(self, identity: StreamIdentity, channels: Sequence[ChannelInfo]) -> None:
+        """The stream now connected. Another stream, or the same one with other channels,
+        starts the times to good again; the same stream picked again keeps them — the
+        setup log's rule for a new section (``record.recording.Recording.set_stream``),
+        so the app and the log give the same times."""
+        key = (identity, tuple(channels))
+        if self.watched is not None and self.watched != key:
+            self.tracker.reset()
+        self.watched = key
 
     def take(self, frame: QualityFrame) -> FrameNews:
         """A frame shown now; the gate runs on the frame's own clock."""

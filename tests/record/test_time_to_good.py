@@ -56,3 +56,43 @@ def test_the_log_and_the_app_agree_on_the_same_frames() -> None:
                 last[ch.name] = ch.level_key
     assert progress.time_to_good_s == {"Fp1": 8.25, "T7": 13.125, "O1": 0.0}
     assert SetupLog(timeline=timeline).time_to_good_s() == progress.time_to_good_s
+
+
+def test_picking_the_same_stream_again_keeps_the_times_in_the_app_and_the_log(tmp_path) -> None:
+    """Re-picking the stream being watched (same identity, same channels) continues the
+    setup: the log keeps its section, the app (FrameVigil) its times; another stream
+    starts both again."""
+    from dataclasses import replace
+
+    from record_factories import FakeClock, make_channels, make_identity
+
+    from bedside.record.session import SessionRecorder
+    from bedside.ui.vigil import FrameVigil
+
+    clock = FakeClock(T0)
+    ident, chans = make_identity(), make_channels()
+    vigil = FrameVigil(ready_hold_s=10.0, stale_after_s=5.0, alert_after_s=600.0, skin_check_s=28800.0)
+    with SessionRecorder.open(tmp_path / "log.yaml", subject_id="W3-017", clock=clock) as rec:
+        frames = [make_frame(T0 + 1.0, {"O1": Level.BAD}), make_frame(T0 + 7.5, {"O1": Level.GOOD})]
+        rec.set_stream(ident, chans)
+        vigil.watch(ident, chans)
+        for f in frames:
+            rec.on_frame(f)
+            vigil.take(f)
+        vigil.forget({})  # the technologist picks the same stream again
+        rec.set_stream(ident, chans)
+        vigil.watch(ident, chans)
+        again = make_frame(T0 + 20.0, {"O1": Level.GOOD})
+        rec.on_frame(again)
+        vigil.take(again)
+        assert vigil.progress is not None and vigil.progress.time_to_good_s == {"O1": 6.5}
+        assert rec.snapshot().time_to_good_s() == {"O1": 6.5}
+        other = replace(ident, source_id="wardb-bed5-amp-0002", name="WardB-Bed5-EEG")
+        vigil.forget({})
+        rec.set_stream(other, chans)
+        vigil.watch(other, chans)
+        first = make_frame(T0 + 30.0, {"O1": Level.GOOD})
+        rec.on_frame(first)
+        vigil.take(first)
+        assert vigil.progress is not None and vigil.progress.time_to_good_s == {"O1": 0.0}
+        assert rec.snapshot().time_to_good_s() == {"O1": 0.0}
