@@ -135,6 +135,7 @@ class BlockStats:
         # Work arrays, allocated once (fresh large arrays cost page faults every block).
         self._xc = np.zeros((block, c))
         self._steps = np.zeros((block, c))
+        self._jumps = np.zeros((block, c))
 
     @property
     def filled(self) -> int:
@@ -161,8 +162,16 @@ class BlockStats:
         # Jumps over ``lag`` samples (about 10 ms): a pop's edge, band-limited by the
         # analysis filter, spreads over a few samples; its change over the lag does not.
         lag = self.lag
-        ext = np.concatenate((self._hist, x), axis=0) if len(self._hist) else x
-        jumps = np.abs(ext[lag:] - ext[:-lag]) if ext.shape[0] > lag else np.zeros((1, x.shape[1]))
+        nb = x.shape[0]
+        if len(self._hist) == lag and nb > lag and nb == self._jumps.shape[0]:
+            # The usual block: the first ``lag`` jumps start in the previous block's tail.
+            jumps = self._jumps
+            np.subtract(x[:lag], self._hist, out=jumps[:lag])
+            np.subtract(x[lag:], x[:-lag], out=jumps[lag:])
+            np.abs(jumps, out=jumps)
+        else:
+            ext = np.concatenate((self._hist, x), axis=0) if len(self._hist) else x
+            jumps = np.abs(ext[lag:] - ext[:-lag]) if ext.shape[0] > lag else np.zeros((1, x.shape[1]))
         step_max = jumps.max(axis=0)
         half = jumps.shape[0] // 2
         step_med = np.partition(jumps, half, axis=0)[half]  # the block's median jump
@@ -302,11 +311,12 @@ class RawStats:
         extreme of the tail and x together); runs that began in the tail count only
         their samples inside x."""
         c = x.shape[1]
+        # Float data has no two consecutive samples alike: found without joining the tail.
+        if not (x[1:] == x[:-1]).any() and not (len(self._tail) and (x[0] == self._tail[-1]).any()):
+            return np.zeros(c)
         ext = np.concatenate((self._tail, x), axis=0) if len(self._tail) else x
         off = ext.shape[0] - x.shape[0]
         same = ext[1:] == ext[:-1]
-        if not same.any():  # float data: no two consecutive samples alike
-            return np.zeros(c)
         mx, mn = ext.max(axis=0), ext.min(axis=0)
         at_edge = (ext[1:] == mx) | (ext[1:] == mn)
         held = same & at_edge  # held[k] True: sample k+1 repeats sample k at an extreme
