@@ -148,6 +148,16 @@ def _median_ms(samples: list[float]) -> float:
     return float(np.median(samples) * 1e3)
 
 
+def _bench_engine(n_channels: int, rate_hz: float, settings: QualitySettings) -> tuple[Engine, int, int]:
+    """(engine over the benchmark grid E1…En, samples per update, updates that fill the window)."""
+    names = [f"E{i + 1}" for i in range(n_channels)]
+    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
+    engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
+    step = int(round(rate_hz / settings.update_hz))
+    warm = int(np.ceil((settings.window_s + 1.0) * settings.update_hz))
+    return engine, step, warm
+
+
 def speed_row(
     n_channels: int,
     rate_hz: float,
@@ -160,11 +170,7 @@ def speed_row(
     """One row of the speed table (see module docstring)."""
     settings = settings or load_quality()
     rng = np.random.default_rng(seed)
-    names = [f"E{i + 1}" for i in range(n_channels)]
-    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
-    engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
-    step = int(round(rate_hz / settings.update_hz))
-    warm = int(np.ceil((settings.window_s + 1.0) * settings.update_hz))
+    engine, step, warm = _bench_engine(n_channels, rate_hz, settings)
     data = _eeg_like(rng, (warm + updates) * step, n_channels, rate_hz)
     # Two gel bridges, so every method has something to find (MNE's estimate needs some).
     for a, b in ((0, 1), (2, 3)):
@@ -261,11 +267,7 @@ def engine_frames(n_channels: int = 256, rate_hz: float = 256.0, n_frames: int =
     off, mains on a few channels), so consecutive frames differ as they do live."""
     settings = settings or load_quality()
     rng = np.random.default_rng(seed)
-    names = [f"E{i + 1}" for i in range(n_channels)]
-    chans = [ChannelInfo(n, n, "EEG", "uV", 1.0, True) for n in names]
-    engine = Engine(settings, chans, rate_hz, neighbours=_grid_neighbours(names))
-    step = int(round(rate_hz / settings.update_hz))
-    warm = int(np.ceil((settings.window_s + 1.0) * settings.update_hz))
+    engine, step, warm = _bench_engine(n_channels, rate_hz, settings)
     n = (warm + n_frames) * step
     data = _eeg_like(rng, n, n_channels, rate_hz)
     t = np.arange(n) / rate_hz

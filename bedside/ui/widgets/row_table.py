@@ -165,12 +165,9 @@ class RowTable(ScrollView, can_focus=True):
     }
     """
 
-    class RowHighlighted(Message, namespace="data_table"):
-        """The cursor moved to another row (also when the first rows arrive).
-
-        Handled as ``on_data_table_row_highlighted`` and carrying the fields of
-        DataTable's message of that name (``data_table``, ``cursor_row``, ``row_key``),
-        so a screen written for a DataTable reads it unchanged."""
+    class RowMessage(Message):
+        """A row's message, with the fields of DataTable's row messages (``data_table``,
+        ``cursor_row``, ``row_key``), so a screen written for a DataTable reads it unchanged."""
 
         def __init__(self, data_table: RowTable, cursor_row: int, row_key: RowKey) -> None:
             self.data_table = data_table
@@ -182,18 +179,12 @@ class RowTable(ScrollView, can_focus=True):
         def control(self) -> RowTable:
             return self.data_table
 
-    class RowSelected(Message, namespace="data_table"):
+    class RowHighlighted(RowMessage, namespace="data_table"):
+        """The cursor moved to another row (also when the first rows arrive); handled as
+        ``on_data_table_row_highlighted``."""
+
+    class RowSelected(RowMessage, namespace="data_table"):
         """Enter on the cursor row, or a click on it (``on_data_table_row_selected``)."""
-
-        def __init__(self, data_table: RowTable, cursor_row: int, row_key: RowKey) -> None:
-            self.data_table = data_table
-            self.cursor_row = cursor_row
-            self.row_key = row_key
-            super().__init__()
-
-        @property
-        def control(self) -> RowTable:
-            return self.data_table
 
     def __init__(self, *, id: str | None = None, classes: str | None = None) -> None:
         super().__init__(id=id, classes=classes)
