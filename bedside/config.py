@@ -150,10 +150,11 @@ def yaml_problem(exc: yaml.YAMLError) -> str:
 
 
 def config_hash(*paths: Path | str) -> str:
-    """SHA-256 over the bytes of the given config files (for the setup log)."""
+    """SHA-256 over the bytes of the given config files (for the setup log), each read
+    through the one guarded read (a folder, a device or a huge file is a ConfigError)."""
     digest = hashlib.sha256()
     for p in paths:
-        digest.update(Path(p).read_bytes())
+        digest.update(read_guarded(p, SETTINGS_FILE))
     return digest.hexdigest()
 
 

@@ -82,3 +82,14 @@ def test_config_hash_changes_with_content(tmp_path: Path) -> None:
     h1 = config_hash(p)
     p.write_text("window_s: 3\n", encoding="utf-8")
     assert config_hash(p) != h1 and len(h1) == 64
+
+
+def test_config_hash_refuses_a_folder_or_a_missing_file_clearly(tmp_path: Path) -> None:
+    """The hash reads through the one guarded read: a folder or a missing file is a
+    ConfigError naming the path, never an OSError traceback (common practice)."""
+    from bedside.errors import ConfigError
+
+    with pytest.raises(ConfigError, match="a folder"):
+        config_hash(tmp_path)
+    with pytest.raises(ConfigError, match="file not found"):
+        config_hash(tmp_path / "absent.yaml")

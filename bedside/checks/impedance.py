@@ -6,7 +6,7 @@ Two sources give a value per electrode, in kΩ:
   app's Log view (kept in the setup log, :class:`bedside.record.log.ImpedanceEntry`);
 * **amplifier** — what the stream publishes: per-channel ``impedance`` in the LSL
   stream's metadata, ``desc/channels/channel/impedance``, in kΩ (the XDF EEG meta-data
-  convention; read by :func:`bedside.stream.reader.read_stream_metadata` into
+  convention; read by :func:`bedside.stream.metadata.read_stream_metadata` into
   ``ChannelInfo.impedance_kohm``). It is the value at the time the stream was opened.
 
 A typed value wins over the amplifier's for the same electrode: the technologist

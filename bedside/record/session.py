@@ -51,7 +51,7 @@ from types import TracebackType
 from typing import TYPE_CHECKING
 
 from bedside.config import config_hash
-from bedside.errors import InputError, LogSaveError, RecordError
+from bedside.errors import ConfigError, InputError, LogSaveError, RecordError
 from bedside.record import autosave
 from bedside.record.atomic import describe_os_error
 from bedside.record.autosave import AUTOSAVE_MAX_S, AUTOSAVE_MIN_S, Autosaver, write_rescue_copy
@@ -150,11 +150,8 @@ class SessionRecorder(Recording):
         paths = [Path(p) for p in config_paths]
         try:
             digest = config_hash(*paths) if paths else ""
-        except OSError as exc:
-            raise RecordError(
-                f"config file {exc.filename or '?'} cannot be read for the log's config hash "
-                f"({exc.strerror})"
-            ) from exc
+        except ConfigError as exc:  # the guarded read names the file and what it found
+            raise RecordError(f"a config file cannot be read for the log's config hash: {exc}") from exc
         if path.is_dir():
             raise RecordError(f"{path} is a folder; give a file name for the log, e.g. {path / 'W3-017.yaml'}")
         if long_term is None:

@@ -16,7 +16,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.css.query import NoMatches
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Header
+from textual.widgets import Footer, Header
 
 from bedside.checks.types import Level, QualityFrame
 from bedside.ui.host import HostedScreen
@@ -185,7 +185,7 @@ class WatchScreen(HostedScreen, Screen[None]):
             self.refresh_status()
 
     # --- interaction ------------------------------------------------------------
-    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+    def on_data_table_row_highlighted(self, event: ChannelTable.RowHighlighted) -> None:
         if event.data_table.id != "channel-table" or event.row_key.value is None:
             return
         self.selected = str(event.row_key.value)
