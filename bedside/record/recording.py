@@ -60,6 +60,13 @@ class Accepted(Protocol):
     def reason(self) -> str: ...
 
 
+class TapWords(Protocol):
+    """A problem a tap test found, in words (``checks.taptest.TapProblem``)."""
+
+    @property
+    def words(self) -> str: ...
+
+
 class TapOutcome(Protocol):
     """One electrode's result of a tap test (``checks.taptest.TapResult``)."""
 
@@ -231,7 +238,7 @@ class Recording:
             self._touch()
         self._save_soon()
 
-    def record_tap_test(self, results: Iterable[TapOutcome], problems: Iterable[object] = (), how: str = "",
+    def record_tap_test(self, results: Iterable[TapOutcome], problems: Iterable[TapWords | str] = (), how: str = "",
                         timeout_s: float = 0.0) -> None:
         """A guided tap test ended: ``results`` are objects with ``electrode``,
         ``outcome``, ``seen_on`` and ``reason`` (``checks.taptest.TapResult``),
@@ -244,7 +251,7 @@ class Recording:
         )
         if not checks:
             raise InputError("a tap test with no electrode walked has nothing to record")
-        words = tuple(str(getattr(p, "words", p)) for p in problems)
+        words = tuple(p if isinstance(p, str) else str(p.words) for p in problems)
         with self._lock:
             self._check_open()
             at = self._now()
