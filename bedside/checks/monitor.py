@@ -30,7 +30,8 @@ class Monitor:
 
     on_frame runs on the monitor's thread: hand the frame over (post a message),
     don't do slow work in it. ``latest`` is the newest frame; ``error`` the
-    BedsideError that stopped the loop (the stream became unusable), if any.
+    BedsideError that stopped the loop (the stream became unusable, or an internal
+    error, said in words), if any; its last frame is then 'no data' naming it.
     """
 
     def __init__(
@@ -118,4 +119,16 @@ class Monitor:
             self.error = exc
             log.error("monitoring stopped: %s", exc)
             frame = self.engine.no_data(f"no data: {exc}", None)
+            self._emit(frame)
+        except Exception as exc:  # a bug in the checks or the source: said, not a silent stall
+            log.exception("monitoring stopped on an internal error")
+            self.error = BedsideError(
+                f"the checks stopped on an internal error ({type(exc).__name__}: {exc}); "
+                "pick the stream again to restart them — the setup log is kept"
+            )
+            try:
+                frame = self.engine.no_data(f"no data: {self.error}", None)
+            except Exception:  # the engine itself is broken: there is no frame to give
+                log.exception("no 'no data' frame could be made")
+                return
             self._emit(frame)

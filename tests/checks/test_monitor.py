@@ -126,6 +126,26 @@ def test_source_error_stops_the_loop_with_a_no_data_frame() -> None:
     assert "went away" in frames[-1].channels[0].reasons[0]
 
 
+def test_an_internal_error_stops_the_loop_in_words_not_in_silence(caplog: pytest.LogCaptureFixture) -> None:
+    """A bug under the monitor (here the source raises a plain RuntimeError) ends the loop
+    with an error the app shows and a last 'no data' frame naming it — never a silent
+    stall (common practice: fail visibly)."""
+    source = ReplaySource(eeg_like(int(60 * RATE), len(TEN_TWENTY), RATE))
+    frames: list[QualityFrame] = []
+    mon = Monitor(source, Engine(load_quality(), source.channels, RATE), frames.append, update_hz=8.0)
+    with caplog.at_level("ERROR", logger="bedside"), mon:
+        time.sleep(0.3)
+        source.fail = RuntimeError("index out of range")
+        deadline = time.monotonic() + 2.0
+        while mon.running and time.monotonic() < deadline:
+            time.sleep(0.02)
+    assert not mon.running
+    assert mon.error is not None and "internal error (RuntimeError: index out of range)" in str(mon.error)
+    assert frames and all(c.level is None for c in frames[-1].channels)
+    assert "internal error" in frames[-1].channels[0].reasons[0]
+    assert "monitoring stopped on an internal error" in caplog.text
+
+
 def test_consumer_bug_does_not_stop_monitoring(caplog: pytest.LogCaptureFixture) -> None:
     source = ReplaySource(eeg_like(int(60 * RATE), len(TEN_TWENTY), RATE))
     calls: list[int] = []
