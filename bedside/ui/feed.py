@@ -40,7 +40,9 @@ class FrameArrived(Message):
         self.generation = generation
 
     def can_replace(self, message: Message) -> bool:
-        return isinstance(message, FrameArrived)
+        # Only a queued frame of the same connection: a late frame of a replaced one must
+        # never push out a newer connection's frame (the app would then drop both).
+        return isinstance(message, FrameArrived) and message.generation == self.generation
 
 
 class FeedProblem(Message):
