@@ -352,47 +352,6 @@ def screen_text(app: Any) -> str:
     return console.export_text()
 
 
-class PullLoop:
-    """A minimal monitor for tests until bedside.checks.monitor lands: pull, push, evaluate.
-
-    Same contract as the real Monitor: a thread that calls on_frame(QualityFrame) at
-    update_hz, reading ``source`` and feeding ``engine`` (Engine.push / Engine.evaluate).
-    """
-
-    def __init__(self, source: Any, engine: Any, on_frame: Callable[[QualityFrame], None],
-                 update_hz: float) -> None:
-        self.source, self.engine, self.on_frame, self.period = source, engine, on_frame, 1.0 / update_hz
-        self._stop = threading.Event()
-        self._thread = threading.Thread(target=self._run, daemon=True)
-
-    def start(self) -> None:
-        self._thread.start()
-
-    def stop(self) -> None:
-        self._stop.set()
-        self._thread.join(timeout=3)
-
-    def _run(self) -> None:
-        next_t = time.monotonic()
-        while not self._stop.is_set():
-            chunk = self.source.pull(0.05)
-            while chunk is not None:
-                self.engine.push(chunk.samples_uv, chunk.timestamps)
-                chunk = self.source.pull(0.0)
-            if time.monotonic() >= next_t:
-                self.on_frame(self.engine.evaluate(self.source.health()))
-                next_t += self.period
-
-
-def real_monitor_or_standin() -> Callable[..., Any]:
-    """bedside.checks.monitor.Monitor when it exists, else :class:`PullLoop`."""
-    try:
-        from bedside.checks.monitor import Monitor  # type: ignore[import-not-found]
-    except ImportError:
-        return PullLoop
-    return Monitor  # type: ignore[no-any-return]
-
-
 def confirm_open(app: Any) -> bool:
     """The channels screen is up with its rows (it is pushed before it is drawn)."""
     from textual.widgets import DataTable

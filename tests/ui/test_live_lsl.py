@@ -46,7 +46,7 @@ SPEED = 4.0
 
 
 def _services() -> Services:
-    return Services(make_monitor=si.real_monitor_or_standin())
+    return Services()  # the real monitor (bedside.checks.monitor) and everything else real
 
 
 async def test_fault_turns_bad_and_back_on_a_live_stream(tmp_path: Path) -> None:
