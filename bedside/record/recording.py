@@ -178,6 +178,15 @@ class Recording:
             self._log.impedances.append(ImpedanceEntry(self._now(), name, value, source))
             self._touch()
 
+    def typed_impedances(self) -> tuple[dict[str, float], float | None]:
+        """The impedances typed into this log (a resumed one holds the earlier session's):
+        the last per electrode in kΩ, and when the newest was typed (epoch seconds; None
+        when none was). The amplifier's are not here: the stream publishes them again."""
+        with self._lock:
+            typed = [e for e in self._log.impedances if e.source == "typed"]
+        latest = {e.electrode: e.kohm for e in typed}
+        return latest, (max(e.at for e in typed).timestamp() if typed else None)
+
     def set_profile(self, name: str, sha256: str) -> None:
         """The department profile judged with (its name and the SHA-256 of its file); a
         change of profile is an event."""

@@ -94,9 +94,14 @@ class MapPoints(Message):
 
 
 class LogOpened(Message):
-    def __init__(self, gate: LogWorker[Any] | None, error: str = "") -> None:
+    """The setup log opened (``gate``) or why not; ``typed``/``typed_at``: the impedances
+    typed into it before (a resumed log) and when the newest was."""
+
+    def __init__(self, gate: LogWorker[Any] | None, error: str = "",
+                 typed: dict[str, float] | None = None, typed_at: float | None = None) -> None:
         super().__init__()
         self.gate, self.error = gate, error
+        self.typed, self.typed_at = typed or {}, typed_at
 
 
 class ProfileReady(Message):
@@ -639,7 +644,8 @@ class BedsideApp(App[int]):
         except BedsideError as exc:
             self.post_message(LogOpened(None, str(exc)))
             return
-        self.post_message(LogOpened(LogWorker(recorder)))
+        typed, typed_at = recorder.typed_impedances()
+        self.post_message(LogOpened(LogWorker(recorder), typed=typed, typed_at=typed_at))
 
     def on_log_opened(self, message: LogOpened) -> None:
         if message.gate is None:
@@ -647,6 +653,8 @@ class BedsideApp(App[int]):
             self.notify(f"setup log not open: {message.error}", severity="error", timeout=10)
             return
         self.recorder = message.gate  # the Log view watches it: its status line and file name, now
+        if self.impedances.resume(message.typed, message.typed_at):
+            self._judge_impedances()  # the earlier session's typed values, judged as if typed now
         profile, plan, taped = self.profile, self.plan, self.taped
         if profile is not None:
             message.gate.submit(lambda r: r.set_profile(profile.name, profile.sha256), self._log_done("profile"))

@@ -121,6 +121,16 @@ class ImpedanceBook:
         self.at = time.time()
         return name, value
 
+    def resume(self, typed: Mapping[str, float], at: float | None) -> int:
+        """The values typed into a resumed log (the earlier session's), for electrodes not
+        typed again in this one; returns how many were taken. Their time counts for the
+        profile's re-check interval unless a newer value came since."""
+        taken = {n: v for n, v in typed.items() if n not in self.typed}
+        self.typed.update(taken)
+        if at is not None and taken and (self.at is None or at > self.at):
+            self.at = at
+        return len(taken)
+
     def judge(self, channels: Sequence[ChannelInfo], profile: Any) -> dict[str, Verdict]:
         """Typed values (they win) and the amplifier's, for the scalp electrodes of
         ``channels`` (all typed ones when there are none), against the profile's limit."""

@@ -66,3 +66,19 @@ def test_a_log_written_before_profiles_still_loads(tmp_path: Path, clock: FakeCl
     loaded = load_log(tmp_path / "old.yaml")
     assert loaded.profile is None
     assert [(e.electrode, e.kohm, e.source) for e in loaded.impedances] == [("Cz", 4.0, "typed")]
+
+
+def test_a_resumed_log_gives_back_its_typed_impedances(tmp_path: Path) -> None:
+    """The recorder hands the app what was typed before a restart (last per electrode,
+    and when the newest was typed); the amplifier's values are left to the stream."""
+    clock = FakeClock(1_796_000_000.0)
+    path = tmp_path / "W3-017.yaml"
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as rec:
+        rec.set_impedance("Cz", 12.0)
+        clock.advance(30.0)
+        rec.set_impedance("Cz", 6.5)
+        rec.set_impedance("O1", 9.0, source="amplifier")
+    with SessionRecorder.open(path, subject_id="W3-017", clock=clock) as again:
+        typed, at = again.typed_impedances()
+    assert typed == {"Cz": 6.5}
+    assert at == 1_796_000_030.0

@@ -196,6 +196,7 @@ class MemoryRecorder:
     subject_id: str = ""
     notes: list[str] = field(default_factory=list)
     impedances: dict[str, float] = field(default_factory=dict)
+    typed_at: float = 0.0  # when the impedances above were typed (a resumed log's)
     frames: int = 0
     saves: int = 0
     signed: str = ""
@@ -220,6 +221,9 @@ class MemoryRecorder:
 
     def set_impedance(self, electrode: str, kohm: float, source: str = "typed") -> None:
         self.impedances[electrode] = kohm
+
+    def typed_impedances(self) -> tuple[dict[str, float], float | None]:
+        return dict(self.impedances), (self.typed_at if self.impedances else None)
 
     def set_profile(self, name: str, sha256: str) -> None:
         self.profiles.append((name, sha256))

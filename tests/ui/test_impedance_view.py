@@ -129,3 +129,21 @@ async def test_the_amplifiers_values_and_the_picker(tmp_path: Path) -> None:
         app._profile_chosen("research-high-density")
         assert await _until(pilot, lambda: app.profile.name == "research-high-density")
         assert app.impedance_verdicts["O1"].level == "good"
+
+
+async def test_impedances_typed_into_a_resumed_log_are_judged_again(tmp_path: Path) -> None:
+    """A log resumed after a restart holds the earlier session's typed impedances: the app
+    takes them into its book and judges them against the profile (adult: 5 kΩ) as if
+    typed now; a value typed again in this session wins (issue 13's gap)."""
+    app, recorder = _app(tmp_path)
+    recorder.impedances.update({"Cz": 12.0, "O1": 3.0})  # typed in the earlier session
+    recorder.typed_at = 1_796_000_000.0
+    async with app.run_test(size=(100, 40)) as pilot:
+        assert await _until(pilot, lambda: app.recorder is not None and app.profile is not None)
+        assert await _until(pilot, lambda: app.typed_impedances == {"Cz": 12.0, "O1": 3.0})
+        assert await _until(pilot, lambda: "Cz" in app.impedance_verdicts)
+        assert app.impedance_verdicts["Cz"].level == "bad" and app.impedance_verdicts["O1"].level != "bad"
+        assert app.impedances.at == 1_796_000_000.0
+        await _type(pilot, app, "Cz", "4")
+        assert await _until(pilot, lambda: app.typed_impedances["Cz"] == 4.0)
+        assert app.impedance_verdicts["Cz"].level != "bad"
