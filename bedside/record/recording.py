@@ -42,6 +42,7 @@ from bedside.record.log import (
     shallow_copy,
     stamp,
 )
+from bedside.record.time_to_good import same_section
 
 if TYPE_CHECKING:
     from bedside.checks.settings import LongTermSettings
@@ -134,7 +135,7 @@ class Recording:
             self._check_open()
             old = self._log.stream
             record = StreamRecord(self._now(), identity, tuple(channels))
-            if old is not None and old.identity == identity and old.channels == record.channels:
+            if old is not None and same_section((old.identity, old.channels), identity, record.channels):
                 return
             if old is not None:
                 # Another stream: the old one's verdicts go under its own section, so the

@@ -2,7 +2,21 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
+
 from bedside.checks.types import NO_DATA_KEY
+
+if TYPE_CHECKING:
+    from bedside.stream.types import ChannelInfo, StreamIdentity
+
+
+def same_section(before: tuple[StreamIdentity, Sequence[ChannelInfo]] | None,
+                 identity: StreamIdentity, channels: Sequence[ChannelInfo]) -> bool:
+    """The stream connected now continues the setup ``before`` (the same stream with the
+    same channels): its times to good go on. Another stream, or other channels, starts a
+    new section. The one rule, read by the setup log and by the app."""
+    return before is not None and before[0] == identity and tuple(before[1]) == tuple(channels)
 
 
 class TimeToGood:

@@ -19,6 +19,7 @@ from typing import Any
 from bedside.checks.impedance import ImpedanceLimits, Verdict, check_entry, judge, merge
 from bedside.checks.ready import Cues, ReadyGate, ReadyState
 from bedside.checks.types import QualityFrame
+from bedside.record.time_to_good import same_section
 from bedside.record.trends import AlertKeeper, SkinReminder
 from bedside.stream.types import ChannelInfo, StreamIdentity
 from bedside.ui.progress import GoodTracker, Progress
@@ -72,12 +73,11 @@ class FrameVigil:
     def watch(self, identity: StreamIdentity, channels: Sequence[ChannelInfo]) -> None:
         """The stream now connected. Another stream, or the same one with other channels,
         starts the times to good again; the same stream picked again keeps them — the
-        setup log's rule for a new section (``record.recording.Recording.set_stream``),
-        so the app and the log give the same times."""
-        key = (identity, tuple(channels))
-        if self.watched is not None and self.watched != key:
+        setup log's rule for a new section (``record.time_to_good.same_section``, which
+        ``Recording.set_stream`` reads too), so the app and the log give the same times."""
+        if self.watched is not None and not same_section(self.watched, identity, channels):
             self.tracker.reset()
-        self.watched = key
+        self.watched = (identity, tuple(channels))
 
     def take(self, frame: QualityFrame) -> FrameNews:
         """A frame shown now; the gate runs on the frame's own clock."""
