@@ -130,12 +130,18 @@ async def test_the_page_from_watch_and_back() -> None:
         assert await _until(pilot, lambda: app.views["watch"].selected == "T8")
 
 
-async def test_256_channels_are_paged() -> None:
-    names = [f"E{i + 1}" for i in range(256)]
-    chans = tuple(ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in names)
-    frame = QualityFrame(1.0, 1.0, tuple(ChannelQuality(n, Level.GOOD, {}, (), True) for n in names),
+def _numbered_cap(n: int) -> tuple[list[str], tuple[ChannelInfo, ...], Any]:
+    """An app on a cap of n channels E1…En (no 10-20 names), one good frame shown."""
+    names = [f"E{i + 1}" for i in range(n)]
+    chans = tuple(ChannelInfo(c, c, "EEG", "microvolts", 1.0, True) for c in names)
+    frame = QualityFrame(1.0, 1.0, tuple(ChannelQuality(c, Level.GOOD, {}, (), True) for c in names),
                          (), si.health(), 4.0)
     app = make_app(AppConfig(discover=False), source=_Alpha(chans), services=si.services(frames=[frame]))
+    return names, chans, app
+
+
+async def test_256_channels_are_paged() -> None:
+    names, chans, app = _numbered_cap(256)
     async with app.run_test(size=(100, 40)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)
         await pilot.press("e")
@@ -154,11 +160,7 @@ async def test_256_channels_are_paged() -> None:
 
 
 async def test_at_80x24_the_page_scrolls() -> None:
-    names = [f"E{i + 1}" for i in range(40)]
-    chans = tuple(ChannelInfo(n, n, "EEG", "microvolts", 1.0, True) for n in names)
-    frame = QualityFrame(1.0, 1.0, tuple(ChannelQuality(n, Level.GOOD, {}, (), True) for n in names),
-                         (), si.health(), 4.0)
-    app = make_app(AppConfig(discover=False), source=_Alpha(chans), services=si.services(frames=[frame]))
+    names, chans, app = _numbered_cap(40)
     async with app.run_test(size=(80, 24)) as pilot:
         assert await _until(pilot, lambda: app.latest_frame is not None)
         await pilot.press("e")
